@@ -1,0 +1,116 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+#define G_LOG_DOMAIN "efflux-application"
+
+#include "config.h"
+
+#include <glib/gi18n.h>
+
+#include "efflux-application.h"
+#include "efflux-window.h"
+
+struct _EffluxApplication
+{
+  GtkApplication parent_instance;
+};
+
+G_DEFINE_FINAL_TYPE (EffluxApplication, efflux_application, GTK_TYPE_APPLICATION)
+
+char *
+efflux_application_find_demo (void)
+{
+  const char *candidates[] = {
+    EFFLUX_BUILD_SAMPLE_DIR "/demo.efflux",
+    EFFLUX_DATADIR "/sample-data/demo.efflux",
+  };
+
+  for (gsize i = 0; i < G_N_ELEMENTS (candidates); i++)
+    if (g_file_test (candidates[i], G_FILE_TEST_IS_REGULAR))
+      return g_strdup (candidates[i]);
+  return NULL;
+}
+
+static EffluxWindow *
+get_or_create_window (EffluxApplication *self)
+{
+  GtkWindow *window = gtk_application_get_active_window (GTK_APPLICATION (self));
+
+  if (window == NULL)
+    window = GTK_WINDOW (efflux_window_new (self));
+  return EFFLUX_WINDOW (window);
+}
+
+static void
+efflux_application_activate (GApplication *app)
+{
+  EffluxApplication *self = EFFLUX_APPLICATION (app);
+  EffluxWindow *window = get_or_create_window (self);
+  g_autofree char *demo = efflux_application_find_demo ();
+
+  if (demo != NULL)
+    {
+      g_autoptr(GFile) file = g_file_new_for_path (demo);
+      efflux_window_open (window, file);
+    }
+  gtk_window_present (GTK_WINDOW (window));
+}
+
+static void
+efflux_application_open (GApplication  *app,
+                         GFile        **files,
+                         int            n_files,
+                         const char    *hint)
+{
+  EffluxApplication *self = EFFLUX_APPLICATION (app);
+  EffluxWindow *window = get_or_create_window (self);
+
+  for (int i = 0; i < n_files; i++)
+    efflux_window_open (window, files[i]);
+  gtk_window_present (GTK_WINDOW (window));
+}
+
+static void
+quit_activated (GSimpleAction *action,
+                GVariant      *parameter,
+                gpointer       user_data)
+{
+  g_application_quit (G_APPLICATION (user_data));
+}
+
+static void
+efflux_application_startup (GApplication *app)
+{
+  static const GActionEntry entries[] = {
+    { .name = "quit", .activate = quit_activated },
+  };
+  const char *quit_accels[] = { "<Control>q", NULL };
+
+  G_APPLICATION_CLASS (efflux_application_parent_class)->startup (app);
+
+  g_action_map_add_action_entries (G_ACTION_MAP (app), entries, G_N_ELEMENTS (entries), app);
+  gtk_application_set_accels_for_action (GTK_APPLICATION (app), "app.quit", quit_accels);
+}
+
+static void
+efflux_application_class_init (EffluxApplicationClass *klass)
+{
+  GApplicationClass *app_class = G_APPLICATION_CLASS (klass);
+
+  app_class->activate = efflux_application_activate;
+  app_class->open = efflux_application_open;
+  app_class->startup = efflux_application_startup;
+}
+
+static void
+efflux_application_init (EffluxApplication *self)
+{
+}
+
+EffluxApplication *
+efflux_application_new (void)
+{
+  return g_object_new (EFFLUX_TYPE_APPLICATION,
+                       "application-id", APP_ID,
+                       "flags", G_APPLICATION_HANDLES_OPEN | G_APPLICATION_NON_UNIQUE,
+                       "resource-base-path", "/org/effluxproject/Efflux",
+                       NULL);
+}

@@ -1,0 +1,17 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+#pragma once
+
+#include <gtk/gtk.h>
+
+#include "efflux-application.h"
+
+G_BEGIN_DECLS
+
+#define EFFLUX_TYPE_WINDOW (efflux_window_get_type ())
+G_DECLARE_FINAL_TYPE (EffluxWindow, efflux_window, EFFLUX, WINDOW, GtkApplicationWindow)
+
+EffluxWindow *efflux_window_new  (EffluxApplication *application);
+void          efflux_window_open (EffluxWindow      *self,
+                                  GFile             *file);
+
+G_END_DECLS

@@ -1,0 +1,37 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+#pragma once
+
+#include <glib.h>
+
+G_BEGIN_DECLS
+
+#define EFFLUX_EXIT_OK     0
+#define EFFLUX_EXIT_INPUT  1   /* the input was refused */
+#define EFFLUX_EXIT_USAGE  2   /* wrong usage */
+
+/* Print "efflux-cli: error: MESSAGE" (one line) and return the exit status for the error:
+ * 2 for EFFLUX_ERROR_USAGE and GOptionError, 1 otherwise. Frees the error. */
+int  efflux_cli_fail  (GError *error);
+
+/* Print "efflux-cli: error: ..." for a usage problem and return 2. */
+int  efflux_cli_usage (const char *command,
+                       const char *format,
+                       ...) G_GNUC_PRINTF (2, 3);
+
+/* Parse a command's options; on failure prints the error and returns FALSE with *status set. */
+gboolean efflux_cli_parse (GOptionContext *context,
+                           int            *argc,
+                           char         ***argv,
+                           int            *status);
+
+/* Append a JSON string literal (quoted, escaped) to s. */
+void efflux_json_string (GString    *s,
+                         const char *text);
+/* Append a JSON number; NaN and infinities become null. */
+void efflux_json_number (GString *s,
+                         double   value);
+
+/* Commands: each gets argv with argv[0] = the command name. */
+int efflux_cmd_info    (int argc, char **argv);
+
+G_END_DECLS

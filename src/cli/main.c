@@ -1,0 +1,69 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+#include "config.h"
+
+#include <glib.h>
+#include <locale.h>
+#include <signal.h>
+#include <stdio.h>
+#include <string.h>
+
+#include "efflux-cli.h"
+
+typedef struct
+{
+  const char *name;
+  int       (*run) (int argc, char **argv);
+  const char *summary;
+} Command;
+
+static const Command commands[] = {
+  { "info", efflux_cmd_info, "describe a FITS cube: axes, velocity, units, beam, noise" },
+};
+
+static void
+print_help (FILE *out)
+{
+  fprintf (out,
+           "Usage: efflux-cli COMMAND [OPTION...]\n"
+           "\n"
+           "Measure protostellar outflows in spectral-line cubes, headless.\n"
+           "\n"
+           "Commands:\n");
+  for (gsize i = 0; i < G_N_ELEMENTS (commands); i++)
+    fprintf (out, "  %-10s %s\n", commands[i].name, commands[i].summary);
+  fprintf (out,
+           "\n"
+           "Every command accepts --help. Exit status: 0 success, 1 input refused, 2 wrong usage.\n");
+}
+
+int
+main (int    argc,
+      char **argv)
+{
+  setlocale (LC_ALL, "");
+  /* A closed pipe must give an error, never a death by signal. */
+  signal (SIGPIPE, SIG_IGN);
+  g_set_prgname ("efflux-cli");
+
+  if (argc < 2)
+    {
+      print_help (stderr);
+      return 2;
+    }
+  if (strcmp (argv[1], "--help") == 0 || strcmp (argv[1], "-h") == 0 || strcmp (argv[1], "help") == 0)
+    {
+      print_help (stdout);
+      return 0;
+    }
+  if (strcmp (argv[1], "--version") == 0)
+    {
+      printf ("efflux-cli %s\n", PACKAGE_VERSION);
+      return 0;
+    }
+  for (gsize i = 0; i < G_N_ELEMENTS (commands); i++)
+    if (strcmp (argv[1], commands[i].name) == 0)
+      return commands[i].run (argc - 1, argv + 1);
+
+  fprintf (stderr, "efflux-cli: error: unknown command '%s' (see 'efflux-cli --help')\n", argv[1]);
+  return 2;
+}
