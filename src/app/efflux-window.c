@@ -95,11 +95,13 @@ load_done (GObject      *object,
            GAsyncResult *result,
            gpointer      user_data)
 {
-  g_autoptr(EffluxWindow) self = EFFLUX_WINDOW (object);
+  g_autoptr(EffluxWindow) self = user_data;
   g_autoptr(GError) error = NULL;
   EffluxCube *cube;
 
   cube = g_task_propagate_pointer (G_TASK (result), &error);
+  if (g_task_get_cancellable (G_TASK (result)) == self->cancellable)
+    g_clear_object (&self->cancellable);
   gtk_widget_set_visible (GTK_WIDGET (self->progress), FALSE);
   gtk_widget_set_visible (GTK_WIDGET (self->cancel_button), FALSE);
   if (cube == NULL)
@@ -200,6 +202,20 @@ efflux_window_open (EffluxWindow *self,
         break;
       }
   }
+}
+
+gboolean
+efflux_window_is_loading (EffluxWindow *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_WINDOW (self), FALSE);
+  return self->cancellable != NULL;
+}
+
+const char *
+efflux_window_get_status (EffluxWindow *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_WINDOW (self), NULL);
+  return gtk_label_get_text (self->detail_label);
 }
 
 static void

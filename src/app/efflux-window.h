@@ -13,5 +13,9 @@ G_DECLARE_FINAL_TYPE (EffluxWindow, efflux_window, EFFLUX, WINDOW, GtkApplicatio
 EffluxWindow *efflux_window_new  (EffluxApplication *application);
 void          efflux_window_open (EffluxWindow      *self,
                                   GFile             *file);
+/* TRUE while a cube is being read in the background. */
+gboolean      efflux_window_is_loading (EffluxWindow *self);
+/* The last message shown about the open dossier or cube. */
+const char   *efflux_window_get_status (EffluxWindow *self);
 
 G_END_DECLS
