@@ -6,10 +6,21 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include <errno.h>
+#include <stdio.h>
+#include <sys/stat.h>
+
+#include <fitsio.h>
+#include <glib/gstdio.h>
 #include <wcslib/wcs.h>
+#include <wcslib/wcserr.h>
+#include <wcslib/wcsfix.h>
+#include <wcslib/wcshdr.h>
+#include <wcslib/wcsmath.h>
 
 #include "efflux-constants.h"
 #include "efflux-cube.h"
+#include "efflux-io.h"
 #include "efflux-sky.h"
 
 /* ------------------------------------------------------------------------------------------ */
@@ -331,4 +342,1158 @@ efflux_cube_estimate_noise (EffluxCube *cube)
           cube->rms[k0 + b] = (float) (1.4826 * median_in_place (v, n));
         }
     }
+}
+
+/* ------------------------------------------------------------------------------------------ */
+/* Reading FITS cubes                                                                          */
+
+#define MAX_AXES 8
+
+static void
+set_fits_error (GError     **error,
+                const char  *path,
+                int          status,
+                const char  *what)
+{
+  char text[FLEN_STATUS] = "";
+  char detail[FLEN_ERRMSG] = "";
+  char line[FLEN_ERRMSG];
+
+  fits_get_errstatus (status, text);
+  /* the first message on CFITSIO's stack is usually the most specific one */
+  if (fits_read_errmsg (line) != 0)
+    g_strlcpy (detail, line, sizeof detail);
+  fits_clear_errmsg ();
+  g_strstrip (detail);
+  g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: %s: %s%s%s", path, what, text,
+               detail[0] ? " (" : "", detail[0] ? detail : "");
+  if (detail[0])
+    {
+      /* close the parenthesis */
+      char *msg = g_strconcat ((*error)->message, ")", NULL);
+      g_free ((*error)->message);
+      (*error)->message = msg;
+    }
+}
+
+static void
+close_fits (fitsfile *f)
+{
+  int status = 0;
+
+  if (f != NULL)
+    fits_close_file (f, &status);
+}
+
+G_DEFINE_AUTOPTR_CLEANUP_FUNC (fitsfile, close_fits)
+
+static char *
+trimmed (const char *s)
+{
+  char *t = g_strdup (s ? s : "");
+
+  return g_strstrip (t);
+}
+
+static gboolean
+is_spectral_ctype (const char *ctype)
+{
+  static const char *const types[] = {
+    "FREQ", "VRAD", "VOPT", "VELO", "FELO", "WAVE", "ZOPT", "AWAV", "WAVN", "ENER", "BETA", "VELOCITY",
+  };
+
+  for (gsize i = 0; i < G_N_ELEMENTS (types); i++)
+    if (g_ascii_strncasecmp (ctype, types[i], 4) == 0)
+      return TRUE;
+  return FALSE;
+}
+
+/* Interpret BUNIT. *scale multiplies the values to reach Jy/beam (mJy/beam) or 1. */
+static EffluxBrightnessUnit
+parse_bunit (const char *bunit,
+             double     *scale)
+{
+  g_autofree char *low = g_ascii_strdown (bunit, -1);
+  GString *s = g_string_new (NULL);
+  g_autofree char *flat = NULL;
+  const char *p;
+
+  *scale = 1.0;
+  g_strstrip (low);
+  if (low[0] == '\0')
+    {
+      g_string_free (s, TRUE);
+      return EFFLUX_BUNIT_MISSING;
+    }
+  for (p = low; *p; p++)
+    if (*p != ' ' && *p != '.' && *p != '*' && *p != '_')
+      g_string_append_c (s, *p);
+  flat = g_string_free (s, FALSE);
+
+  /* K, Kelvin, K (Tmb), K (Ta*), K(TB) ... but not km/s */
+  if (strcmp (low, "k") == 0 || strcmp (flat, "kelvin") == 0 || g_str_has_prefix (flat, "k(") ||
+      g_str_has_prefix (low, "k ") || g_str_has_prefix (low, "k,") || g_str_has_prefix (flat, "kelvin("))
+    return EFFLUX_BUNIT_K;
+
+  {
+    const char *rest = flat;
+
+    if (g_str_has_prefix (rest, "mjy"))
+      {
+        *scale = 1e-3;
+        rest += 1;
+      }
+    else if (g_str_has_prefix (rest, "ujy") || g_str_has_prefix (rest, "µjy"))
+      {
+        *scale = 1e-6;
+        rest += g_str_has_prefix (rest, "ujy") ? 1 : strlen ("µ");
+      }
+    if (g_str_has_prefix (rest, "jy"))
+      {
+        rest += 2;
+        if (strcmp (rest, "/beam") == 0 || strcmp (rest, "/bm") == 0 || strcmp (rest, "beam-1") == 0 ||
+            strcmp (rest, "/beam)") == 0 || strcmp (rest, "beam^-1") == 0 || strcmp (rest, "/b") == 0 ||
+            strcmp (rest, "bm-1") == 0)
+          return EFFLUX_BUNIT_JY_BEAM;
+        if (rest[0] == '\0' || strcmp (rest, "/pixel") == 0 || strcmp (rest, "/pix") == 0 ||
+            strcmp (rest, "pixel-1") == 0 || strcmp (rest, "pix-1") == 0)
+          {
+            *scale = 1.0;
+            return EFFLUX_BUNIT_JY_PIXEL;
+          }
+      }
+  }
+  *scale = 1.0;
+  return EFFLUX_BUNIT_OTHER;
+}
+
+static int
+compare_double (gconstpointer a,
+                gconstpointer b)
+{
+  double x = *(const double *) a, y = *(const double *) b;
+
+  return (x > y) - (x < y);
+}
+
+static double
+median_double (const double *v,
+               gsize         n)
+{
+  g_autofree double *c = g_memdup2 (v, n * sizeof (double));
+
+  qsort (c, n, sizeof (double), compare_double);
+  return n % 2 ? c[n / 2] : 0.5 * (c[n / 2 - 1] + c[n / 2]);
+}
+
+/* Per-channel beams from a BEAMS binary table (BMAJ, BMIN, BPA, CHAN, POL). Returns FALSE with
+ * error set when the table exists but cannot be used; *found FALSE when there is none. */
+static gboolean
+read_beam_table (fitsfile    *f,
+                 const char  *path,
+                 gsize        nchan,
+                 int          pol,
+                 double      *bmaj,
+                 double      *bmin,
+                 double      *bpa,
+                 gboolean    *found,
+                 GError     **error)
+{
+  int status = 0, hdu_now = 0, ncols = 0;
+  long nrows = 0;
+  static const char *const names[] = { "BMAJ", "BMIN", "BPA", "CHAN", "POL" };
+  int col[5];
+  double to_arcsec[3] = { 1.0, 1.0, 1.0 };
+  g_autofree gboolean *seen = g_new0 (gboolean, nchan);
+
+  *found = FALSE;
+  fits_get_hdu_num (f, &hdu_now);
+  if (fits_movnam_hdu (f, BINARY_TBL, (char *) "BEAMS", 0, &status) != 0)
+    {
+      status = 0;
+      fits_clear_errmsg ();
+      fits_movabs_hdu (f, hdu_now, NULL, &status);
+      return TRUE;
+    }
+  *found = TRUE;
+  fits_get_num_rows (f, &nrows, &status);
+  fits_get_num_cols (f, &ncols, &status);
+  for (int i = 0; i < 5; i++)
+    {
+      if (fits_get_colnum (f, CASEINSEN, (char *) names[i], &col[i], &status) != 0)
+        {
+          fits_clear_errmsg ();
+          g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                       "%s: BEAMS table has no %s column", path, names[i]);
+          return FALSE;
+        }
+      if (i < 3)
+        {
+          char key[FLEN_KEYWORD], unit[FLEN_VALUE] = "";
+          int st = 0;
+
+          g_snprintf (key, sizeof key, "TUNIT%d", col[i]);
+          if (fits_read_key (f, TSTRING, key, unit, NULL, &st) == 0)
+            {
+              g_autofree char *u = g_ascii_strdown (unit, -1);
+
+              g_strstrip (u);
+              if (i == 2)
+                to_arcsec[i] = (g_str_has_prefix (u, "rad")) ? 180.0 / G_PI : 1.0;  /* BPA in deg */
+              else if (g_str_has_prefix (u, "deg"))
+                to_arcsec[i] = 3600.0;
+              else if (g_str_has_prefix (u, "arcmin"))
+                to_arcsec[i] = 60.0;
+              else if (g_str_has_prefix (u, "rad"))
+                to_arcsec[i] = 180.0 / G_PI * 3600.0;
+              else if (u[0] != '\0' && !g_str_has_prefix (u, "arcsec"))
+                {
+                  g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                               "%s: BEAMS table %s = '%s': unknown unit for %s", path, key, unit, names[i]);
+                  return FALSE;
+                }
+            }
+          fits_clear_errmsg ();
+        }
+    }
+  for (long r = 1; r <= nrows && status == 0; r++)
+    {
+      double v[3];
+      long chan = -1, p = -1;
+      int anynul = 0;
+
+      for (int i = 0; i < 3; i++)
+        fits_read_col (f, TDOUBLE, col[i], r, 1, 1, NULL, &v[i], &anynul, &status);
+      fits_read_col (f, TLONG, col[3], r, 1, 1, NULL, &chan, &anynul, &status);
+      fits_read_col (f, TLONG, col[4], r, 1, 1, NULL, &p, &anynul, &status);
+      if (status != 0)
+        break;
+      if (p != pol || chan < 0 || (gsize) chan >= nchan)
+        continue;
+      bmaj[chan] = v[0] * to_arcsec[0];
+      bmin[chan] = v[1] * to_arcsec[1];
+      bpa[chan] = v[2] * to_arcsec[2];
+      seen[chan] = TRUE;
+    }
+  if (status != 0)
+    {
+      set_fits_error (error, path, status, "BEAMS table cannot be read");
+      return FALSE;
+    }
+  for (gsize k = 0; k < nchan; k++)
+    if (!seen[k] || !(bmaj[k] > 0.0) || !(bmin[k] > 0.0))
+      {
+        g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                     "%s: BEAMS table gives no usable beam for CHAN = %" G_GSIZE_FORMAT " (POL = %d)",
+                     path, k, pol);
+        return FALSE;
+      }
+  fits_movabs_hdu (f, hdu_now, NULL, &status);
+  return TRUE;
+}
+
+typedef struct
+{
+  gsize n;       /* length of this axis in the chunk */
+  gsize s_out;   /* stride in the output array */
+  gsize s_in;    /* stride in the chunk */
+} Loop;
+
+/* Copy a chunk of file data (three axes, file order) into the spectral-contiguous output. The
+ * loops run from the largest output stride to the smallest, so the innermost loop writes
+ * consecutive channels and the reads walk a few streams at once. */
+static void
+transpose_chunk (const float *in,
+                 float       *out,
+                 Loop         loops[3])
+{
+  Loop l[3];
+
+  memcpy (l, loops, sizeof l);
+  /* sort by output stride, descending */
+  for (int a = 0; a < 3; a++)
+    for (int b = a + 1; b < 3; b++)
+      if (l[b].s_out > l[a].s_out)
+        {
+          Loop t = l[a];
+          l[a] = l[b];
+          l[b] = t;
+        }
+  if (l[2].s_out == 1 && l[2].s_in == 1)
+    {
+      for (gsize i = 0; i < l[0].n; i++)
+        for (gsize j = 0; j < l[1].n; j++)
+          memcpy (out + i * l[0].s_out + j * l[1].s_out, in + i * l[0].s_in + j * l[1].s_in,
+                  l[2].n * sizeof (float));
+      return;
+    }
+  for (gsize i = 0; i < l[0].n; i++)
+    for (gsize j = 0; j < l[1].n; j++)
+      {
+        float *o = out + i * l[0].s_out + j * l[1].s_out;
+        const float *p = in + i * l[0].s_in + j * l[1].s_in;
+        gsize s = l[2].s_in;
+
+        for (gsize k = 0; k < l[2].n; k++)
+          o[k * l[2].s_out] = p[k * s];
+      }
+}
+
+static char *
+format_gib (guint64 bytes)
+{
+  return g_strdup_printf ("%.1f GiB", (double) bytes / (1024.0 * 1024.0 * 1024.0));
+}
+
+EffluxCube *
+efflux_cube_load (const char                  *path,
+                  const EffluxCubeLoadOptions *options,
+                  GCancellable                *cancellable,
+                  EffluxProgressFunc           progress,
+                  gpointer                     progress_data,
+                  GError                     **error)
+{
+  g_autoptr(EffluxCube) cube = NULL;
+  g_autoptr(fitsfile) f = NULL;
+  GStatBuf st;
+  int status = 0, nhdu = 0, hdu = 0, naxis = 0, bitpix = 0, hdutype = 0;
+  LONGLONG naxes[MAX_AXES] = { 0 };
+  gboolean gz = FALSE, tile_compressed = FALSE;
+  char *header = NULL;
+  int nkeys = 0, nreject = 0, nwcs = 0;
+  struct wcsprm *wcsarr = NULL, *wcs = NULL;
+  char orig_ctype[MAX_AXES][72];
+  int ispec = -1, ilng, ilat;
+  int want_hdu = options ? options->hdu : 0;
+  gboolean ok = FALSE;
+  gsize nx, ny, nchan, nvox, bytes;
+  g_autofree double *world_spec = NULL;
+  g_autofree double *nu_sky = NULL;
+  long stokes_plane[MAX_AXES];
+  int pol_index = 0;
+
+  wcserr_enable (1);
+
+  /* --- the file itself ------------------------------------------------------------------- */
+  if (g_stat (path, &st) != 0)
+    {
+      int e = errno;
+      g_set_error (error, EFFLUX_ERROR, e == ENOENT ? EFFLUX_ERROR_INPUT : EFFLUX_ERROR_IO,
+                   "%s: cannot open: %s", path, g_strerror (e));
+      return NULL;
+    }
+  if (!S_ISREG (st.st_mode))
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: not a regular file", path);
+      return NULL;
+    }
+  if (st.st_size == 0)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                   "%s: empty file (0 bytes): not a FITS file (no SIMPLE card)", path);
+      return NULL;
+    }
+  {
+    char head[10] = { 0 };
+    FILE *fp = fopen (path, "rb");
+    size_t got;
+
+    if (fp == NULL)
+      {
+        int e = errno;
+        g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_IO, "%s: cannot open: %s", path, g_strerror (e));
+        return NULL;
+      }
+    got = fread (head, 1, sizeof head, fp);
+    fclose (fp);
+    if (got >= 2 && (unsigned char) head[0] == 0x1f && (unsigned char) head[1] == 0x8b)
+      gz = TRUE;
+    else if (got < 9 || memcmp (head, "SIMPLE  =", 9) != 0)
+      {
+        g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                     "%s: not a FITS file (it does not begin with the SIMPLE card)", path);
+        return NULL;
+      }
+  }
+
+  if (fits_open_diskfile (&f, path, READONLY, &status) != 0)
+    {
+      f = NULL;
+      set_fits_error (error, path, status, "not a readable FITS file");
+      return NULL;
+    }
+
+  /* --- choose the HDU -------------------------------------------------------------------- */
+  fits_get_num_hdus (f, &nhdu, &status);
+  if (status != 0)
+    {
+      set_fits_error (error, path, status, "not a readable FITS file");
+      return NULL;
+    }
+  for (int h = 1; h <= nhdu; h++)
+    {
+      int nax = 0;
+
+      if (want_hdu > 0 && h != want_hdu)
+        continue;
+      if (fits_movabs_hdu (f, h, &hdutype, &status) != 0)
+        {
+          set_fits_error (error, path, status, "cannot read the HDU list");
+          return NULL;
+        }
+      if (hdutype != IMAGE_HDU)
+        continue;
+      fits_get_img_dim (f, &nax, &status);
+      if (status == 0 && nax >= 3)
+        {
+          hdu = h;
+          naxis = nax;
+          break;
+        }
+      if (want_hdu > 0)
+        {
+          g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                       "%s: HDU %d: NAXIS = %d: not a cube (three axes or more needed)", path, h, nax);
+          return NULL;
+        }
+    }
+  if (want_hdu > nhdu)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: HDU %d: the file has only %d HDUs",
+                   path, want_hdu, nhdu);
+      return NULL;
+    }
+  if (hdu == 0)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                   "%s: NAXIS: no image HDU with three axes or more (the primary HDU and %d extension%s)",
+                   path, nhdu - 1, nhdu - 1 == 1 ? "" : "s");
+      return NULL;
+    }
+  if (naxis > MAX_AXES)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: NAXIS = %d: more than %d axes", path,
+                   naxis, MAX_AXES);
+      return NULL;
+    }
+  fits_get_img_type (f, &bitpix, &status);
+  fits_get_img_sizell (f, naxis, naxes, &status);
+  tile_compressed = fits_is_compressed_image (f, &status);
+  if (status != 0)
+    {
+      set_fits_error (error, path, status, "cannot read the image header");
+      return NULL;
+    }
+
+  /* --- sizes: check before anything is allocated ----------------------------------------- */
+  {
+    guint64 total = 1;
+
+    for (int i = 0; i < naxis; i++)
+      {
+        if (naxes[i] <= 0)
+          {
+            g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: NAXIS%d = %lld: an axis with no pixels",
+                         path, i + 1, (long long) naxes[i]);
+            return NULL;
+          }
+        if ((guint64) naxes[i] > G_MAXUINT64 / total)
+          {
+            g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                         "%s: NAXIS%d = %lld: the data size overflows", path, i + 1, (long long) naxes[i]);
+            return NULL;
+          }
+        total *= (guint64) naxes[i];
+      }
+    if (!gz && !tile_compressed)
+      {
+        LONGLONG headstart = 0, datastart = 0, dataend = 0;
+        guint64 nbytes = (guint64) (bitpix < 0 ? -bitpix : bitpix) / 8;
+
+        fits_get_hduaddrll (f, &headstart, &datastart, &dataend, &status);
+        if (status == 0 && (total > G_MAXUINT64 / nbytes ||
+                            (guint64) datastart + total * nbytes > (guint64) st.st_size))
+          {
+            GString *axes = g_string_new (NULL);
+            GString *vals = g_string_new (NULL);
+            guint64 have = (guint64) st.st_size > (guint64) datastart ? (guint64) st.st_size - (guint64) datastart : 0;
+
+            for (int i = 0; i < naxis; i++)
+              {
+                g_string_append_printf (axes, "%sNAXIS%d", i ? " x " : "", i + 1);
+                g_string_append_printf (vals, "%s%lld", i ? " x " : "", (long long) naxes[i]);
+              }
+            g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                         "%s: %s = %s (BITPIX = %d) claims %" G_GUINT64_FORMAT " bytes of data but the file "
+                         "holds only %" G_GUINT64_FORMAT " after the header: truncated or wrong header",
+                         path, axes->str, vals->str, bitpix,
+                         total <= G_MAXUINT64 / nbytes ? total * nbytes : G_MAXUINT64, have);
+            g_string_free (axes, TRUE);
+            g_string_free (vals, TRUE);
+            return NULL;
+          }
+      }
+  }
+
+  /* --- WCS ------------------------------------------------------------------------------- */
+  if (tile_compressed)
+    fits_convert_hdr2str (f, 1, NULL, 0, &header, &nkeys, &status);
+  else
+    fits_hdr2str (f, 1, NULL, 0, &header, &nkeys, &status);
+  if (status != 0)
+    {
+      set_fits_error (error, path, status, "cannot read the header");
+      return NULL;
+    }
+  if (wcspih (header, nkeys, WCSHDR_all, 0, &nreject, &nwcs, &wcsarr) != 0 || nwcs == 0)
+    {
+      int st2 = 0;
+      fits_free_memory (header, &st2);
+      if (wcsarr != NULL)
+        wcsvfree (&nwcs, &wcsarr);
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                   "%s: CTYPE1..CTYPE%d: the header has no usable world coordinates", path, naxis);
+      return NULL;
+    }
+  {
+    int st2 = 0;
+    fits_free_memory (header, &st2);
+  }
+  wcs = &wcsarr[0];
+  for (int i = 0; i < nwcs; i++)
+    if (wcsarr[i].alt[0] == ' ' || wcsarr[i].alt[0] == '\0')
+      {
+        wcs = &wcsarr[i];
+        break;
+      }
+
+  cube = g_new0 (EffluxCube, 1);
+  cube->notes = g_ptr_array_new_with_free_func (g_free);
+  cube->path = g_strdup (path);
+  cube->hdu = hdu;
+  if (hdu > 1)
+    efflux_cube_add_note (cube, "cube read from HDU %d (the first image extension with three axes or more)", hdu);
+
+  if (wcs->naxis != naxis)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                   "%s: WCSAXES = %d differs from NAXIS = %d", path, wcs->naxis, naxis);
+      goto out;
+    }
+
+  /* the spectral axis and its step, before wcsfix (cdfix would turn an all-zero CD row into 1) */
+  for (int i = 0; i < naxis; i++)
+    {
+      g_autofree char *t = trimmed (wcs->ctype[i]);
+      g_strlcpy (orig_ctype[i], t, sizeof orig_ctype[i]);
+      if (ispec < 0 && is_spectral_ctype (t))
+        ispec = i;
+    }
+  if (ispec < 0)
+    {
+      GString *list = g_string_new (NULL);
+
+      for (int i = 0; i < naxis; i++)
+        g_string_append_printf (list, "%s'%s'", i ? ", " : "", orig_ctype[i]);
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                   "%s: CTYPE1..CTYPE%d = %s: no spectral axis (FREQ, VRAD, VOPT, VELO, FELO, WAVE, ZOPT)",
+                   path, naxis, list->str);
+      g_string_free (list, TRUE);
+      goto out;
+    }
+  if ((wcs->altlin & 2) && !(wcs->altlin & 1))
+    {
+      gboolean zero = TRUE;
+
+      for (int j = 0; j < naxis; j++)
+        if (wcs->cd[ispec * naxis + j] != 0.0)
+          zero = FALSE;
+      if (zero)
+        {
+          g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                       "%s: CD%d_%d = 0: the spectral axis has no channel step", path, ispec + 1, ispec + 1);
+          goto out;
+        }
+    }
+  else if (wcs->cdelt[ispec] == 0.0)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                   "%s: CDELT%d = 0: the spectral axis has no channel step", path, ispec + 1);
+      goto out;
+    }
+
+  /* wcslib's header fixes, each reported */
+  {
+    static const char *const fixname[NWCSFIX] = {
+      "cdfix", "datfix", "obsfix", "unitfix", "spcfix", "celfix", "cylfix",
+    };
+    int fixstat[NWCSFIX];
+    struct wcserr info[NWCSFIX];
+    int inaxes[MAX_AXES];
+
+    memset (info, 0, sizeof info);
+    for (int i = 0; i < naxis; i++)
+      inaxes[i] = naxes[i] > G_MAXINT ? G_MAXINT : (int) naxes[i];
+    wcsfixi (0, inaxes, wcs, fixstat, info);
+    for (int i = 0; i < NWCSFIX; i++)
+      {
+        if (info[i].msg != NULL)
+          {
+            if (fixstat[i] == FIXERR_SUCCESS && info[i].msg[0])
+              efflux_cube_add_note (cube, "header fixed by wcslib %s: %s", fixname[i], info[i].msg);
+            else if (fixstat[i] > 0 && info[i].msg[0])
+              efflux_cube_add_note (cube, "wcslib %s could not fix the header: %s", fixname[i], info[i].msg);
+            free (info[i].msg);
+          }
+        else if (fixstat[i] == FIXERR_SUCCESS)
+          efflux_cube_add_note (cube, "header fixed by wcslib %s", fixname[i]);
+      }
+  }
+  if (wcsset (wcs) != 0)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: CTYPE/CRVAL/CDELT: the WCS cannot be used: %s",
+                   path, wcs->err && wcs->err->msg ? wcs->err->msg : "wcslib refused it");
+      goto out;
+    }
+  ilng = wcs->lng;
+  ilat = wcs->lat;
+  if (wcs->spec >= 0)
+    ispec = wcs->spec;
+  if (ilng < 0 || ilat < 0)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                   "%s: CTYPE1..CTYPE%d: no pair of celestial axes (RA/DEC or GLON/GLAT)", path, naxis);
+      goto out;
+    }
+
+  /* extra axes: degenerate, or STOKES (first plane) */
+  for (int i = 0; i < naxis; i++)
+    {
+      stokes_plane[i] = 1;
+      if (i == ilng || i == ilat || i == ispec || naxes[i] == 1)
+        continue;
+      if (g_ascii_strncasecmp (orig_ctype[i], "STOKES", 6) == 0)
+        {
+          double pix[MAX_AXES], img[MAX_AXES], w[MAX_AXES], phi, theta;
+          int s = 0;
+
+          for (int j = 0; j < naxis; j++)
+            pix[j] = wcs->crpix[j];
+          pix[i] = 1.0;
+          wcsp2s (wcs, 1, naxis, pix, img, &phi, &theta, w, &s);
+          pol_index = 0;
+          efflux_cube_add_note (cube, "NAXIS%d = %lld STOKES planes: the first plane (STOKES = %g) was read",
+                                i + 1, (long long) naxes[i], s == 0 ? w[i] : 1.0);
+          continue;
+        }
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                   "%s: NAXIS%d = %lld: an extra axis (CTYPE%d = '%s') longer than 1 that is not STOKES",
+                   path, i + 1, (long long) naxes[i], i + 1, orig_ctype[i]);
+      goto out;
+    }
+
+  nx = (gsize) naxes[ilng];
+  ny = (gsize) naxes[ilat];
+  nchan = (gsize) naxes[ispec];
+  cube->nx = nx;
+  cube->ny = ny;
+  cube->nchan = nchan;
+  if (!g_size_checked_mul (&nvox, nx, ny) || !g_size_checked_mul (&nvox, nvox, nchan) ||
+      !g_size_checked_mul (&bytes, nvox, sizeof (float)))
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: NAXIS%d x NAXIS%d x NAXIS%d overflows",
+                   path, ilng + 1, ilat + 1, ispec + 1);
+      goto out;
+    }
+
+  /* --- sky ------------------------------------------------------------------------------- */
+  {
+    g_autofree char *lngtyp = trimmed (wcs->lngtyp);
+    g_autofree char *radesys = trimmed (wcs->radesys);
+    int axes[2] = { ilng + 1, ilat + 1 };
+    int nsub = 2;
+
+    if (strcmp (lngtyp, "RA") == 0)
+      {
+        gboolean have_eq = !undefined (wcs->equinox) && wcs->equinox != 0.0;
+
+        if (radesys[0] == '\0')
+          {
+            if (!have_eq)
+              {
+                cube->frame = EFFLUX_SKY_ICRS;
+                efflux_cube_add_note (cube, "no RADESYS and no EQUINOX: ICRS assumed (FITS default)");
+              }
+            else if (wcs->equinox < 1984.0)
+              {
+                cube->frame = EFFLUX_SKY_FK4;
+                efflux_cube_add_note (cube, "no RADESYS, EQUINOX = %g: FK4 assumed (FITS default)", wcs->equinox);
+              }
+            else
+              {
+                cube->frame = EFFLUX_SKY_FK5;
+                efflux_cube_add_note (cube, "no RADESYS, EQUINOX = %g: FK5 assumed (FITS default)", wcs->equinox);
+              }
+          }
+        else if (strcmp (radesys, "ICRS") == 0)
+          cube->frame = EFFLUX_SKY_ICRS;
+        else if (strcmp (radesys, "FK5") == 0)
+          cube->frame = EFFLUX_SKY_FK5;
+        else if (strcmp (radesys, "FK4") == 0)
+          cube->frame = EFFLUX_SKY_FK4;
+        else
+          {
+            g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                         "%s: RADESYS = '%s': only ICRS, FK5 and FK4 equatorial frames are read", path, radesys);
+            goto out;
+          }
+        if (cube->frame == EFFLUX_SKY_FK5)
+          cube->equinox = have_eq ? wcs->equinox : 2000.0;
+        else if (cube->frame == EFFLUX_SKY_FK4)
+          cube->equinox = have_eq ? wcs->equinox : 1950.0;
+        else
+          cube->equinox = 2000.0;
+        if (!efflux_sky_frame_supported (cube->frame, cube->equinox))
+          {
+            g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                         "%s: EQUINOX = %g: %s positions are read at equinox %s only", path, cube->equinox,
+                         efflux_sky_frame_name (cube->frame), cube->frame == EFFLUX_SKY_FK5 ? "2000" : "1800 to 2100");
+            goto out;
+          }
+        if (cube->frame != EFFLUX_SKY_ICRS)
+          efflux_cube_add_note (cube, "sky positions converted from %s (equinox %g) to ICRS",
+                                efflux_sky_frame_name (cube->frame), cube->equinox);
+      }
+    else if (strcmp (lngtyp, "GLON") == 0)
+      {
+        cube->frame = EFFLUX_SKY_GALACTIC;
+        cube->equinox = 2000.0;
+        efflux_cube_add_note (cube, "sky positions converted from galactic to ICRS");
+      }
+    else
+      {
+        g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                     "%s: CTYPE%d = '%s': only equatorial (RA/DEC) and galactic (GLON/GLAT) sky axes are read",
+                     path, ilng + 1, orig_ctype[ilng]);
+        goto out;
+      }
+
+    cube->sky = g_new0 (struct wcsprm, 1);
+    cube->sky->flag = -1;
+    if (wcssub (1, wcs, &nsub, axes, cube->sky) != 0 || nsub != 2 || wcsset (cube->sky) != 0)
+      {
+        g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                     "%s: CTYPE%d/CTYPE%d: the sky axes cannot be separated from the others: %s", path,
+                     ilng + 1, ilat + 1,
+                     cube->sky->err && cube->sky->err->msg ? cube->sky->err->msg : "wcslib refused them");
+        goto out;
+      }
+    for (int j = 0; j < 2; j++)
+      {
+        double a = cube->sky->cdelt[0] * cube->sky->pc[0 * 2 + j];
+        double b = cube->sky->cdelt[1] * cube->sky->pc[1 * 2 + j];
+
+        cube->pixel_arcsec[j] = 3600.0 * sqrt (a * a + b * b);
+      }
+  }
+
+  /* --- spectral axis --------------------------------------------------------------------- */
+  {
+    double c = EFFLUX_C_KMS * 1000.0;   /* m/s */
+    g_autofree double *pix = g_new (double, (nchan + 1) * naxis);
+    g_autofree double *img = g_new (double, (nchan + 1) * naxis);
+    g_autofree double *wld = g_new (double, (nchan + 1) * naxis);
+    g_autofree double *phi = g_new (double, nchan + 1);
+    g_autofree double *theta = g_new (double, nchan + 1);
+    g_autofree int *stat = g_new0 (int, nchan + 1);
+    g_autofree double *ratio = g_new (double, nchan + 1);
+    char stype[5];
+    double nu0 = 0.0;
+    g_autofree char *specsys = trimmed (wcs->specsys);
+    double beta = 0.0;
+
+    for (gsize k = 0; k <= nchan; k++)
+      {
+        for (int i = 0; i < naxis; i++)
+          pix[k * naxis + i] = (i == ilng || i == ilat) ? wcs->crpix[i] : 1.0;
+        pix[k * naxis + ispec] = (double) k + 1.0;
+      }
+    if (wcsp2s (wcs, (int) nchan + 1, naxis, pix, img, phi, theta, wld, stat) != 0)
+      {
+        g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                     "%s: CTYPE%d = '%s': channel velocities cannot be computed: %s", path, ispec + 1,
+                     orig_ctype[ispec], wcs->err && wcs->err->msg ? wcs->err->msg : "wcslib refused");
+        goto out;
+      }
+    cube->spectral_ctype = g_strdup (orig_ctype[ispec]);
+    memcpy (stype, wcs->ctype[ispec], 4);
+    stype[4] = '\0';
+    if (!undefined (wcs->restfrq) && wcs->restfrq > 0.0)
+      nu0 = wcs->restfrq;
+    else if (!undefined (wcs->restwav) && wcs->restwav > 0.0)
+      nu0 = c / wcs->restwav;
+
+    if (strcmp (stype, "FREQ") == 0 || strcmp (stype, "WAVE") == 0)
+      {
+        if (nu0 <= 0.0)
+          {
+            g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                         "%s: RESTFRQ missing: the %s axis (CTYPE%d = '%s') needs a rest frequency "
+                         "(RESTFRQ, RESTFREQ or RESTWAV)", path, stype, ispec + 1, orig_ctype[ispec]);
+            goto out;
+          }
+      }
+    for (gsize k = 0; k <= nchan; k++)
+      {
+        double w = wld[k * naxis + ispec];
+        double r;
+
+        if (stat[k] != 0 || !isfinite (w))
+          {
+            g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                         "%s: CTYPE%d = '%s': channel %" G_GSIZE_FORMAT " has no valid spectral coordinate",
+                         path, ispec + 1, orig_ctype[ispec], k);
+            goto out;
+          }
+        /* Greisen et al. 2006, A&A 446, 747, table 1: every type to nu/nu0 */
+        if (strcmp (stype, "FREQ") == 0)
+          r = w / nu0;
+        else if (strcmp (stype, "WAVE") == 0)
+          r = c / w / nu0;
+        else if (strcmp (stype, "VRAD") == 0)
+          r = 1.0 - w / c;
+        else if (strcmp (stype, "VOPT") == 0)
+          r = 1.0 / (1.0 + w / c);
+        else if (strcmp (stype, "ZOPT") == 0)
+          r = 1.0 / (1.0 + w);
+        else if (strcmp (stype, "VELO") == 0)
+          r = sqrt ((c - w) / (c + w));
+        else if (strcmp (stype, "BETA") == 0)
+          r = sqrt ((1.0 - w) / (1.0 + w));
+        else
+          {
+            g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                         "%s: CTYPE%d = '%s': spectral type not read (FREQ, VRAD, VOPT, VELO, FELO, WAVE, ZOPT are)",
+                         path, ispec + 1, orig_ctype[ispec]);
+            goto out;
+          }
+        ratio[k] = r;
+      }
+    cube->restfreq_hz = nu0;
+    if (nu0 > 0.0)
+      {
+        nu_sky = g_new (double, nchan);
+        for (gsize k = 0; k < nchan; k++)
+          nu_sky[k] = ratio[k] * nu0;
+      }
+
+    /* velocity frame */
+    if (specsys[0] == '\0')
+      {
+        cube->specsys = g_strdup ("LSRK");
+        efflux_cube_add_note (cube, "no SPECSYS (or VELREF): velocities taken as LSRK");
+      }
+    else
+      {
+        cube->specsys = g_strdup (specsys);
+        if (strcmp (specsys, "BARYCENT") == 0 || strcmp (specsys, "HELIOCEN") == 0)
+          {
+            double ra, dec, dvk;
+
+            if (!efflux_cube_pixel_to_icrs (cube, ((double) nx - 1.0) / 2.0, ((double) ny - 1.0) / 2.0, &ra, &dec))
+              {
+                g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                             "%s: SPECSYS = '%s': the map centre has no sky position for the LSRK correction",
+                             path, specsys);
+                goto out;
+              }
+            dvk = efflux_sky_lsrk_minus_bary_kms (ra, dec);
+            beta = dvk / EFFLUX_C_KMS;
+            efflux_cube_add_note (cube,
+                                  "velocities converted from %s to LSRK: %+.3f km/s (standard solar motion, "
+                                  "20 km/s towards RA 18h, Dec +30 deg B1900, towards the map centre)",
+                                  specsys, dvk);
+          }
+        else if (strcmp (specsys, "LSRK") != 0 && strcmp (specsys, "LSR") != 0)
+          efflux_cube_add_note (cube,
+                                "velocities left in the %s frame: converting them to LSRK needs the observatory "
+                                "and the time of observation", specsys);
+      }
+    cube->velocity = g_new (double, nchan);
+    {
+      /* relativistic Doppler shift of an observer moving by beta towards the source */
+      double shift = beta != 0.0 ? sqrt ((1.0 - beta) / (1.0 + beta)) : 1.0;
+      double vnext = 0.0;
+
+      for (gsize k = 0; k <= nchan; k++)
+        {
+          double v = EFFLUX_C_KMS * (1.0 - ratio[k] * shift);
+
+          if (k < nchan)
+            cube->velocity[k] = v;
+          else
+            vnext = v;
+        }
+      cube->dv = nchan > 1 ? cube->velocity[1] - cube->velocity[0] : vnext - cube->velocity[0];
+    }
+    if (cube->dv == 0.0)
+      {
+        g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                     "%s: CDELT%d: the spectral axis has no channel step", path, ispec + 1);
+        goto out;
+      }
+  }
+
+  /* --- brightness and beam --------------------------------------------------------------- */
+  {
+    char value[FLEN_VALUE] = "";
+    int s = 0;
+    double scale = 1.0;
+    double bmaj = 0.0, bmin = 0.0, bpa = 0.0;
+    g_autofree double *cbmaj = g_new0 (double, nchan);
+    g_autofree double *cbmin = g_new0 (double, nchan);
+    g_autofree double *cbpa = g_new0 (double, nchan);
+    gboolean table = FALSE, have_card_beam = FALSE;
+
+    if (fits_read_key (f, TSTRING, "BUNIT", value, NULL, &s) != 0)
+      value[0] = '\0';
+    fits_clear_errmsg ();
+    cube->bunit = trimmed (value);
+    s = 0;
+    if (fits_read_key (f, TSTRING, "OBJECT", value, NULL, &s) == 0)
+      cube->object = trimmed (value);
+    fits_clear_errmsg ();
+    s = 0;
+    if (fits_read_key (f, TDOUBLE, "BMAJ", &bmaj, NULL, &s) == 0)
+      {
+        int s2 = 0;
+
+        if (fits_read_key (f, TDOUBLE, "BMIN", &bmin, NULL, &s2) != 0)
+          bmin = bmaj;
+        s2 = 0;
+        if (fits_read_key (f, TDOUBLE, "BPA", &bpa, NULL, &s2) != 0)
+          bpa = 0.0;
+        have_card_beam = bmaj > 0.0 && bmin > 0.0;
+      }
+    fits_clear_errmsg ();
+    if (!read_beam_table (f, path, nchan, pol_index, cbmaj, cbmin, cbpa, &table, error))
+      goto out;
+    if (table)
+      {
+        cube->has_beam = TRUE;
+        cube->bmaj_arcsec = median_double (cbmaj, nchan);
+        cube->bmin_arcsec = median_double (cbmin, nchan);
+        cube->bpa_deg = median_double (cbpa, nchan);
+        efflux_cube_add_note (cube, "per-channel beams from the BEAMS table (median %.3f\" x %.3f\", PA %.1f deg)",
+                              cube->bmaj_arcsec, cube->bmin_arcsec, cube->bpa_deg);
+      }
+    else if (have_card_beam)
+      {
+        cube->has_beam = TRUE;
+        cube->bmaj_arcsec = bmaj * 3600.0;
+        cube->bmin_arcsec = bmin * 3600.0;
+        cube->bpa_deg = bpa;
+        for (gsize k = 0; k < nchan; k++)
+          {
+            cbmaj[k] = cube->bmaj_arcsec;
+            cbmin[k] = cube->bmin_arcsec;
+            cbpa[k] = bpa;
+          }
+      }
+
+    cube->bunit_kind = parse_bunit (cube->bunit, &scale);
+    cube->k_per_unit = g_new (double, nchan);
+    for (gsize k = 0; k < nchan; k++)
+      cube->k_per_unit[k] = 1.0;
+    switch (cube->bunit_kind)
+      {
+      case EFFLUX_BUNIT_K:
+        break;
+      case EFFLUX_BUNIT_MISSING:
+        efflux_cube_add_note (cube, "no BUNIT: brightness taken as K");
+        break;
+      case EFFLUX_BUNIT_JY_PIXEL:
+        efflux_cube_add_note (cube, "BUNIT = '%s': kept as is, not converted to K (needs a beam)", cube->bunit);
+        break;
+      case EFFLUX_BUNIT_OTHER:
+        efflux_cube_add_note (cube, "BUNIT = '%s': unit not understood, values kept as is", cube->bunit);
+        break;
+      case EFFLUX_BUNIT_JY_BEAM:
+      default:
+        {
+          double kmin = G_MAXDOUBLE, kmax = 0.0;
+
+          if (!cube->has_beam)
+            {
+              g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                           "%s: BMAJ missing: BUNIT = '%s' needs the beam (BMAJ, BMIN, BPA or a BEAMS table)",
+                           path, cube->bunit);
+              goto out;
+            }
+          if (nu_sky == NULL)
+            {
+              g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                           "%s: RESTFRQ missing: BUNIT = '%s' needs the sky frequency of each channel",
+                           path, cube->bunit);
+              goto out;
+            }
+          for (gsize k = 0; k < nchan; k++)
+            {
+              cube->k_per_unit[k] = scale * efflux_jy_beam_to_k (nu_sky[k], cbmaj[k], cbmin[k]);
+              kmin = MIN (kmin, cube->k_per_unit[k]);
+              kmax = MAX (kmax, cube->k_per_unit[k]);
+            }
+          efflux_cube_add_note (cube,
+                                "brightness converted from %s to K (Rayleigh-Jeans, beam %.3f\" x %.3f\"): "
+                                "%.6g to %.6g K per unit", cube->bunit, cube->bmaj_arcsec, cube->bmin_arcsec,
+                                kmin, kmax);
+        }
+        break;
+      }
+  }
+
+  /* --- memory ---------------------------------------------------------------------------- */
+  {
+    guint64 avail = efflux_memory_available ();
+    guint64 need = (guint64) bytes + 32u * 1024u * 1024u;
+
+    if (avail > 0 && need > avail)
+      {
+        g_autofree char *n = format_gib (need);
+        g_autofree char *a = format_gib (avail);
+
+        g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_MEMORY,
+                     "%s: NAXIS%d x NAXIS%d x NAXIS%d = %" G_GSIZE_FORMAT " x %" G_GSIZE_FORMAT " x %"
+                     G_GSIZE_FORMAT ": the cube needs %s, %s available",
+                     path, ilng + 1, ilat + 1, ispec + 1, nx, ny, nchan, n, a);
+        goto out;
+      }
+    cube->data = g_try_malloc (bytes);
+    if (cube->data == NULL)
+      {
+        g_autofree char *n = format_gib (bytes);
+
+        g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_MEMORY, "%s: the cube needs %s: allocation failed", path, n);
+        goto out;
+      }
+  }
+
+  /* --- data ------------------------------------------------------------------------------ */
+  {
+    int ax[3] = { ilng, ilat, ispec };
+    gsize out_stride[MAX_AXES] = { 0 };
+    gsize plane, chunk_n, n_slow;
+    int a0, a1, a2;
+    gboolean contiguous = TRUE;
+    g_autofree float *buf = NULL;
+    float nulval = NAN;
+
+    out_stride[ilng] = nchan;
+    out_stride[ilat] = nx * nchan;
+    out_stride[ispec] = 1;
+    /* the three axes in file order */
+    for (int a = 0; a < 3; a++)
+      for (int b = a + 1; b < 3; b++)
+        if (ax[b] < ax[a])
+          {
+            int t = ax[a];
+            ax[a] = ax[b];
+            ax[b] = t;
+          }
+    a0 = ax[0];
+    a1 = ax[1];
+    a2 = ax[2];
+    for (int i = 0; i < a2; i++)
+      if (i != a0 && i != a1 && naxes[i] != 1)
+        contiguous = FALSE;
+    plane = (gsize) naxes[a0] * (gsize) naxes[a1];
+    n_slow = (gsize) naxes[a2];
+    /* about 16 MiB per chunk, at most 64 slices of the slowest axis */
+    chunk_n = MAX ((gsize) 1, (16u * 1024u * 1024u / sizeof (float)) / plane);
+    chunk_n = MIN (chunk_n, (gsize) 64);
+    chunk_n = MIN (chunk_n, n_slow);
+    buf = g_try_malloc (plane * chunk_n * sizeof (float));
+    if (buf == NULL)
+      {
+        g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_MEMORY, "%s: no memory for the read buffer", path);
+        goto out;
+      }
+    for (gsize j0 = 0; j0 < n_slow; j0 += chunk_n)
+      {
+        gsize cn = MIN (chunk_n, n_slow - j0);
+        int anynul = 0;
+        Loop loops[3];
+
+        if (g_cancellable_set_error_if_cancelled (cancellable, error))
+          goto out;
+        if (contiguous)
+          {
+            LONGLONG first[MAX_AXES];
+
+            for (int i = 0; i < naxis; i++)
+              first[i] = 1;
+            first[a2] = (LONGLONG) j0 + 1;
+            fits_read_pixll (f, TFLOAT, first, (LONGLONG) (plane * cn), &nulval, buf, &anynul, &status);
+          }
+        else
+          {
+            long fpix[MAX_AXES], lpix[MAX_AXES], inc[MAX_AXES];
+
+            for (int i = 0; i < naxis; i++)
+              {
+                fpix[i] = stokes_plane[i];
+                lpix[i] = stokes_plane[i];
+                inc[i] = 1;
+              }
+            fpix[a0] = 1;
+            lpix[a0] = (long) naxes[a0];
+            fpix[a1] = 1;
+            lpix[a1] = (long) naxes[a1];
+            fpix[a2] = (long) j0 + 1;
+            lpix[a2] = (long) (j0 + cn);
+            fits_read_subset (f, TFLOAT, fpix, lpix, inc, &nulval, buf, &anynul, &status);
+          }
+        if (status != 0)
+          {
+            set_fits_error (error, path, status, "the data cannot be read");
+            goto out;
+          }
+        loops[0] = (Loop) { (gsize) naxes[a0], out_stride[a0], 1 };
+        loops[1] = (Loop) { (gsize) naxes[a1], out_stride[a1], (gsize) naxes[a0] };
+        loops[2] = (Loop) { cn, out_stride[a2], plane };
+        transpose_chunk (buf, cube->data + j0 * out_stride[a2], loops);
+        if (progress != NULL)
+          progress ((double) (j0 + cn) / (double) n_slow * (options && options->no_noise ? 1.0 : 0.9),
+                    progress_data);
+      }
+  }
+
+  if (cube->bunit_kind == EFFLUX_BUNIT_JY_BEAM)
+    {
+      gsize npix = nx * ny;
+
+      for (gsize p = 0; p < npix; p++)
+        {
+          float *spec = cube->data + p * nchan;
+
+          for (gsize k = 0; k < nchan; k++)
+            spec[k] = (float) (spec[k] * cube->k_per_unit[k]);
+        }
+    }
+
+  if (g_cancellable_set_error_if_cancelled (cancellable, error))
+    goto out;
+  cube->rms = g_new0 (float, nchan);
+  if (!(options && options->no_noise))
+    efflux_cube_estimate_noise (cube);
+  if (progress != NULL)
+    progress (1.0, progress_data);
+  ok = TRUE;
+
+out:
+  if (wcsarr != NULL)
+    wcsvfree (&nwcs, &wcsarr);
+  if (!ok)
+    return NULL;
+  return g_steal_pointer (&cube);
 }
