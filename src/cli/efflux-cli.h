@@ -33,5 +33,9 @@ void efflux_json_number (GString *s,
 
 /* Commands: each gets argv with argv[0] = the command name. */
 int efflux_cmd_info    (int argc, char **argv);
+int efflux_cmd_synth   (int argc, char **argv);
+int efflux_cmd_measure (int argc, char **argv);
+int efflux_cmd_moment  (int argc, char **argv);
+int efflux_cmd_pv      (int argc, char **argv);
 
 G_END_DECLS

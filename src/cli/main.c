@@ -18,6 +18,10 @@ typedef struct
 
 static const Command commands[] = {
   { "info", efflux_cmd_info, "describe a FITS cube: axes, velocity, units, beam, noise" },
+  { "moment", efflux_cmd_moment, "write a moment map (0, 1, 2 or peak) over a velocity range" },
+  { "pv", efflux_cmd_pv, "write a position-velocity diagram along a polyline" },
+  { "synth", efflux_cmd_synth, "write synthetic outflow cubes, their truth and a dossier from a recipe" },
+  { "measure", efflux_cmd_measure, "measure every lobe of dossiers: mass, momentum, energy, rates, errors" },
 };
 
 static void
