@@ -1,0 +1,149 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+#include "config.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+
+#include "efflux-cli.h"
+#include "efflux-cube.h"
+#include "efflux-fitsout.h"
+#include "efflux-maps.h"
+
+/* "V1:V2" in km/s, '.' decimal point. */
+static gboolean
+parse_range (const char *text,
+             double     *v1,
+             double     *v2)
+{
+  g_auto (GStrv) parts = NULL;
+  char *end = NULL;
+
+  if (text == NULL)
+    return FALSE;
+  parts = g_strsplit (text, ":", -1);
+  if (g_strv_length (parts) != 2)
+    return FALSE;
+  for (int i = 0; i < 2; i++)
+    {
+      double *v = i == 0 ? v1 : v2;
+
+      g_strstrip (parts[i]);
+      if (*parts[i] == '\0')
+        return FALSE;
+      *v = g_ascii_strtod (parts[i], &end);
+      if (end == NULL || *end != '\0' || !isfinite (*v))
+        return FALSE;
+    }
+  return TRUE;
+}
+
+static char *
+format_number (double value)
+{
+  char buf[G_ASCII_DTOSTR_BUF_SIZE];
+
+  return g_strdup (g_ascii_formatd (buf, sizeof buf, "%.10g", value));
+}
+
+int
+efflux_cmd_moment (int    argc,
+                   char **argv)
+{
+  g_autofree char *order_text = NULL;
+  g_autofree char *range_text = NULL;
+  g_autofree char *output = NULL;
+  g_auto (GStrv) rest = NULL;
+  double clip_sigma = 0.0, v1, v2;
+  GOptionEntry entries[] = {
+    { "order", 0, 0, G_OPTION_ARG_STRING, &order_text,
+      "Which map: 0 (K km/s), 1 (km/s), 2 (dispersion, km/s) or peak (K)", "0|1|2|peak" },
+    { "range", 0, 0, G_OPTION_ARG_STRING, &range_text,
+      "Channels whose centre velocity lies in [V1, V2] km/s, inclusive", "V1:V2" },
+    { "clip-sigma", 0, 0, G_OPTION_ARG_DOUBLE, &clip_sigma,
+      "Leave out voxels below S x the channel rms (0: keep all)", "S" },
+    { "output", 'o', 0, G_OPTION_ARG_FILENAME, &output, "The FITS map to write", "OUT.fits" },
+    { G_OPTION_REMAINING, 0, 0, G_OPTION_ARG_FILENAME_ARRAY, &rest, NULL, "CUBE" },
+    { NULL }
+  };
+  g_autoptr (GOptionContext) context = g_option_context_new ("CUBE");
+  g_autoptr (EffluxCube) cube = NULL;
+  g_autofree float *image = NULL;
+  EffluxCubeLoadOptions load = { 0 };
+  EffluxMomentOrder order;
+  GError *error = NULL;
+  int status = EFFLUX_EXIT_OK;
+  gsize k0, k1;
+
+  g_option_context_set_summary (context,
+                                "Write one moment map of a cube over a velocity range, on the "
+                                "cube's sky grid.");
+  g_option_context_add_main_entries (context, entries, NULL);
+  if (!efflux_cli_parse (context, &argc, &argv, &status))
+    return status;
+
+  if (rest == NULL || g_strv_length (rest) != 1)
+    return efflux_cli_usage ("moment", "expected exactly one CUBE");
+  if (order_text == NULL)
+    return efflux_cli_usage ("moment", "--order is required");
+  if (!efflux_moment_order_parse (order_text, &order))
+    return efflux_cli_usage ("moment", "--order '%s': expected 0, 1, 2 or peak", order_text);
+  if (range_text == NULL)
+    return efflux_cli_usage ("moment", "--range is required");
+  if (!parse_range (range_text, &v1, &v2))
+    return efflux_cli_usage ("moment", "--range '%s': expected V1:V2 in km/s", range_text);
+  if (output == NULL)
+    return efflux_cli_usage ("moment", "-o OUT.fits is required");
+  if (!isfinite (clip_sigma) || clip_sigma < 0.0)
+    {
+      g_set_error (&error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                   "--clip-sigma %g: expected a number >= 0", clip_sigma);
+      return efflux_cli_fail (error);
+    }
+
+  load.no_noise = clip_sigma <= 0.0;
+  cube = efflux_cube_load (rest[0], &load, NULL, NULL, NULL, &error);
+  if (cube == NULL)
+    return efflux_cli_fail (error);
+
+  if (!efflux_cube_channel_range (cube, v1, v2, &k0, &k1))
+    {
+      double a = cube->velocity[0], b = cube->velocity[cube->nchan - 1];
+
+      g_set_error (&error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                   "%s: --range %s: no channel centre lies in %g .. %g km/s "
+                   "(the channels span %g .. %g km/s)",
+                   rest[0], range_text, MIN (v1, v2), MAX (v1, v2), MIN (a, b), MAX (a, b));
+      return efflux_cli_fail (error);
+    }
+
+  image = g_try_new (float, cube->nx * cube->ny);
+  if (image == NULL)
+    {
+      g_set_error (&error, EFFLUX_ERROR, EFFLUX_ERROR_MEMORY, "%s: no memory for the map", rest[0]);
+      return efflux_cli_fail (error);
+    }
+  if (!efflux_moment_map (cube, order, v1, v2, clip_sigma, image, &error))
+    return efflux_cli_fail (error);
+
+  {
+    g_autofree char *lo = format_number (MIN (v1, v2));
+    g_autofree char *hi = format_number (MAX (v1, v2));
+    g_autofree char *clip = format_number (clip_sigma);
+    g_autofree char *order_lit = g_strdup_printf ("'%s'", efflux_moment_order_name (order));
+    g_autofree char *nchan = g_strdup_printf ("%" G_GSIZE_FORMAT, k1 - k0);
+    const char *cards[] = {
+      "MOMENT", order_lit, "moment order: 0, 1, 2 or peak",
+      "VRANGE1", lo, "[km/s] lowest channel-centre velocity allowed",
+      "VRANGE2", hi, "[km/s] highest channel-centre velocity allowed",
+      "MOMNCHAN", nchan, "channels in the range",
+      "CLIPSIG", clip, "voxels below CLIPSIG x channel rms left out",
+      NULL
+    };
+
+    if (!efflux_fits_write_sky_image (cube, image, efflux_moment_order_bunit (order), cards,
+                                      output, &error))
+      return efflux_cli_fail (error);
+  }
+  return EFFLUX_EXIT_OK;
+}
