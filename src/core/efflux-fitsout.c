@@ -121,7 +121,7 @@ put_double (Writer     *w,
             double      value,
             const char *comment)
 {
-  fits_update_key_dbl (w->fptr, key, value, -15, comment, &w->status);
+  fits_update_key_dbl (w->fptr, key, value, -17, comment, &w->status);
 }
 
 /* DATE: the time of writing, or SOURCE_DATE_EPOCH when that is set (the reproducible-builds.org
@@ -178,7 +178,9 @@ put_sky_wcs (Writer          *w,
 
       memcpy (card, header + 80 * i, 80);
       card[80] = '\0';
+      /* MJDREF: wcslib writes its default 0 even when the WCS holds no time axis */
       if (strncmp (card, "WCSAXES ", 8) == 0 || strncmp (card, "COMMENT ", 8) == 0 ||
+          strncmp (card, "MJDREF  ", 8) == 0 ||
           strncmp (card, "        ", 8) == 0)
         continue;
       g_strchomp (card);

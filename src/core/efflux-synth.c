@@ -1375,6 +1375,7 @@ truth_text (const EffluxSynthRecipe *rc,
 {
   g_autoptr (GKeyFile) kf = g_key_file_new ();
   double cos_i = cos (rc->incl_deg * G_PI / 180.0), sin_i = sin (rc->incl_deg * G_PI / 180.0);
+  g_autofree char *recipe_base = g_path_get_basename (rc->path);
   Geometry geo;
   double amb = 0.0;
 
@@ -1383,7 +1384,7 @@ truth_text (const EffluxSynthRecipe *rc,
     amb += model->ambient_h2[i];
   amb *= rc->mass_per_h2 * EFFLUX_M_H * model->pixel_area_cm2 / EFFLUX_MSUN;
 
-  g_key_file_set_string (kf, "Truth", "recipe", rc->path);
+  g_key_file_set_string (kf, "Truth", "recipe", recipe_base);
   g_key_file_set_string (kf, "Truth", "name", rc->source_name);
   g_key_file_set_string (kf, "Truth", "cloud", rc->cloud);
   g_key_file_set_double (kf, "Truth", "ra-deg", rc->ra_deg);
@@ -1579,6 +1580,7 @@ dossier_text (const EffluxSynthRecipe *rc,
   guint tracer = 0;
   double margin = 2.5 * rc->bmaj;   /* >= 2 beams around every lobe */
   double blue_end = 0.0, red_end = 0.0;
+  g_autofree char *recipe_base = g_path_get_basename (rc->path);
   Geometry geo;
 
   geometry_init (&geo, rc);
@@ -1592,7 +1594,7 @@ dossier_text (const EffluxSynthRecipe *rc,
 
   g_string_append_printf (s, "# Dossier of a synthetic source, written by efflux-cli synth from %s.\n"
                           "# The lobes enclose the model lobes with a margin of %.2f arcsec (%.1f beams).\n",
-                          rc->path, margin, margin / rc->bmaj);
+                          recipe_base, margin, margin / rc->bmaj);
   g_string_append (s, "[Source]\n");
   g_string_append_printf (s, "name=%s\n", rc->source_name);
   g_string_append_printf (s, "ra-deg=%.7f\ndec-deg=%.7f\n", rc->ra_deg, rc->dec_deg);
