@@ -112,7 +112,7 @@ efflux_moment_order_bunit (EffluxMomentOrder order)
 static const char *
 cube_name (const EffluxCube *cube)
 {
-  return cube->path != NULL ? cube->path : "cube";
+  return cube->path != NULL && *cube->path != '\0' ? cube->path : "cube";
 }
 
 static gboolean
@@ -269,6 +269,24 @@ direct_rows (gsize    begin,
                 s2 += tu * job->u[k];
                 if (t > peak)
                   peak = t;
+              }
+            if (job->order == EFFLUX_MOMENT_2 && n > 0 && s0 > 0.0)
+              {
+                /* second pass about the mean: no cancellation where sum(T) is small */
+                double m = s1 / s0, sc = 0.0;
+
+                for (gsize k = k0; k < k1; k++)
+                  {
+                    float t = spec[k];
+                    double d;
+
+                    if (!isfinite (t) || (clip && !(t >= thr[k])))
+                      continue;
+                    d = job->u[k] - m;
+                    sc += t * d * d;
+                  }
+                job->out[y * nx + x] = sc >= 0.0 ? (float) sqrt (sc / s0) : NAN;
+                continue;
               }
           }
         job->out[y * nx + x] = finish_pixel (job->order, s0, s1, s2, n, peak, job->adv,

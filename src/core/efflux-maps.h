@@ -41,7 +41,8 @@ const char  *efflux_moment_order_bunit (EffluxMomentOrder  order);
 /* One moment map computed directly from the voxels of the range: O(pixels x channels in range),
  * rows shared among the processors. Used by the CLI (one range, no cache worth building), for the
  * peak map and for clipped maps (a clip cannot use prefix sums). clip_sigma > 0 needs cube->rms.
- * out: nx * ny floats. Errors name the cube's file. */
+ * Moment 2 here takes two passes (sum about the pixel's own moment 1), so it is accurate even where
+ * sum(T) is small against the noise. out: nx * ny floats. Errors name the cube's file. */
 gboolean     efflux_moment_map (const EffluxCube  *cube,
                                 EffluxMomentOrder  order,
                                 double             v1,
@@ -62,6 +63,9 @@ gboolean     efflux_moment_map (const EffluxCube  *cube,
  * BLOCK / 2 channels per end and pixel. NaN voxels count as 0 and are not counted.
  * Memory: 28 bytes per pixel per boundary = 28 / BLOCK bytes per voxel, i.e. 0.44x the float
  * cube for BLOCK = 16 (0.45 GiB for a 512 x 512 x 1024 cube).
+ * Moment 2 from prefix sums is one-pass, (sum T u^2 - (sum T u)^2 / sum T) / sum T: where sum T
+ * is small against the noise (no line in the range) it loses digits; where the line is detected it
+ * agrees with the two-pass value to float precision (tests/test-maps.c checks 1e-5).
  * The peak map and clipped maps cannot use prefix sums: efflux_moment_cache_map computes the
  * peak directly (efflux_moment_map), and clipped maps go through efflux_moment_map.
  * The cache keeps a pointer to the cube: the cube must outlive it and not change. */

@@ -9,7 +9,7 @@
 static const char *
 cube_name (const EffluxCube *cube)
 {
-  return cube->path != NULL ? cube->path : "cube";
+  return cube->path != NULL && *cube->path != '\0' ? cube->path : "cube";
 }
 
 /* ------------------------------------------------------------------------------------------ */
