@@ -66,7 +66,7 @@ efflux_cmd_moment (int    argc,
     { G_OPTION_REMAINING, 0, 0, G_OPTION_ARG_FILENAME_ARRAY, &rest, NULL, "CUBE" },
     { NULL }
   };
-  g_autoptr (GOptionContext) context = g_option_context_new ("CUBE");
+  g_autoptr (GOptionContext) context = g_option_context_new ("- write one moment map of a cube");
   g_autoptr (EffluxCube) cube = NULL;
   g_autofree float *image = NULL;
   EffluxCubeLoadOptions load = { 0 };

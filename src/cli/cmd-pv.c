@@ -27,7 +27,7 @@ efflux_cmd_pv (int    argc,
     { G_OPTION_REMAINING, 0, 0, G_OPTION_ARG_FILENAME_ARRAY, &rest, NULL, "CUBE" },
     { NULL }
   };
-  g_autoptr (GOptionContext) context = g_option_context_new ("CUBE");
+  g_autoptr (GOptionContext) context = g_option_context_new ("- write a position-velocity diagram");
   g_autoptr (EffluxCube) cube = NULL;
   g_autoptr (EffluxPv) pv = NULL;
   EffluxCubeLoadOptions load = { 0 };
@@ -49,7 +49,7 @@ efflux_cmd_pv (int    argc,
     return efflux_cli_usage ("pv", "-o OUT.fits is required");
   if (!efflux_pv_path_parse (path_text, &ra_dec, &n_vertices, &error))
     {
-      g_prefix_error (&error, "--path: ");
+      g_prefix_error (&error, "--path ");
       return efflux_cli_fail (error);
     }
   if (!isfinite (width) || width < 0.0)
@@ -65,10 +65,7 @@ efflux_cmd_pv (int    argc,
     return efflux_cli_fail (error);
   pv = efflux_pv_cut (cube, ra_dec, n_vertices, width, &error);
   if (pv == NULL)
-    {
-      g_prefix_error (&error, "--path: ");
-      return efflux_cli_fail (error);
-    }
+    return efflux_cli_fail (error);
   if (!efflux_pv_write_fits (pv, "K", output, &error))
     return efflux_cli_fail (error);
   return EFFLUX_EXIT_OK;

@@ -41,7 +41,7 @@ efflux_pv_path_parse (const char  *text,
   if (text == NULL || *text == '\0')
     {
       g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                   "path \"\": expected RA1,DEC1;RA2,DEC2[;...] in degrees");
+                   "\"\": expected RA1,DEC1;RA2,DEC2[;...] in degrees");
       return FALSE;
     }
   parts = g_strsplit (text, ";", -1);
@@ -56,14 +56,14 @@ efflux_pv_path_parse (const char  *text,
           !parse_number (pair[1], &values[2 * i + 1]))
         {
           g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                       "path \"%s\": vertex %" G_GSIZE_FORMAT " \"%s\": expected RA,DEC in degrees",
+                       "\"%s\": vertex %" G_GSIZE_FORMAT " \"%s\": expected RA,DEC in degrees",
                        text, i + 1, parts[i]);
           return FALSE;
         }
       if (fabs (values[2 * i + 1]) > 90.0)
         {
           g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                       "path \"%s\": vertex %" G_GSIZE_FORMAT ": declination %g lies outside "
+                       "\"%s\": vertex %" G_GSIZE_FORMAT ": declination %g lies outside "
                        "-90 .. 90 degrees", text, i + 1, values[2 * i + 1]);
           return FALSE;
         }
@@ -71,7 +71,7 @@ efflux_pv_path_parse (const char  *text,
   if (n < 2)
     {
       g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                   "path \"%s\": a cut needs at least two vertices", text);
+                   "\"%s\": a cut needs at least two vertices", text);
       return FALSE;
     }
   *ra_dec = g_steal_pointer (&values);
