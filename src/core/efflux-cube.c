@@ -639,6 +639,27 @@ transpose_chunk (const float *in,
       }
 }
 
+/* Whether the primary header (80-character cards) reaches its END card within the file. */
+static gboolean
+primary_header_complete (const char *path)
+{
+  FILE *fp = fopen (path, "rb");
+  char card[80];
+  gboolean found = FALSE;
+
+  if (fp == NULL)
+    return TRUE;
+  /* at most 10000 cards: a longer primary header is as good as broken */
+  for (int i = 0; i < 10000 && fread (card, 1, 80, fp) == 80; i++)
+    if (memcmp (card, "END     ", 8) == 0)
+      {
+        found = TRUE;
+        break;
+      }
+  fclose (fp);
+  return found;
+}
+
 static char *
 format_gib (guint64 bytes)
 {
@@ -719,6 +740,13 @@ efflux_cube_load (const char                  *path,
   if (fits_open_diskfile (&f, path, READONLY, &status) != 0)
     {
       f = NULL;
+      if (!gz && !primary_header_complete (path))
+        {
+          fits_clear_errmsg ();
+          g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                       "%s: END card missing: the primary header is incomplete (truncated file?)", path);
+          return NULL;
+        }
       set_fits_error (error, path, status, "not a readable FITS file");
       return NULL;
     }
@@ -1107,6 +1135,7 @@ efflux_cube_load (const char                  *path,
     g_autofree double *theta = g_new (double, nchan + 1);
     g_autofree int *stat = g_new0 (int, nchan + 1);
     g_autofree double *ratio = g_new (double, nchan + 1);
+    g_autofree double *vrad_si = g_new (double, nchan + 1);
     char stype[5];
     double nu0 = 0.0;
     g_autofree char *specsys = trimmed (wcs->specsys);
@@ -1178,6 +1207,7 @@ efflux_cube_load (const char                  *path,
             goto out;
           }
         ratio[k] = r;
+        vrad_si[k] = strcmp (stype, "VRAD") == 0 ? w : NAN;
       }
     cube->restfreq_hz = nu0;
     if (nu0 > 0.0)
@@ -1227,7 +1257,9 @@ efflux_cube_load (const char                  *path,
 
       for (gsize k = 0; k <= nchan; k++)
         {
-          double v = EFFLUX_C_KMS * (1.0 - ratio[k] * shift);
+          /* a VRAD axis left in its frame is taken as is (no rounding through nu/nu0) */
+          double v = (beta == 0.0 && isfinite (vrad_si[k])) ? vrad_si[k] / 1000.0
+                                                            : EFFLUX_C_KMS * (1.0 - ratio[k] * shift);
 
           if (k < nchan)
             cube->velocity[k] = v;
