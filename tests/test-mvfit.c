@@ -407,6 +407,15 @@ test_hidden_mass (void)
   }
 }
 
+static int
+compare_doubles (const void *a,
+                 const void *b)
+{
+  double x = *(const double *) a, y = *(const double *) b;
+
+  return (x > y) - (x < y);
+}
+
 /* ---- sampling -------------------------------------------------------------------------------- */
 
 static void
@@ -539,6 +548,25 @@ test_percentiles (void)
     }
   g_unlink (path);
   g_rmdir (dir);
+
+  /* The selection (quickselect) against the definition on a fully sorted copy, with many ties
+   * and all small sizes: position h = q/100 (m - 1), linear between neighbours. */
+  for (guint n = 1; n <= 60; n++)
+    {
+      double vals[60], sorted[60];
+
+      for (i = 0; i < n; i++)
+        vals[i] = sorted[i] = floor (efflux_rng_uniform (rng, 0.0, 6.0));
+      qsort (sorted, n, sizeof (double), compare_doubles);
+      for (double q = 0.0; q <= 100.0; q += 2.5)
+        {
+          double h = q / 100.0 * (n - 1);
+          guint j = (guint) floor (h);
+          double want = j + 1 < n ? sorted[j] + (h - j) * (sorted[j + 1] - sorted[j]) : sorted[j];
+
+          g_assert_cmpfloat_with_epsilon (efflux_percentile (vals, n, q), want, 1e-12);
+        }
+    }
 }
 
 int
