@@ -455,6 +455,54 @@ test_thick_ratio (void)
   }
 }
 
+/* The truth's channel masses against scipy.integrate.quad (tests/ref/synth_massvel.py). */
+static void
+check_massvel (GKeyFile   *truth,
+               const char *group,
+               const char *args)
+{
+  const char *python = g_getenv ("EFFLUX_PYTHON");
+  const char *root = g_getenv ("EFFLUX_SOURCE_ROOT");
+  g_autofree char *script = NULL;
+  g_autofree char *cmd = NULL;
+  g_autofree char *out = NULL;
+  g_autofree char *err = NULL;
+  g_autofree double *v = NULL;
+  g_autofree double *m = NULL;
+  g_auto (GStrv) lines = NULL;
+  g_autoptr (GError) error = NULL;
+  gsize nv = 0, nm = 0, n = 0;
+  int status = 0;
+
+  g_assert_nonnull (python);
+  g_assert_cmpstr (python, !=, "");
+  g_assert_nonnull (root);
+  script = g_build_filename (root, "tests", "ref", "synth_massvel.py", NULL);
+  cmd = g_strdup_printf ("'%s' '%s' %s", python, script, args);
+  g_assert_true (g_spawn_command_line_sync (cmd, &out, &err, &status, NULL));
+  if (!g_spawn_check_wait_status (status, NULL))
+    g_error ("synth_massvel.py failed: %s", err);
+  v = g_key_file_get_double_list (truth, group, "channel-velocity-kms", &nv, &error);
+  g_assert_no_error (error);
+  m = g_key_file_get_double_list (truth, group, "channel-mass-msun", &nm, &error);
+  g_assert_no_error (error);
+  g_assert_cmpuint (nv, ==, nm);
+  lines = g_strsplit (out, "\n", -1);
+  for (gsize i = 0; lines[i] != NULL; i++)
+    {
+      g_auto (GStrv) f = NULL;
+      if (*lines[i] == '\0')
+        continue;
+      f = g_strsplit (lines[i], " ", -1);
+      g_assert_cmpuint (n, <, nv);
+      g_assert_cmpfloat_with_epsilon (v[n], g_ascii_strtod (f[0], NULL), 1e-9);
+      g_assert_cmpfloat_with_epsilon (m[n], g_ascii_strtod (f[1], NULL), 1e-9 * m[n]);
+      n++;
+    }
+  g_assert_cmpuint (n, ==, nv);
+  g_assert_cmpuint (n, >, 10);
+}
+
 /* Every pixel holding gas of a lobe lies inside the dossier polygon, >= 2 beams from its edges
  * (less half a pixel diagonal: the gas fills its pixel, the test looks at the centre); every
  * channel holding the lobe's mass lies in the lobe's velocity range, and no channel of the range
@@ -583,6 +631,24 @@ test_dossier (void)
   g_assert_cmpfloat_with_epsilon (g_key_file_get_double (truth, "Knot red-1", "velocity-kms", NULL),
                                   -2.0 + 25.0 * cos (40.0 * G_PI / 180.0), 1e-12);
   g_assert_cmpfloat_with_epsilon (g_key_file_get_double (truth, "Truth", "ambient-mass-msun", NULL), 0.1, 1e-12);
+  check_massvel (truth, "Lobe blue", "2e-3 4 25 1.8 40 -2.0 -24.5 0.75 60 0");
+  check_massvel (truth, "Lobe red", "1e-3 4 22 2.0 40 -2.0 -24.5 0.75 60 1");
+
+  /* the Jy/beam cube, read back (and converted to K by the loader), is the rendered K cube */
+  {
+    g_autoptr (EffluxCube) rendered = efflux_synth_render (recipe, model, 0, &error);
+    g_autoptr (EffluxCube) loaded = load_cube (dir, "full-co.fits");
+    double peak = 0.0;
+
+    g_assert_no_error (error);
+    g_assert_cmpint (loaded->bunit_kind, ==, EFFLUX_BUNIT_JY_BEAM);
+    for (gsize i = 0; i < loaded->nx * loaded->ny * loaded->nchan; i++)
+      {
+        g_assert_cmpfloat_with_epsilon (loaded->data[i], rendered->data[i], 1e-6 * fabs (rendered->data[i]) + 1e-6);
+        peak = MAX (peak, rendered->data[i]);
+      }
+    g_assert_cmpfloat (peak, >, 1.0);
+  }
   rm_rf (dir);
 }
 
