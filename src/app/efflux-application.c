@@ -82,12 +82,23 @@ efflux_application_startup (GApplication *app)
   static const GActionEntry entries[] = {
     { .name = "quit", .activate = quit_activated },
   };
-  const char *quit_accels[] = { "<Control>q", NULL };
+  static const struct {
+    const char *action;
+    const char *accels[4];
+  } accels[] = {
+    { "app.quit", { "<Control>q", NULL } },
+    { "win.open", { "<Control>o", NULL } },
+    { "win.zoom-in", { "plus", "equal", "KP_Add", NULL } },
+    { "win.zoom-out", { "minus", "KP_Subtract", NULL } },
+    { "win.zoom-fit", { "f", NULL } },
+  };
 
   G_APPLICATION_CLASS (efflux_application_parent_class)->startup (app);
 
   g_action_map_add_action_entries (G_ACTION_MAP (app), entries, G_N_ELEMENTS (entries), app);
-  gtk_application_set_accels_for_action (GTK_APPLICATION (app), "app.quit", quit_accels);
+  for (gsize i = 0; i < G_N_ELEMENTS (accels); i++)
+    gtk_application_set_accels_for_action (GTK_APPLICATION (app), accels[i].action,
+                                           accels[i].accels);
 }
 
 static void

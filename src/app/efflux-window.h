@@ -4,6 +4,8 @@
 #include <gtk/gtk.h>
 
 #include "efflux-application.h"
+#include "efflux-cube.h"
+#include "efflux-sky-view.h"
 
 G_BEGIN_DECLS
 
@@ -17,5 +19,9 @@ void          efflux_window_open (EffluxWindow      *self,
 gboolean      efflux_window_is_loading (EffluxWindow *self);
 /* The last message shown about the open dossier or cube. */
 const char   *efflux_window_get_status (EffluxWindow *self);
+/* The Sky view in the centre of the window. */
+EffluxSkyView *efflux_window_get_sky_view (EffluxWindow *self);
+/* The cube shown, or NULL before one is read. Owned by the window. */
+const EffluxCube *efflux_window_get_cube (EffluxWindow *self);
 
 G_END_DECLS

@@ -1,0 +1,1082 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+#define G_LOG_DOMAIN "efflux-sky-view"
+
+#include "config.h"
+
+#include <glib/gi18n.h>
+#include <math.h>
+
+#include "efflux-colormap.h"
+#include "efflux-skygrid.h"
+#include "efflux-sky-view.h"
+#include "efflux-stretch.h"
+
+#define ZOOM_STEP     G_SQRT2
+#define ZOOM_MAX      64.0
+#define GRID_LINES    6
+
+struct _EffluxSkyView
+{
+  GtkWidget           parent_instance;
+
+  /* the map */
+  const EffluxCube   *cube;        /* borrowed: WCS, beam */
+  float              *data;
+  gsize               width, height;
+  char               *unit;
+  guint8             *rgba;        /* width x height colour-mapped pixels, rows y = 0 first */
+  double              lo, hi;      /* display limits */
+
+  /* display choices */
+  EffluxColormapKind  colormap;
+  EffluxStretchKind   stretch;
+  double              limits;      /* percent kept between the limits */
+  int                 grid;        /* -1: none, else EffluxSkyGridStyle */
+
+  /* the source */
+  gboolean            has_source;
+  double              src_ra, src_dec, distance_pc;
+
+  /* the view: map pixel (cx, cy) at the widget's centre, zoom screen pixels per map pixel */
+  double              cx, cy, zoom;
+  gboolean            fitted;
+
+  /* drag */
+  double              drag_cx, drag_cy;
+
+  /* pointer and readout */
+  double              pointer_x, pointer_y;
+  EffluxSkyReadout    readout;
+  char               *readout_text;
+
+  GskRenderNode      *node;        /* cached scene; dropped on data, size and view changes */
+};
+
+G_DEFINE_FINAL_TYPE (EffluxSkyView, efflux_sky_view, GTK_TYPE_WIDGET)
+
+enum {
+  PROP_0,
+  PROP_COLORMAP,
+  PROP_STRETCH,
+  PROP_LIMITS,
+  PROP_GRID,
+  PROP_ZOOM,
+  PROP_READOUT,
+  PROP_HAS_MAP,
+  N_PROPS
+};
+
+static GParamSpec *properties[N_PROPS];
+
+static const char *grid_names[] = { "sexagesimal", "offsets" };
+
+static void
+invalidate (EffluxSkyView *self)
+{
+  g_clear_pointer (&self->node, gsk_render_node_unref);
+  gtk_widget_queue_draw (GTK_WIDGET (self));
+}
+
+/* Colour-map the whole map once per data, colour map, stretch or limits change. */
+static void
+recolour (EffluxSkyView *self)
+{
+  guint8 lut[EFFLUX_COLORMAP_SIZE * 4];
+  gsize n = self->width * self->height;
+
+  g_clear_pointer (&self->rgba, g_free);
+  if (self->data == NULL)
+    return;
+  if (!efflux_percentile_limits (self->data, n, self->limits, &self->lo, &self->hi))
+    self->lo = self->hi = NAN;
+  efflux_colormap_fill (self->colormap, lut);
+  self->rgba = g_malloc (n * 4);
+  efflux_colormap_apply (lut, self->stretch, self->lo, self->hi, self->data, n, self->rgba);
+  invalidate (self);
+}
+
+static void
+set_zoom_internal (EffluxSkyView *self,
+                   double         zoom)
+{
+  if (zoom == self->zoom)
+    return;
+  self->zoom = zoom;
+  g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_ZOOM]);
+}
+
+static double
+fit_zoom (EffluxSkyView *self)
+{
+  int w = gtk_widget_get_width (GTK_WIDGET (self));
+  int h = gtk_widget_get_height (GTK_WIDGET (self));
+
+  if (self->width == 0 || self->height == 0 || w <= 0 || h <= 0)
+    return 1.0;
+  return MIN (w / (double) self->width, h / (double) self->height);
+}
+
+static double
+min_zoom (EffluxSkyView *self)
+{
+  return MIN (fit_zoom (self) / 8.0, 1.0);
+}
+
+void
+efflux_sky_view_zoom_fit (EffluxSkyView *self)
+{
+  g_return_if_fail (EFFLUX_IS_SKY_VIEW (self));
+
+  self->fitted = TRUE;
+  self->cx = (self->width - 1.0) / 2.0;
+  self->cy = (self->height - 1.0) / 2.0;
+  set_zoom_internal (self, fit_zoom (self));
+  invalidate (self);
+}
+
+/* Zoom by a factor, keeping the map point under widget coordinates (wx, wy) in place. */
+static void
+zoom_about (EffluxSkyView *self,
+            double         factor,
+            double         wx,
+            double         wy)
+{
+  double px, py, zoom;
+
+  if (self->data == NULL)
+    return;
+  zoom = CLAMP (self->zoom * factor, min_zoom (self), ZOOM_MAX);
+  if (zoom == self->zoom)
+    return;
+  efflux_sky_view_widget_to_pixel (self, wx, wy, &px, &py);
+  self->fitted = FALSE;
+  set_zoom_internal (self, zoom);
+  /* keep (px, py) under (wx, wy) */
+  self->cx = px - (wx - gtk_widget_get_width (GTK_WIDGET (self)) / 2.0) / zoom;
+  self->cy = py + (wy - gtk_widget_get_height (GTK_WIDGET (self)) / 2.0) / zoom;
+  invalidate (self);
+  if (!isnan (self->pointer_x))
+    efflux_sky_view_point_at (self, self->pointer_x, self->pointer_y);
+}
+
+void
+efflux_sky_view_zoom_in (EffluxSkyView *self)
+{
+  g_return_if_fail (EFFLUX_IS_SKY_VIEW (self));
+  zoom_about (self, ZOOM_STEP, gtk_widget_get_width (GTK_WIDGET (self)) / 2.0,
+              gtk_widget_get_height (GTK_WIDGET (self)) / 2.0);
+}
+
+void
+efflux_sky_view_zoom_out (EffluxSkyView *self)
+{
+  g_return_if_fail (EFFLUX_IS_SKY_VIEW (self));
+  zoom_about (self, 1.0 / ZOOM_STEP, gtk_widget_get_width (GTK_WIDGET (self)) / 2.0,
+              gtk_widget_get_height (GTK_WIDGET (self)) / 2.0);
+}
+
+double
+efflux_sky_view_get_zoom (EffluxSkyView *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_SKY_VIEW (self), 1.0);
+  return self->zoom;
+}
+
+gboolean
+efflux_sky_view_get_limits (EffluxSkyView *self,
+                            double        *lo,
+                            double        *hi)
+{
+  g_return_val_if_fail (EFFLUX_IS_SKY_VIEW (self), FALSE);
+  if (self->data == NULL || isnan (self->lo))
+    return FALSE;
+  *lo = self->lo;
+  *hi = self->hi;
+  return TRUE;
+}
+
+void
+efflux_sky_view_widget_to_pixel (EffluxSkyView *self,
+                                 double         wx,
+                                 double         wy,
+                                 double        *px,
+                                 double        *py)
+{
+  *px = self->cx + (wx - gtk_widget_get_width (GTK_WIDGET (self)) / 2.0) / self->zoom;
+  *py = self->cy - (wy - gtk_widget_get_height (GTK_WIDGET (self)) / 2.0) / self->zoom;
+}
+
+void
+efflux_sky_view_pixel_to_widget (EffluxSkyView *self,
+                                 double         px,
+                                 double         py,
+                                 double        *wx,
+                                 double        *wy)
+{
+  *wx = gtk_widget_get_width (GTK_WIDGET (self)) / 2.0 + (px - self->cx) * self->zoom;
+  *wy = gtk_widget_get_height (GTK_WIDGET (self)) / 2.0 - (py - self->cy) * self->zoom;
+}
+
+/* ---- readout ---- */
+
+static void
+update_readout_text (EffluxSkyView *self)
+{
+  const EffluxSkyReadout *r = &self->readout;
+  g_autoptr(GString) s = g_string_new (NULL);
+
+  if (r->inside)
+    {
+      if (r->has_position)
+        {
+          g_autofree char *ra = efflux_skygrid_format_ra (r->ra_deg, 0.001);
+          g_autofree char *dec = efflux_skygrid_format_dec (r->dec_deg, 0.01);
+
+          /* Translators: RA and Dec of the pixel under the pointer */
+          g_string_append_printf (s, _("RA %s  Dec %s"), ra, dec);
+        }
+      if (r->has_offset)
+        {
+          g_autofree char *e = efflux_skygrid_format_offset (r->east_arcsec, 0.01);
+          g_autofree char *n = efflux_skygrid_format_offset (r->north_arcsec, 0.01);
+
+          g_string_append (s, "   ");
+          /* Translators: offset east and north of the source */
+          g_string_append_printf (s, _("%s E, %s N of the source"), e, n);
+        }
+      g_string_append (s, "   ");
+      /* Translators: the 0-based pixel under the pointer */
+      g_string_append_printf (s, _("pixel %zd, %zd"), r->x, r->y);
+      g_string_append (s, "   ");
+      if (isnan (r->value))
+        g_string_append (s, _("blank"));
+      else
+        g_string_append_printf (s, "%.5g %s", r->value, self->unit ? self->unit : "");
+    }
+  if (g_strcmp0 (s->str, self->readout_text) == 0)
+    return;
+  g_free (self->readout_text);
+  self->readout_text = g_string_free (g_steal_pointer (&s), FALSE);
+  g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_READOUT]);
+}
+
+void
+efflux_sky_view_point_at (EffluxSkyView *self,
+                          double         wx,
+                          double         wy)
+{
+  EffluxSkyReadout *r = &self->readout;
+  double px, py;
+
+  g_return_if_fail (EFFLUX_IS_SKY_VIEW (self));
+
+  self->pointer_x = wx;
+  self->pointer_y = wy;
+  memset (r, 0, sizeof *r);
+  r->value = NAN;
+  if (self->data != NULL && !isnan (wx) && !isnan (wy))
+    {
+      efflux_sky_view_widget_to_pixel (self, wx, wy, &px, &py);
+      px = floor (px + 0.5);
+      py = floor (py + 0.5);
+      if (px >= 0 && py >= 0 && px < self->width && py < self->height)
+        {
+          r->inside = TRUE;
+          r->x = (gssize) px;
+          r->y = (gssize) py;
+          r->value = self->data[(gsize) r->y * self->width + (gsize) r->x];
+          if (self->cube != NULL && self->cube->sky != NULL)
+            r->has_position = efflux_cube_pixel_to_icrs (self->cube, px, py, &r->ra_deg, &r->dec_deg);
+          if (r->has_position && self->has_source)
+            r->has_offset = efflux_skygrid_offsets_from_icrs (self->src_ra, self->src_dec,
+                                                              r->ra_deg, r->dec_deg,
+                                                              &r->east_arcsec, &r->north_arcsec);
+        }
+    }
+  update_readout_text (self);
+}
+
+const char *
+efflux_sky_view_get_readout (EffluxSkyView *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_SKY_VIEW (self), NULL);
+  return self->readout_text ? self->readout_text : "";
+}
+
+void
+efflux_sky_view_get_readout_values (EffluxSkyView    *self,
+                                    EffluxSkyReadout *readout)
+{
+  g_return_if_fail (EFFLUX_IS_SKY_VIEW (self));
+  *readout = self->readout;
+}
+
+/* ---- the map ---- */
+
+void
+efflux_sky_view_set_map (EffluxSkyView    *self,
+                         const EffluxCube *cube,
+                         const float      *data,
+                         gsize             width,
+                         gsize             height,
+                         const char       *unit)
+{
+  gboolean had = self->data != NULL;
+
+  g_return_if_fail (EFFLUX_IS_SKY_VIEW (self));
+  g_return_if_fail (data != NULL && width > 0 && height > 0);
+
+  g_free (self->data);
+  self->data = g_memdup2 (data, width * height * sizeof (float));
+  self->width = width;
+  self->height = height;
+  self->cube = cube;
+  g_free (self->unit);
+  self->unit = g_strdup (unit);
+  recolour (self);
+  efflux_sky_view_zoom_fit (self);
+  efflux_sky_view_point_at (self, self->pointer_x, self->pointer_y);
+  if (!had)
+    g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_HAS_MAP]);
+}
+
+void
+efflux_sky_view_clear (EffluxSkyView *self)
+{
+  g_return_if_fail (EFFLUX_IS_SKY_VIEW (self));
+
+  if (self->data == NULL)
+    return;
+  g_clear_pointer (&self->data, g_free);
+  g_clear_pointer (&self->rgba, g_free);
+  self->cube = NULL;
+  self->width = self->height = 0;
+  invalidate (self);
+  efflux_sky_view_point_at (self, NAN, NAN);
+  g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_HAS_MAP]);
+}
+
+gboolean
+efflux_sky_view_has_map (EffluxSkyView *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_SKY_VIEW (self), FALSE);
+  return self->data != NULL;
+}
+
+void
+efflux_sky_view_set_source (EffluxSkyView *self,
+                            double         ra_deg,
+                            double         dec_deg,
+                            double         distance_pc)
+{
+  g_return_if_fail (EFFLUX_IS_SKY_VIEW (self));
+  self->has_source = isfinite (ra_deg) && isfinite (dec_deg);
+  self->src_ra = ra_deg;
+  self->src_dec = dec_deg;
+  self->distance_pc = distance_pc;
+  invalidate (self);
+  efflux_sky_view_point_at (self, self->pointer_x, self->pointer_y);
+}
+
+void
+efflux_sky_view_unset_source (EffluxSkyView *self)
+{
+  g_return_if_fail (EFFLUX_IS_SKY_VIEW (self));
+  self->has_source = FALSE;
+  self->distance_pc = NAN;
+  invalidate (self);
+}
+
+/* ---- drawing ---- */
+
+/* The visible part of the map, resampled nearest-neighbour at the device resolution into a
+ * memory texture (GTK 4.8 scales textures with linear filtering only: drawing the texture 1:1
+ * keeps every map pixel a sharp block at any zoom). */
+static void
+append_image (EffluxSkyView *self,
+              GtkSnapshot   *snapshot,
+              int            w,
+              int            h)
+{
+  int scale = gtk_widget_get_scale_factor (GTK_WIDGET (self));
+  double left, top, right, bottom;
+  int vx0, vy0, vx1, vy1, tw, th;
+  g_autoptr(GBytes) bytes = NULL;
+  g_autoptr(GdkTexture) texture = NULL;
+  g_autofree gssize *columns = NULL;
+  guint8 *pixels;
+
+  efflux_sky_view_pixel_to_widget (self, -0.5, self->height - 0.5, &left, &top);
+  efflux_sky_view_pixel_to_widget (self, self->width - 0.5, -0.5, &right, &bottom);
+  vx0 = (int) floor (MAX (left, 0.0));
+  vy0 = (int) floor (MAX (top, 0.0));
+  vx1 = (int) ceil (MIN (right, (double) w));
+  vy1 = (int) ceil (MIN (bottom, (double) h));
+  if (vx1 <= vx0 || vy1 <= vy0)
+    return;
+  tw = (vx1 - vx0) * scale;
+  th = (vy1 - vy0) * scale;
+
+  pixels = g_malloc ((gsize) tw * th * 4);
+  columns = g_new (gssize, tw);
+  for (int i = 0; i < tw; i++)
+    {
+      double px, py;
+
+      efflux_sky_view_widget_to_pixel (self, vx0 + (i + 0.5) / scale, 0, &px, &py);
+      px = floor (px + 0.5);
+      columns[i] = (px >= 0 && px < self->width) ? (gssize) px : -1;
+    }
+  for (int j = 0; j < th; j++)
+    {
+      guint8 *row = pixels + (gsize) j * tw * 4;
+      double px, py;
+      gssize y;
+
+      efflux_sky_view_widget_to_pixel (self, 0, vy0 + (j + 0.5) / scale, &px, &py);
+      py = floor (py + 0.5);
+      y = (py >= 0 && py < self->height) ? (gssize) py : -1;
+      for (int i = 0; i < tw; i++)
+        {
+          if (y < 0 || columns[i] < 0)
+            {
+              memset (row + 4 * i, 0, 4);
+              continue;
+            }
+          memcpy (row + 4 * i, self->rgba + ((gsize) y * self->width + (gsize) columns[i]) * 4, 4);
+        }
+    }
+  bytes = g_bytes_new_take (pixels, (gsize) tw * th * 4);
+  /* the tables hold opaque colours or fully transparent blanks: premultiplied as they are */
+  texture = gdk_memory_texture_new (tw, th, GDK_MEMORY_R8G8B8A8_PREMULTIPLIED, bytes, (gsize) tw * 4);
+  gtk_snapshot_append_texture (snapshot, texture,
+                               &GRAPHENE_RECT_INIT (vx0, vy0, vx1 - vx0, vy1 - vy0));
+}
+
+static void
+draw_label (EffluxSkyView *self,
+            cairo_t       *cr,
+            const char    *text,
+            double         x,
+            double         y,
+            double         xalign,
+            double         yalign)
+{
+  g_autoptr(PangoLayout) layout = gtk_widget_create_pango_layout (GTK_WIDGET (self), text);
+  int lw, lh;
+  double bx, by;
+
+  pango_layout_get_pixel_size (layout, &lw, &lh);
+  bx = round (x - xalign * (lw + 6));
+  by = round (y - yalign * (lh + 2));
+  cairo_set_source_rgba (cr, 0.0, 0.0, 0.0, 0.6);
+  cairo_rectangle (cr, bx, by, lw + 6, lh + 2);
+  cairo_fill (cr);
+  cairo_set_source_rgba (cr, 1.0, 1.0, 1.0, 0.95);
+  cairo_move_to (cr, bx + 3, by + 1);
+  pango_cairo_show_layout (cr, layout);
+}
+
+static void
+draw_grid (EffluxSkyView *self,
+           cairo_t       *cr,
+           int            w,
+           int            h)
+{
+  g_autoptr(EffluxSkyGrid) grid = NULL;
+  double x0, y0, x1, y1;
+
+  if (self->grid < 0 || self->cube == NULL || self->cube->sky == NULL)
+    return;
+  /* the visible region of the map, in map pixels */
+  efflux_sky_view_widget_to_pixel (self, 0, h, &x0, &y0);
+  efflux_sky_view_widget_to_pixel (self, w, 0, &x1, &y1);
+  x0 = MAX (x0, -0.5);
+  y0 = MAX (y0, -0.5);
+  x1 = MIN (x1, self->width - 0.5);
+  y1 = MIN (y1, self->height - 0.5);
+  if (x1 <= x0 || y1 <= y0)
+    return;
+  grid = efflux_skygrid_new (self->cube, x0, y0, x1, y1, (EffluxSkyGridStyle) self->grid,
+                             self->src_ra, self->src_dec, GRID_LINES);
+  if (grid == NULL)
+    return;
+
+  {
+    double cx0, cy0, cx1, cy1;
+
+    /* clip the lines to the map */
+    efflux_sky_view_pixel_to_widget (self, x0, y1, &cx0, &cy0);
+    efflux_sky_view_pixel_to_widget (self, x1, y0, &cx1, &cy1);
+    cairo_save (cr);
+    cairo_rectangle (cr, cx0, cy0, cx1 - cx0, cy1 - cy0);
+    cairo_clip (cr);
+    cairo_set_line_width (cr, 1.0);
+    cairo_set_source_rgba (cr, 1.0, 1.0, 1.0, 0.35);
+    for (guint i = 0; i < grid->lines->len; i++)
+      {
+        EffluxSkyGridLine *line = g_ptr_array_index (grid->lines, i);
+        const double *p = (const double *) line->points->data;
+        gboolean pen_down = FALSE;
+
+        for (guint k = 0; k < line->points->len / 2; k++)
+          {
+            double wx, wy;
+
+            if (isnan (p[2 * k]))
+              {
+                pen_down = FALSE;
+                continue;
+              }
+            efflux_sky_view_pixel_to_widget (self, p[2 * k], p[2 * k + 1], &wx, &wy);
+            if (pen_down)
+              cairo_line_to (cr, wx, wy);
+            else
+              cairo_move_to (cr, wx, wy);
+            pen_down = TRUE;
+          }
+      }
+    cairo_stroke (cr);
+
+    /* labels: RA (or east offset) along the bottom edge, Dec (or north offset) along the left */
+    for (guint i = 0; i < grid->lines->len; i++)
+      {
+        EffluxSkyGridLine *line = g_ptr_array_index (grid->lines, i);
+        double wx, wy;
+
+        if (!line->has_anchor)
+          continue;
+        efflux_sky_view_pixel_to_widget (self, line->anchor_x, line->anchor_y, &wx, &wy);
+        if (line->longitude)
+          draw_label (self, cr, line->label, wx, wy - 2, 0.5, 1.0);
+        else
+          draw_label (self, cr, line->label, wx + 2, wy, 0.0, 0.5);
+      }
+    cairo_restore (cr);
+  }
+}
+
+/* Per-arcsec pixel displacements towards north and east at the map centre, from the WCS (this
+ * follows any rotation or flip of the grid). */
+static gboolean
+north_east_vectors (EffluxSkyView *self,
+                    double         north[2],
+                    double         east[2])
+{
+  const double step = 1.0; /* arcsec */
+  double ra, dec, x0, y0, x1, y1, x2, y2;
+  double cxp = (self->width - 1.0) / 2.0, cyp = (self->height - 1.0) / 2.0;
+
+  if (self->cube == NULL || self->cube->sky == NULL
+      || !efflux_cube_pixel_to_icrs (self->cube, cxp, cyp, &ra, &dec)
+      || !efflux_cube_icrs_to_pixel (self->cube, ra, dec, &x0, &y0)
+      || !efflux_cube_icrs_to_pixel (self->cube, ra, dec + step / 3600.0, &x1, &y1)
+      || !efflux_cube_icrs_to_pixel (self->cube, ra + step / 3600.0 / cos (dec * G_PI / 180.0), dec,
+                                     &x2, &y2))
+    return FALSE;
+  north[0] = (x1 - x0) / step;
+  north[1] = (y1 - y0) / step;
+  east[0] = (x2 - x0) / step;
+  east[1] = (y2 - y0) / step;
+  return TRUE;
+}
+
+/* The beam ellipse (FWHM; position angle east of north) in the lower-left corner. */
+static void
+draw_beam (EffluxSkyView *self,
+           cairo_t       *cr,
+           int            w,
+           int            h)
+{
+  double north[2], east[2];
+  double a, b, pa, pts[65][2], xmin = G_MAXDOUBLE, xmax = -G_MAXDOUBLE, ymin = G_MAXDOUBLE,
+         ymax = -G_MAXDOUBLE, ox, oy;
+
+  if (self->cube == NULL || !self->cube->has_beam || !north_east_vectors (self, north, east))
+    return;
+  a = self->cube->bmaj_arcsec / 2.0;
+  b = self->cube->bmin_arcsec / 2.0;
+  pa = self->cube->bpa_deg * G_PI / 180.0;
+  for (int i = 0; i <= 64; i++)
+    {
+      double t = 2.0 * G_PI * i / 64.0;
+      double u = a * cos (t), v = b * sin (t);
+      /* along the major axis: cos(pa) N + sin(pa) E; the minor axis: -sin(pa) N + cos(pa) E */
+      double n = u * cos (pa) - v * sin (pa), e = u * sin (pa) + v * cos (pa);
+      double px = n * north[0] + e * east[0], py = n * north[1] + e * east[1];
+
+      pts[i][0] = px * self->zoom;
+      pts[i][1] = -py * self->zoom;
+      xmin = MIN (xmin, pts[i][0]);
+      xmax = MAX (xmax, pts[i][0]);
+      ymin = MIN (ymin, pts[i][1]);
+      ymax = MAX (ymax, pts[i][1]);
+    }
+  if (xmax - xmin < 2.0 && ymax - ymin < 2.0)
+    return;
+  if (xmax - xmin > w / 3.0 || ymax - ymin > h / 3.0)
+    return;
+  ox = 14.0 - xmin;
+  oy = h - 14.0 - ymax;
+  cairo_save (cr);
+  cairo_set_source_rgba (cr, 0.0, 0.0, 0.0, 0.55);
+  cairo_rectangle (cr, ox + xmin - 6, oy + ymin - 6, xmax - xmin + 12, ymax - ymin + 12);
+  cairo_fill (cr);
+  cairo_move_to (cr, ox + pts[0][0], oy + pts[0][1]);
+  for (int i = 1; i <= 64; i++)
+    cairo_line_to (cr, ox + pts[i][0], oy + pts[i][1]);
+  cairo_close_path (cr);
+  cairo_set_source_rgba (cr, 1.0, 1.0, 1.0, 0.35);
+  cairo_fill_preserve (cr);
+  cairo_set_source_rgba (cr, 1.0, 1.0, 1.0, 0.95);
+  cairo_set_line_width (cr, 1.2);
+  cairo_stroke (cr);
+  cairo_restore (cr);
+}
+
+/* A scale bar in the lower-right corner: a round length in au (1, 2, 5 x 10^k) of about 120
+ * screen pixels; 1 arcsec at d pc spans d au (the definition of the parsec). */
+static void
+draw_scale_bar (EffluxSkyView *self,
+                cairo_t       *cr,
+                int            w,
+                int            h)
+{
+  double north[2], east[2], px_per_arcsec, au_per_px, want, decade, len_au, len_px;
+  g_autofree char *text = NULL;
+
+  if (!self->has_source || !(self->distance_pc > 0.0) || !north_east_vectors (self, north, east))
+    return;
+  px_per_arcsec = hypot (north[0], north[1]) * self->zoom;
+  au_per_px = self->distance_pc / px_per_arcsec;
+  want = 120.0 * au_per_px;
+  decade = pow (10.0, floor (log10 (want)));
+  len_au = (want >= 5 * decade) ? 5 * decade : (want >= 2 * decade) ? 2 * decade : decade;
+  len_px = len_au / au_per_px;
+  if (len_px > w / 2.0 || len_px < 10.0)
+    return;
+
+  /* Translators: a length in astronomical units on the scale bar */
+  text = g_strdup_printf (_("%g au"), len_au);
+  cairo_save (cr);
+  cairo_set_source_rgba (cr, 0.0, 0.0, 0.0, 0.55);
+  cairo_rectangle (cr, w - 20 - len_px - 6, h - 44, len_px + 12, 34);
+  cairo_fill (cr);
+  cairo_set_source_rgba (cr, 1.0, 1.0, 1.0, 0.95);
+  cairo_set_line_width (cr, 2.0);
+  cairo_move_to (cr, w - 20 - len_px, h - 16.0);
+  cairo_line_to (cr, w - 20, h - 16.0);
+  cairo_move_to (cr, w - 20 - len_px, h - 20.0);
+  cairo_line_to (cr, w - 20 - len_px, h - 12.0);
+  cairo_move_to (cr, w - 20, h - 20.0);
+  cairo_line_to (cr, w - 20, h - 12.0);
+  cairo_stroke (cr);
+  cairo_restore (cr);
+  {
+    g_autoptr(PangoLayout) layout = gtk_widget_create_pango_layout (GTK_WIDGET (self), text);
+    int lw, lh;
+
+    pango_layout_get_pixel_size (layout, &lw, &lh);
+    cairo_set_source_rgba (cr, 1.0, 1.0, 1.0, 0.95);
+    cairo_move_to (cr, round (w - 20 - len_px / 2 - lw / 2.0), h - 22 - lh);
+    pango_cairo_show_layout (cr, layout);
+  }
+}
+
+/* The source marker: an open cross with a dark outline so that it reads on any colour. */
+static void
+draw_source (EffluxSkyView *self,
+             cairo_t       *cr)
+{
+  double px, py, wx, wy;
+
+  if (!self->has_source || self->cube == NULL || self->cube->sky == NULL
+      || !efflux_cube_icrs_to_pixel (self->cube, self->src_ra, self->src_dec, &px, &py))
+    return;
+  efflux_sky_view_pixel_to_widget (self, px, py, &wx, &wy);
+  cairo_save (cr);
+  for (int pass = 0; pass < 2; pass++)
+    {
+      cairo_set_line_width (cr, pass == 0 ? 4.0 : 2.0);
+      if (pass == 0)
+        cairo_set_source_rgba (cr, 0.0, 0.0, 0.0, 0.7);
+      else
+        cairo_set_source_rgba (cr, 1.0, 0.95, 0.6, 1.0);
+      cairo_move_to (cr, wx - 12, wy);
+      cairo_line_to (cr, wx - 4, wy);
+      cairo_move_to (cr, wx + 4, wy);
+      cairo_line_to (cr, wx + 12, wy);
+      cairo_move_to (cr, wx, wy - 12);
+      cairo_line_to (cr, wx, wy - 4);
+      cairo_move_to (cr, wx, wy + 4);
+      cairo_line_to (cr, wx, wy + 12);
+      cairo_stroke (cr);
+    }
+  cairo_restore (cr);
+}
+
+static GskRenderNode *
+build_scene (EffluxSkyView *self,
+             int            w,
+             int            h)
+{
+  GtkSnapshot *snapshot = gtk_snapshot_new ();
+  cairo_t *cr;
+
+  append_image (self, snapshot, w, h);
+  cr = gtk_snapshot_append_cairo (snapshot, &GRAPHENE_RECT_INIT (0, 0, w, h));
+  draw_grid (self, cr, w, h);
+  draw_source (self, cr);
+  draw_beam (self, cr, w, h);
+  draw_scale_bar (self, cr, w, h);
+  cairo_destroy (cr);
+  return gtk_snapshot_free_to_node (snapshot);
+}
+
+static void
+efflux_sky_view_snapshot (GtkWidget   *widget,
+                          GtkSnapshot *snapshot)
+{
+  EffluxSkyView *self = EFFLUX_SKY_VIEW (widget);
+  int w = gtk_widget_get_width (widget);
+  int h = gtk_widget_get_height (widget);
+
+  if (w <= 0 || h <= 0 || self->rgba == NULL)
+    return;
+  if (self->node == NULL)
+    self->node = build_scene (self, w, h);
+  if (self->node != NULL)
+    gtk_snapshot_append_node (snapshot, self->node);
+}
+
+static void
+efflux_sky_view_measure (GtkWidget      *widget,
+                         GtkOrientation  orientation,
+                         int             for_size,
+                         int            *minimum,
+                         int            *natural,
+                         int            *minimum_baseline,
+                         int            *natural_baseline)
+{
+  *minimum = 120;
+  *natural = orientation == GTK_ORIENTATION_HORIZONTAL ? 640 : 480;
+}
+
+static void
+efflux_sky_view_size_allocate (GtkWidget *widget,
+                               int        width,
+                               int        height,
+                               int        baseline)
+{
+  EffluxSkyView *self = EFFLUX_SKY_VIEW (widget);
+
+  if (self->fitted && self->data != NULL)
+    efflux_sky_view_zoom_fit (self);
+  else
+    invalidate (self);
+}
+
+/* ---- input ---- */
+
+static void
+motion_cb (GtkEventControllerMotion *controller,
+           double                    x,
+           double                    y,
+           EffluxSkyView            *self)
+{
+  efflux_sky_view_point_at (self, x, y);
+}
+
+static void
+leave_cb (GtkEventControllerMotion *controller,
+          EffluxSkyView            *self)
+{
+  efflux_sky_view_point_at (self, NAN, NAN);
+}
+
+static gboolean
+scroll_cb (GtkEventControllerScroll *controller,
+           double                    dx,
+           double                    dy,
+           EffluxSkyView            *self)
+{
+  double wx = self->pointer_x, wy = self->pointer_y;
+
+  if (self->data == NULL)
+    return FALSE;
+  if (isnan (wx) || isnan (wy))
+    {
+      wx = gtk_widget_get_width (GTK_WIDGET (self)) / 2.0;
+      wy = gtk_widget_get_height (GTK_WIDGET (self)) / 2.0;
+    }
+  zoom_about (self, pow (ZOOM_STEP, -dy), wx, wy);
+  return TRUE;
+}
+
+static void
+drag_begin_cb (GtkGestureDrag *gesture,
+               double          x,
+               double          y,
+               EffluxSkyView  *self)
+{
+  if (self->data == NULL)
+    {
+      gtk_gesture_set_state (GTK_GESTURE (gesture), GTK_EVENT_SEQUENCE_DENIED);
+      return;
+    }
+  self->drag_cx = self->cx;
+  self->drag_cy = self->cy;
+  gtk_widget_grab_focus (GTK_WIDGET (self));
+  gtk_widget_set_cursor_from_name (GTK_WIDGET (self), "grabbing");
+}
+
+static void
+drag_update_cb (GtkGestureDrag *gesture,
+                double          ox,
+                double          oy,
+                EffluxSkyView  *self)
+{
+  self->fitted = FALSE;
+  self->cx = self->drag_cx - ox / self->zoom;
+  self->cy = self->drag_cy + oy / self->zoom;
+  invalidate (self);
+}
+
+static void
+drag_end_cb (GtkGestureDrag *gesture,
+             double          ox,
+             double          oy,
+             EffluxSkyView  *self)
+{
+  gtk_widget_set_cursor_from_name (GTK_WIDGET (self), "crosshair");
+}
+
+static void
+zoom_action (GtkWidget  *widget,
+             const char *action_name,
+             GVariant   *parameter)
+{
+  EffluxSkyView *self = EFFLUX_SKY_VIEW (widget);
+
+  if (g_str_equal (action_name, "sky.zoom-in"))
+    efflux_sky_view_zoom_in (self);
+  else if (g_str_equal (action_name, "sky.zoom-out"))
+    efflux_sky_view_zoom_out (self);
+  else
+    efflux_sky_view_zoom_fit (self);
+}
+
+/* ---- properties ---- */
+
+static void
+efflux_sky_view_get_property (GObject    *object,
+                              guint       prop_id,
+                              GValue     *value,
+                              GParamSpec *pspec)
+{
+  EffluxSkyView *self = EFFLUX_SKY_VIEW (object);
+
+  switch (prop_id)
+    {
+    case PROP_COLORMAP:
+      g_value_set_string (value, efflux_colormap_kind_to_string (self->colormap));
+      break;
+    case PROP_STRETCH:
+      g_value_set_string (value, efflux_stretch_kind_to_string (self->stretch));
+      break;
+    case PROP_LIMITS:
+      g_value_set_double (value, self->limits);
+      break;
+    case PROP_GRID:
+      g_value_set_string (value, self->grid < 0 ? "none" : grid_names[self->grid]);
+      break;
+    case PROP_ZOOM:
+      g_value_set_double (value, self->zoom);
+      break;
+    case PROP_READOUT:
+      g_value_set_string (value, efflux_sky_view_get_readout (self));
+      break;
+    case PROP_HAS_MAP:
+      g_value_set_boolean (value, self->data != NULL);
+      break;
+    default:
+      G_OBJECT_WARN_INVALID_PROPERTY_ID (object, prop_id, pspec);
+    }
+}
+
+static void
+efflux_sky_view_set_property (GObject      *object,
+                              guint         prop_id,
+                              const GValue *value,
+                              GParamSpec   *pspec)
+{
+  EffluxSkyView *self = EFFLUX_SKY_VIEW (object);
+
+  switch (prop_id)
+    {
+    case PROP_COLORMAP:
+      {
+        EffluxColormapKind kind;
+
+        if (!efflux_colormap_kind_from_string (g_value_get_string (value), &kind))
+          {
+            g_warning ("unknown colour map '%s'", g_value_get_string (value));
+            return;
+          }
+        if (kind == self->colormap)
+          return;
+        self->colormap = kind;
+        recolour (self);
+        g_object_notify_by_pspec (object, pspec);
+      }
+      break;
+    case PROP_STRETCH:
+      {
+        EffluxStretchKind kind;
+
+        if (!efflux_stretch_kind_from_string (g_value_get_string (value), &kind))
+          {
+            g_warning ("unknown stretch '%s'", g_value_get_string (value));
+            return;
+          }
+        if (kind == self->stretch)
+          return;
+        self->stretch = kind;
+        recolour (self);
+        g_object_notify_by_pspec (object, pspec);
+      }
+      break;
+    case PROP_LIMITS:
+      if (g_value_get_double (value) == self->limits)
+        return;
+      self->limits = g_value_get_double (value);
+      recolour (self);
+      g_object_notify_by_pspec (object, pspec);
+      break;
+    case PROP_GRID:
+      {
+        const char *name = g_value_get_string (value);
+        int grid = -1;
+
+        for (int i = 0; i < (int) G_N_ELEMENTS (grid_names); i++)
+          if (g_strcmp0 (name, grid_names[i]) == 0)
+            grid = i;
+        if (grid < 0 && g_strcmp0 (name, "none") != 0)
+          {
+            g_warning ("unknown grid style '%s'", name);
+            return;
+          }
+        if (grid == self->grid)
+          return;
+        self->grid = grid;
+        invalidate (self);
+        g_object_notify_by_pspec (object, pspec);
+      }
+      break;
+    default:
+      G_OBJECT_WARN_INVALID_PROPERTY_ID (object, prop_id, pspec);
+    }
+}
+
+static void
+efflux_sky_view_finalize (GObject *object)
+{
+  EffluxSkyView *self = EFFLUX_SKY_VIEW (object);
+
+  g_clear_pointer (&self->node, gsk_render_node_unref);
+  g_free (self->data);
+  g_free (self->rgba);
+  g_free (self->unit);
+  g_free (self->readout_text);
+  G_OBJECT_CLASS (efflux_sky_view_parent_class)->finalize (object);
+}
+
+static void
+efflux_sky_view_class_init (EffluxSkyViewClass *klass)
+{
+  GObjectClass *object_class = G_OBJECT_CLASS (klass);
+  GtkWidgetClass *widget_class = GTK_WIDGET_CLASS (klass);
+
+  object_class->finalize = efflux_sky_view_finalize;
+  object_class->get_property = efflux_sky_view_get_property;
+  object_class->set_property = efflux_sky_view_set_property;
+  widget_class->snapshot = efflux_sky_view_snapshot;
+  widget_class->measure = efflux_sky_view_measure;
+  widget_class->size_allocate = efflux_sky_view_size_allocate;
+
+  properties[PROP_COLORMAP] =
+    g_param_spec_string ("colormap", NULL, NULL, "cubehelix",
+                         G_PARAM_READWRITE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
+  properties[PROP_STRETCH] =
+    g_param_spec_string ("stretch", NULL, NULL, "linear",
+                         G_PARAM_READWRITE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
+  properties[PROP_LIMITS] =
+    g_param_spec_double ("limits", NULL, NULL, 50.0, 100.0, 99.5,
+                         G_PARAM_READWRITE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
+  properties[PROP_GRID] =
+    g_param_spec_string ("grid", NULL, NULL, "sexagesimal",
+                         G_PARAM_READWRITE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
+  properties[PROP_ZOOM] =
+    g_param_spec_double ("zoom", NULL, NULL, 0.0, G_MAXDOUBLE, 1.0,
+                         G_PARAM_READABLE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
+  properties[PROP_READOUT] =
+    g_param_spec_string ("readout", NULL, NULL, "",
+                         G_PARAM_READABLE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
+  properties[PROP_HAS_MAP] =
+    g_param_spec_boolean ("has-map", NULL, NULL, FALSE,
+                          G_PARAM_READABLE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
+  g_object_class_install_properties (object_class, N_PROPS, properties);
+
+  gtk_widget_class_install_action (widget_class, "sky.zoom-in", NULL, zoom_action);
+  gtk_widget_class_install_action (widget_class, "sky.zoom-out", NULL, zoom_action);
+  gtk_widget_class_install_action (widget_class, "sky.zoom-fit", NULL, zoom_action);
+  gtk_widget_class_add_binding_action (widget_class, GDK_KEY_plus, 0, "sky.zoom-in", NULL);
+  gtk_widget_class_add_binding_action (widget_class, GDK_KEY_KP_Add, 0, "sky.zoom-in", NULL);
+  gtk_widget_class_add_binding_action (widget_class, GDK_KEY_minus, 0, "sky.zoom-out", NULL);
+  gtk_widget_class_add_binding_action (widget_class, GDK_KEY_KP_Subtract, 0, "sky.zoom-out", NULL);
+  gtk_widget_class_add_binding_action (widget_class, GDK_KEY_f, 0, "sky.zoom-fit", NULL);
+
+  gtk_widget_class_set_css_name (widget_class, "efflux-sky-view");
+}
+
+static void
+efflux_sky_view_init (EffluxSkyView *self)
+{
+  GtkEventController *motion = gtk_event_controller_motion_new ();
+  GtkEventController *scroll =
+    gtk_event_controller_scroll_new (GTK_EVENT_CONTROLLER_SCROLL_VERTICAL);
+  GtkGesture *drag = gtk_gesture_drag_new ();
+
+  self->colormap = EFFLUX_COLORMAP_CUBEHELIX;
+  self->stretch = EFFLUX_STRETCH_LINEAR;
+  self->limits = 99.5;
+  self->grid = EFFLUX_SKYGRID_SEXAGESIMAL;
+  self->zoom = 1.0;
+  self->fitted = TRUE;
+  self->pointer_x = self->pointer_y = NAN;
+  self->distance_pc = NAN;
+  self->lo = self->hi = NAN;
+  self->readout.value = NAN;
+
+  g_signal_connect (motion, "motion", G_CALLBACK (motion_cb), self);
+  g_signal_connect (motion, "leave", G_CALLBACK (leave_cb), self);
+  gtk_widget_add_controller (GTK_WIDGET (self), motion);
+  g_signal_connect (scroll, "scroll", G_CALLBACK (scroll_cb), self);
+  gtk_widget_add_controller (GTK_WIDGET (self), scroll);
+  g_signal_connect (drag, "drag-begin", G_CALLBACK (drag_begin_cb), self);
+  g_signal_connect (drag, "drag-update", G_CALLBACK (drag_update_cb), self);
+  g_signal_connect (drag, "drag-end", G_CALLBACK (drag_end_cb), self);
+  gtk_widget_add_controller (GTK_WIDGET (self), GTK_EVENT_CONTROLLER (drag));
+
+  gtk_widget_set_focusable (GTK_WIDGET (self), TRUE);
+  gtk_widget_set_cursor_from_name (GTK_WIDGET (self), "crosshair");
+  gtk_widget_set_hexpand (GTK_WIDGET (self), TRUE);
+  gtk_widget_set_vexpand (GTK_WIDGET (self), TRUE);
+  gtk_widget_set_overflow (GTK_WIDGET (self), GTK_OVERFLOW_HIDDEN);
+}
+
+GtkWidget *
+efflux_sky_view_new (void)
+{
+  return g_object_new (EFFLUX_TYPE_SKY_VIEW, NULL);
+}

@@ -1,0 +1,86 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+#pragma once
+
+#include <gtk/gtk.h>
+
+#include "efflux-cube.h"
+
+G_BEGIN_DECLS
+
+/* The Sky view: a float map on a cube's sky grid, drawn through a colour map and a stretch, with a
+ * coordinate grid, the beam, a scale bar in au and the source marker. Pan by dragging, zoom with
+ * the scroll wheel or the zoom functions. The readout under the pointer is the "readout" property.
+ *
+ * Properties: "colormap" (string: cubehelix, grey, velocity), "stretch" (string: linear, sqrt,
+ * log, asinh), "limits" (double: percent of the finite values between the display limits, e.g.
+ * 99.5), "grid" (string: sexagesimal, offsets, none), "zoom" (double, screen pixels per map pixel,
+ * read-only), "readout" (string, read-only), "has-map" (boolean, read-only). */
+
+#define EFFLUX_TYPE_SKY_VIEW (efflux_sky_view_get_type ())
+G_DECLARE_FINAL_TYPE (EffluxSkyView, efflux_sky_view, EFFLUX, SKY_VIEW, GtkWidget)
+
+typedef struct
+{
+  gboolean inside;          /* the point lies on a map pixel */
+  gssize   x, y;            /* that pixel, 0-based */
+  double   value;           /* the map's value there (NaN: blank) */
+  gboolean has_position;
+  double   ra_deg, dec_deg; /* ICRS position of the pixel centre */
+  gboolean has_offset;
+  double   east_arcsec;     /* offset of the pixel centre from the source (gnomonic, east and north) */
+  double   north_arcsec;
+} EffluxSkyReadout;
+
+GtkWidget  *efflux_sky_view_new            (void);
+
+/* Show width x height floats (copied; x fastest: data[y * width + x], y up as in FITS) on the
+ * sky grid of cube, which is borrowed: it must stay alive until the next set_map or clear. unit
+ * is the map's unit for the readout. */
+void        efflux_sky_view_set_map        (EffluxSkyView    *self,
+                                            const EffluxCube *cube,
+                                            const float      *data,
+                                            gsize             width,
+                                            gsize             height,
+                                            const char       *unit);
+void        efflux_sky_view_clear          (EffluxSkyView    *self);
+gboolean    efflux_sky_view_has_map        (EffluxSkyView    *self);
+
+/* The source position (ICRS degrees) and distance (pc; 0 or NaN: unknown, no scale bar in au). */
+void        efflux_sky_view_set_source     (EffluxSkyView    *self,
+                                            double            ra_deg,
+                                            double            dec_deg,
+                                            double            distance_pc);
+void        efflux_sky_view_unset_source   (EffluxSkyView    *self);
+
+void        efflux_sky_view_zoom_in        (EffluxSkyView    *self);
+void        efflux_sky_view_zoom_out       (EffluxSkyView    *self);
+/* Fit the whole map in the view (and keep fitting as the view is resized until the next zoom). */
+void        efflux_sky_view_zoom_fit       (EffluxSkyView    *self);
+double      efflux_sky_view_get_zoom       (EffluxSkyView    *self);
+
+/* The display limits in use (after the percentile choice). FALSE when there is no map. */
+gboolean    efflux_sky_view_get_limits     (EffluxSkyView    *self,
+                                            double           *lo,
+                                            double           *hi);
+
+/* Widget coordinates <-> 0-based map pixel coordinates (pixel centres at whole numbers). */
+void        efflux_sky_view_widget_to_pixel (EffluxSkyView   *self,
+                                             double           wx,
+                                             double           wy,
+                                             double          *px,
+                                             double          *py);
+void        efflux_sky_view_pixel_to_widget (EffluxSkyView   *self,
+                                             double           px,
+                                             double           py,
+                                             double          *wx,
+                                             double          *wy);
+
+/* Update the readout as the pointer at widget coordinates (wx, wy) does; NaN: the pointer left. */
+void        efflux_sky_view_point_at       (EffluxSkyView    *self,
+                                            double            wx,
+                                            double            wy);
+const char *efflux_sky_view_get_readout    (EffluxSkyView    *self);
+void        efflux_sky_view_get_readout_values (EffluxSkyView    *self,
+                                                EffluxSkyReadout *readout);
+
+G_END_DECLS
