@@ -727,13 +727,17 @@ lobe_spectrum (const EffluxDossier *d,
   row->lmech_err = row->energy_err / (row->tdyn_yr * EFFLUX_YR) / EFFLUX_LSUN;
 
   {
-    /* fits only where there is a positive, noise-weighted spectrum; zero errors mean unit weights */
+    /* Fits over the significant channels only: dM/dv at least 3 times its noise (all positive
+     * channels when the noise is zero, then with unit weights in log space). */
+    g_autofree double *sig = g_new (double, n);
     gboolean have_err = TRUE;
 
     for (guint j = 0; j < n; j++)
       if (!(s->dmdv_err[j] > 0))
         have_err = FALSE;
-    if (efflux_mvfit_single (s->v_offset_kms, s->dmdv, have_err ? s->dmdv_err : NULL, n, &single))
+    for (guint j = 0; j < n; j++)
+      sig[j] = (!have_err || s->dmdv[j] >= 3.0 * s->dmdv_err[j]) ? s->dmdv[j] : NAN;
+    if (efflux_mvfit_single (s->v_offset_kms, sig, have_err ? s->dmdv_err : NULL, n, &single))
       {
         row->mv_gamma = single.gamma;
         row->mv_gamma_err = single.gamma_err;
@@ -744,7 +748,7 @@ lobe_spectrum (const EffluxDossier *d,
             row->hidden_mass_err = hidden.mass_err_msun;
           }
       }
-    if (efflux_mvfit_broken (s->v_offset_kms, s->dmdv, have_err ? s->dmdv_err : NULL, n, &broken))
+    if (efflux_mvfit_broken (s->v_offset_kms, sig, have_err ? s->dmdv_err : NULL, n, &broken))
       {
         row->mv_break_kms = broken.vb_kms;
         row->mv_gamma_low = broken.gamma1;
@@ -940,9 +944,16 @@ efflux_measure_finish (EffluxMeasurePrep    *prep,
       total->mass_msun += row->mass_msun;
       total->momentum_msun_kms += row->momentum_msun_kms;
       total->energy_erg += row->energy_erg;
-      total->mdot_msun_yr += row->mdot_msun_yr;
-      total->force_msun_kms_yr += row->force_msun_kms_yr;
-      total->lmech_lsun += row->lmech_lsun;
+      /* a lobe without a detected voxel has no tdyn and adds no rate (a note says so) */
+      if (isfinite (row->tdyn_yr))
+        {
+          total->mdot_msun_yr += row->mdot_msun_yr;
+          total->force_msun_kms_yr += row->force_msun_kms_yr;
+          total->lmech_lsun += row->lmech_lsun;
+          tot_var[3] += row->mdot_err * row->mdot_err;
+          tot_var[4] += row->force_err * row->force_err;
+          tot_var[5] += row->lmech_err * row->lmech_err;
+        }
       if (isfinite (row->vmax_kms))
         total->vmax_kms = isnan (total->vmax_kms) ? row->vmax_kms : MAX (total->vmax_kms, row->vmax_kms);
       if (isfinite (row->rmax_au))
@@ -952,9 +963,6 @@ efflux_measure_finish (EffluxMeasurePrep    *prep,
       tot_var[0] += row->mass_err * row->mass_err;
       tot_var[1] += row->momentum_err * row->momentum_err;
       tot_var[2] += row->energy_err * row->energy_err;
-      tot_var[3] += row->mdot_err * row->mdot_err;
-      tot_var[4] += row->force_err * row->force_err;
-      tot_var[5] += row->lmech_err * row->lmech_err;
     }
   total->inclination_deg = w0.has_inclination ? w0.incl_rad * 180.0 / G_PI : NAN;
   total->mass_err = sqrt (tot_var[0]);
@@ -1006,7 +1014,7 @@ efflux_measure_finish (EffluxMeasurePrep    *prep,
                       if (isfinite (v[q]))
                         tot[q] = isnan (tot[q]) ? v[q] : MAX (tot[q], v[q]);
                     }
-                  else
+                  else if (isfinite (v[q]))
                     tot[q] += v[q];
                 }
             }

@@ -30,15 +30,17 @@ G_BEGIN_DECLS
  *   detected when T > 0 and T >= s x rms, s = clip-sigma, or 3 when clip-sigma is 0.
  * - Noise errors (*_err): every entering voxel carries the variance rms_k^2; variances add through
  *   the sums; tdyn is taken as exact, so mdot, force and lmech errors scale from mass, momentum
- *   and energy errors. The total row adds the lobes' variances.
+ *   and energy errors. The total row adds the lobes' variances. A lobe without any detected
+ *   voxel has empty vmax, rmax, tdyn and rates, and adds nothing to the total's rates.
  * - Inclination: fixed uses inclination-deg; range and random give the table value at the median
  *   of the inclination distribution ("the middle"), the Monte Carlo carries the spread. The
  *   distributions are those of efflux-sampling.h: range is uniform in i over [LO, HI], so its
  *   median is (LO + HI) / 2; random is isotropic (cos i uniform) over [5, 85] degrees, so its
  *   median is arccos((cos 5 + cos 85) / 2) = 57.20 degrees.
  * - The mass-velocity spectrum dM/dv = m_k / |dv| uses observed velocities |v - vsys| (no
- *   inclination correction). mv_gamma is the single power-law slope, mv_break_kms, mv_gamma_low
- *   and mv_gamma_high the broken power law (at least 5 channels). hidden_mass_msun integrates the
+ *   inclination correction). The fits (efflux-mvfit.h) use the channels where dM/dv is at least
+ *   3 times its noise. mv_gamma is the single power-law slope, mv_break_kms, mv_gamma_low and
+ *   mv_gamma_high the broken power law (at least 5 channels). hidden_mass_msun integrates the
  *   single power law over the excluded ambient range, from half a channel width to the lobe's
  *   inner velocity edge (its innermost channel's |v - vsys| minus half a channel): reported,
  *   never added.
