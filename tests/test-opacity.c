@@ -355,6 +355,31 @@ test_invalid (void)
     g_assert_false (fit->flags[2] & EFFLUX_RATIO_DETECTED);
     g_assert_cmpuint (fit->n_detected, ==, 3);
   }
+  {
+    g_autoptr(GError) error = NULL;
+    g_autoptr(EffluxRatioFit) fit = NULL;
+    double v[3] = { 1.0, 1.0, 1.0 }, s12[3] = { 20, 22, 24 }, s13[3] = { 2, 2, 2 };
+    double e[3] = { 0.1, 0.1, 0.1 };
+
+    double sw = 0.0, swr = 0.0;
+    guint k;
+
+    /* three detections at one velocity cannot fix a slope: a constant, their weighted mean with
+     * weights 1/sigma_R^2, sigma_R = R hypot(0.1/S12, 0.1/S13) */
+    fit = efflux_ratio_fit_new (v, s12, s13, e, e, 3, &params0, &error);
+    g_assert_no_error (error);
+    g_assert_cmpint (fit->order, ==, 0);
+    g_assert_nonnull (strstr (fit->message, "do not determine"));
+    for (k = 0; k < 3; k++)
+      {
+        double r = s12[k] / s13[k], sr = r * hypot (0.1 / s12[k], 0.1 / s13[k]);
+
+        sw += 1.0 / (sr * sr);
+        swr += r / (sr * sr);
+      }
+    g_assert_cmpfloat_with_epsilon (fit->coef[0], swr / sw, 1e-12);
+    g_assert_cmpfloat_with_epsilon (fit->cov[0][0], 1.0 / sw, 1e-15);
+  }
 }
 
 int

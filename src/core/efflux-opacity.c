@@ -226,9 +226,13 @@ efflux_ratio_fit_new (const double             *v_kms,
   if (fit->order < 0)
     note (msg, "13CO is not detected above %g sigma in any channel: no opacity correction",
           params->threshold_sigma);
-  else if (fit->order < params->max_order)
+  else if (fit->order < params->max_order && m <= (guint) params->max_order)
     note (msg, "only %u channel%s with 13CO above %g sigma: ratio fit of order %d instead of %d",
           m, m == 1 ? "" : "s", params->threshold_sigma, fit->order, params->max_order);
+  else if (fit->order < params->max_order)
+    note (msg, "the %u channels with 13CO above %g sigma do not determine a polynomial of order "
+          "%d (repeated velocities?): ratio fit of order %d", m, params->threshold_sigma,
+          params->max_order, fit->order);
 
   /* 3.-4. Evaluate, clamp, invert. */
   for (k = 0; k < n; k++)
