@@ -61,11 +61,16 @@ efflux_application_open (GApplication  *app,
                          const char    *hint)
 {
   EffluxApplication *self = EFFLUX_APPLICATION (app);
-  EffluxWindow *window = get_or_create_window (self);
 
+  /* `efflux FILE...`: the first file in the current window, every other one in its own window
+   * (a window shows one dossier or cube) */
   for (int i = 0; i < n_files; i++)
-    efflux_window_open (window, files[i]);
-  gtk_window_present (GTK_WINDOW (window));
+    {
+      EffluxWindow *window = i == 0 ? get_or_create_window (self) : efflux_window_new (self);
+
+      efflux_window_open (window, files[i]);
+      gtk_window_present (GTK_WINDOW (window));
+    }
 }
 
 static void

@@ -497,8 +497,17 @@ draw_grid (EffluxSkyView *self,
   y1 = MIN (y1, self->height - 0.5);
   if (x1 <= x0 || y1 <= y0)
     return;
-  grid = efflux_skygrid_new (self->cube, x0, y0, x1, y1, (EffluxSkyGridStyle) self->grid,
-                             self->src_ra, self->src_dec, GRID_LINES);
+  {
+    double ref_ra = self->src_ra, ref_dec = self->src_dec;
+
+    /* offsets are from the source, or from the map's centre when no source is known */
+    if (!self->has_source
+        && !efflux_cube_pixel_to_icrs (self->cube, (self->width - 1.0) / 2.0,
+                                       (self->height - 1.0) / 2.0, &ref_ra, &ref_dec))
+      return;
+    grid = efflux_skygrid_new (self->cube, x0, y0, x1, y1, (EffluxSkyGridStyle) self->grid,
+                               ref_ra, ref_dec, GRID_LINES);
+  }
   if (grid == NULL)
     return;
 

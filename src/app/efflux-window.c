@@ -28,6 +28,7 @@ struct _EffluxWindow
   GtkWidget       *loading_box;
   GtkWidget       *empty_box;
   EffluxSkyView   *sky_view;
+  GtkListBox      *sources_list;
 
   GCancellable    *cancellable;
   EffluxDossier   *dossier;
@@ -301,6 +302,76 @@ cancel_clicked (EffluxWindow *self)
     g_cancellable_cancel (self->cancellable);
 }
 
+/* ---- the Sources list: every dossier or cube opened in this window, with a short status ---- */
+
+static GtkListBoxRow *
+find_source_row (EffluxWindow *self,
+                 const char   *path)
+{
+  for (GtkWidget *child = gtk_widget_get_first_child (GTK_WIDGET (self->sources_list));
+       child != NULL; child = gtk_widget_get_next_sibling (child))
+    if (GTK_IS_LIST_BOX_ROW (child)
+        && g_strcmp0 (g_object_get_data (G_OBJECT (child), "efflux-path"), path) == 0)
+      return GTK_LIST_BOX_ROW (child);
+  return NULL;
+}
+
+static void
+show_source_row (EffluxWindow *self,
+                 const char   *path,
+                 const char   *name,
+                 const char   *detail)
+{
+  GtkListBoxRow *row = find_source_row (self, path);
+  GtkWidget *box, *title, *sub;
+
+  if (row == NULL)
+    {
+      row = GTK_LIST_BOX_ROW (gtk_list_box_row_new ());
+      g_object_set_data_full (G_OBJECT (row), "efflux-path", g_strdup (path), g_free);
+      gtk_widget_set_tooltip_text (GTK_WIDGET (row), path);
+      gtk_list_box_append (self->sources_list, GTK_WIDGET (row));
+    }
+  box = gtk_box_new (GTK_ORIENTATION_VERTICAL, 2);
+  title = gtk_label_new (name);
+  gtk_label_set_xalign (GTK_LABEL (title), 0.0);
+  gtk_label_set_ellipsize (GTK_LABEL (title), PANGO_ELLIPSIZE_END);
+  sub = gtk_label_new (detail);
+  gtk_label_set_xalign (GTK_LABEL (sub), 0.0);
+  gtk_label_set_ellipsize (GTK_LABEL (sub), PANGO_ELLIPSIZE_END);
+  gtk_widget_add_css_class (sub, "caption");
+  gtk_widget_add_css_class (sub, "dim-label");
+  gtk_box_append (GTK_BOX (box), title);
+  gtk_box_append (GTK_BOX (box), sub);
+  gtk_list_box_row_set_child (row, box);
+  gtk_list_box_select_row (self->sources_list, row);
+}
+
+static void
+source_activated (EffluxWindow  *self,
+                  GtkListBoxRow *row)
+{
+  const char *path = g_object_get_data (G_OBJECT (row), "efflux-path");
+  g_autoptr(GFile) file = NULL;
+
+  if (path == NULL)
+    return;
+  file = g_file_new_for_path (path);
+  efflux_window_open (self, file);
+}
+
+guint
+efflux_window_get_n_sources (EffluxWindow *self)
+{
+  guint n = 0;
+
+  g_return_val_if_fail (EFFLUX_IS_WINDOW (self), 0);
+  for (GtkWidget *child = gtk_widget_get_first_child (GTK_WIDGET (self->sources_list));
+       child != NULL; child = gtk_widget_get_next_sibling (child))
+    n += GTK_IS_LIST_BOX_ROW (child);
+  return n;
+}
+
 /* The cube the window shows first: the dossier's first tracer (else its first cube), and the
  * velocity range of the first lobe drawn on it. */
 static void
@@ -323,6 +394,18 @@ open_dossier (EffluxWindow *self,
   g_free (self->source_name);
   self->source_name = g_strdup (dossier->name);
   update_title (self);
+  {
+    /* Translators: the status of a source in the Sources list, e.g. "2 lobes, 3 cubes" */
+    g_autofree char *lobes = g_strdup_printf (g_dngettext (GETTEXT_PACKAGE, "%u lobe", "%u lobes",
+                                                           dossier->lobes->len),
+                                              dossier->lobes->len);
+    g_autofree char *cubes = g_strdup_printf (g_dngettext (GETTEXT_PACKAGE, "%u cube", "%u cubes",
+                                                           dossier->cubes->len),
+                                              dossier->cubes->len);
+    g_autofree char *detail = g_strdup_printf ("%s, %s", lobes, cubes);
+
+    show_source_row (self, path, dossier->name, detail);
+  }
 
   for (guint i = 0; i < dossier->cubes->len && shown == NULL; i++)
     {
@@ -377,6 +460,11 @@ efflux_window_open (EffluxWindow *self,
     }
   /* a bare cube: no dossier, no source */
   g_clear_pointer (&self->dossier, efflux_dossier_free);
+  {
+    g_autofree char *base = g_path_get_basename (path);
+
+    show_source_row (self, path, base, _("FITS cube, no dossier"));
+  }
   start_load (self, path, FALSE, 0, 0);
 }
 
@@ -571,6 +659,8 @@ efflux_window_class_init (EffluxWindowClass *klass)
   gtk_widget_class_bind_template_child (widget_class, EffluxWindow, loading_box);
   gtk_widget_class_bind_template_child (widget_class, EffluxWindow, empty_box);
   gtk_widget_class_bind_template_child (widget_class, EffluxWindow, sky_view);
+  gtk_widget_class_bind_template_child (widget_class, EffluxWindow, sources_list);
+  gtk_widget_class_bind_template_callback (widget_class, source_activated);
   gtk_widget_class_bind_template_callback (widget_class, cancel_clicked);
 
   gtk_widget_class_install_action (widget_class, "win.open", NULL, open_action);

@@ -21,6 +21,8 @@ gboolean      efflux_window_is_loading (EffluxWindow *self);
 const char   *efflux_window_get_status (EffluxWindow *self);
 /* The Sky view in the centre of the window. */
 EffluxSkyView *efflux_window_get_sky_view (EffluxWindow *self);
+/* Rows in the Sources list: the dossiers and cubes opened in this window. */
+guint         efflux_window_get_n_sources (EffluxWindow *self);
 /* The cube shown, or NULL before one is read. Owned by the window. */
 const EffluxCube *efflux_window_get_cube (EffluxWindow *self);
 

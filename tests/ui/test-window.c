@@ -128,6 +128,9 @@ test_demo_opens (void)
   g_assert_true (efflux_moment_map (cube, EFFLUX_MOMENT_0, lobe->v1_kms, lobe->v2_kms, 0.0, map, &error));
   g_assert_no_error (error);
 
+  /* the dossier is listed once among the window's sources */
+  g_assert_cmpuint (efflux_window_get_n_sources (window), ==, 1);
+
   view = efflux_window_get_sky_view (window);
   g_assert_true (efflux_sky_view_has_map (view));
   g_assert_nonnull (efflux_window_get_cube (window));
@@ -218,6 +221,18 @@ test_demo_opens (void)
   /* fit again */
   g_assert_true (gtk_widget_activate_action (GTK_WIDGET (window), "win.zoom-fit", NULL));
   g_assert_cmpfloat_with_epsilon (efflux_sky_view_get_zoom (view), z0, 1e-9);
+
+  /* offsets grid and the velocity colour map, drawn without a critical */
+  g_assert_true (gtk_widget_activate_action (GTK_WIDGET (window), "view.grid", "s", "offsets"));
+  g_assert_true (gtk_widget_activate_action (GTK_WIDGET (window), "view.colormap", "s", "velocity"));
+  g_assert_true (gtk_widget_activate_action (GTK_WIDGET (window), "view.stretch", "s", "linear"));
+  wait_for_frames (GTK_WIDGET (window), 2);
+  save_screenshot (GTK_WIDGET (window), "screenshot-window-offsets.png");
+
+  /* opening the same dossier again reuses its row */
+  efflux_window_open (window, file);
+  wait_until_loaded (window);
+  g_assert_cmpuint (efflux_window_get_n_sources (window), ==, 1);
 
   gtk_window_destroy (GTK_WINDOW (window));
 }
