@@ -445,6 +445,52 @@ test_linear_image (void)
   remove_file (path);
 }
 
+static char *
+read_date (const char *path)
+{
+  fitsfile *f = NULL;
+  int status = 0;
+  char value[FLEN_VALUE] = "";
+
+  g_assert_cmpint (fits_open_file (&f, path, READONLY, &status), ==, 0);
+  fits_read_key (f, TSTRING, "DATE", value, NULL, &status);
+  if (status == KEY_NO_EXIST)
+    {
+      status = 0;
+      fits_close_file (f, &status);
+      return NULL;
+    }
+  g_assert_cmpint (status, ==, 0);
+  fits_close_file (f, &status);
+  return g_strdup (value);
+}
+
+static void
+test_date (void)
+{
+  g_autoptr (EffluxCube) cube = make_cube (230.538e9, -3.0, 0.25);
+  g_autofree char *path = g_build_filename (tmpdir, "date.fits", NULL);
+  g_autoptr (GError) error = NULL;
+  g_autofree char *d1 = NULL;
+  g_autofree char *d2 = NULL;
+  g_autofree char *d3 = NULL;
+
+  /* SOURCE_DATE_EPOCH (reproducible-builds.org): 1700000000 s is 2023-11-14T22:13:20 UTC */
+  g_setenv ("SOURCE_DATE_EPOCH", "1700000000", TRUE);
+  g_assert_true (efflux_fits_write_cube (cube, path, NULL, &error));
+  g_unsetenv ("SOURCE_DATE_EPOCH");
+  d1 = read_date (path);
+  g_assert_cmpstr (d1, ==, "2023-11-14T22:13:20");
+  g_assert_true (efflux_fits_write_cube_with_date (cube, path, NULL, "", &error));
+  d2 = read_date (path);
+  g_assert_null (d2);
+  g_assert_true (efflux_fits_write_cube_with_date (cube, path, NULL, "2026-01-02T03:04:05", &error));
+  d3 = read_date (path);
+  g_assert_cmpstr (d3, ==, "2026-01-02T03:04:05");
+  g_assert_no_error (error);
+  remove_file (path);
+}
+
 int
 main (int    argc,
       char **argv)
@@ -463,6 +509,7 @@ main (int    argc,
   g_test_add_func ("/fitsout/unwritable-directory", test_unwritable_directory);
   g_test_add_func ("/fitsout/sky-image", test_sky_image);
   g_test_add_func ("/fitsout/linear-image", test_linear_image);
+  g_test_add_func ("/fitsout/date", test_date);
   rc = g_test_run ();
   g_rmdir (tmpdir);
   g_free (tmpdir);

@@ -301,6 +301,16 @@ efflux_fits_write_cube (const EffluxCube            *cube,
                         const EffluxFitsCubeOptions *options,
                         GError                     **error)
 {
+  return efflux_fits_write_cube_with_date (cube, path, options, NULL, error);
+}
+
+gboolean
+efflux_fits_write_cube_with_date (const EffluxCube            *cube,
+                                  const char                  *path,
+                                  const EffluxFitsCubeOptions *options,
+                                  const char                  *date,
+                                  GError                     **error)
+{
   static const EffluxFitsCubeOptions defaults = { EFFLUX_FITS_SPECTRAL_VRAD, FALSE, -32, NULL, NULL };
   const EffluxFitsCubeOptions *o = options != NULL ? options : &defaults;
   int bitpix = o->bitpix != 0 ? o->bitpix : -32;
@@ -408,7 +418,10 @@ efflux_fits_write_cube (const EffluxCube            *cube,
   if (o->history != NULL)
     for (gsize i = 0; o->history[i] != NULL; i++)
       fits_write_history (w.fptr, o->history[i], &w.status);
-  put_date (&w);
+  if (date == NULL)
+    put_date (&w);
+  else if (*date != '\0')
+    put_string (&w, "DATE", date, "file creation date (UTC)");
   if (w.status != 0)
     return writer_finish (&w, FALSE, error);
 

@@ -29,6 +29,15 @@ gboolean efflux_fits_write_cube (const EffluxCube            *cube,
                                  const EffluxFitsCubeOptions *options,
                                  GError                     **error);
 
+/* The same, with the DATE card chosen: an ISO-8601 UTC date-time, or "" for no DATE card (output
+ * that is byte-identical from run to run, as synthetic data needs); NULL is the time of writing
+ * (or SOURCE_DATE_EPOCH when set), as efflux_fits_write_cube does. */
+gboolean efflux_fits_write_cube_with_date (const EffluxCube            *cube,
+                                           const char                  *path,
+                                           const EffluxFitsCubeOptions *options,
+                                           const char                  *date,
+                                           GError                     **error);
+
 /* Write a 2-D float image (nx fastest) with the sky WCS of a cube and extra header cards
  * (NULL-terminated "KEY", "value-as-FITS-literal", "comment" triplets, or NULL). */
 gboolean efflux_fits_write_sky_image (const EffluxCube   *like,
