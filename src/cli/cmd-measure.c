@@ -338,6 +338,7 @@ efflux_cmd_measure (int    argc,
   int status;
 
   g_array_set_clear_func (all, measured_clear);
+  g_set_prgname ("efflux-cli measure");
   g_option_context_add_main_entries (ctx, entries, NULL);
   g_option_context_set_summary (ctx,
                                 "One row per lobe and a total row per source (CONTRACT.md columns first, then\n"
