@@ -61,15 +61,18 @@ gboolean     efflux_moment_map (const EffluxCube  *cube,
  * plane it needs sequentially. The part of a range between a boundary and the range's end is
  * summed directly from the cube, from the NEAREST boundary (adding or subtracting), so at most
  * BLOCK / 2 channels per end and pixel. NaN voxels count as 0 and are not counted.
- * Memory: 28 bytes per pixel per boundary = 28 / BLOCK bytes per voxel, i.e. 0.44x the float
- * cube for BLOCK = 16 (0.45 GiB for a 512 x 512 x 1024 cube).
+ * Memory: 28 bytes per pixel per boundary = 28 / BLOCK bytes per voxel, i.e. 0.22x the float
+ * cube for BLOCK = 32 (0.23 GiB for a 512 x 512 x 1024 cube), so the cube and its sums stay
+ * within DESIGN.md's 1.3x. Cost of a new range: 4 sequential plane reads (2 for moment 0's sum,
+ * 2 for its count) plus at most BLOCK / 2 contiguous floats per end and pixel read from the cube
+ * (prefetched ahead), in threads over rows.
  * Moment 2 from prefix sums is one-pass, (sum T u^2 - (sum T u)^2 / sum T) / sum T: where sum T
  * is small against the noise (no line in the range) it loses digits; where the line is detected it
  * agrees with the two-pass value to float precision (tests/test-maps.c checks 1e-5).
  * The peak map and clipped maps cannot use prefix sums: efflux_moment_cache_map computes the
  * peak directly (efflux_moment_map), and clipped maps go through efflux_moment_map.
  * The cache keeps a pointer to the cube: the cube must outlive it and not change. */
-#define EFFLUX_MOMENT_CACHE_BLOCK 16
+#define EFFLUX_MOMENT_CACHE_BLOCK 32
 
 typedef struct _EffluxMomentCache EffluxMomentCache;
 
