@@ -499,10 +499,38 @@ efflux_mvfit_broken (const double            *v_kms,
   fit->log10_ab = coef[0];
   fit->gamma1 = coef[1];
   fit->gamma2 = coef[2];
+  fit->vb_kms = pow (10.0, best_x);
+
+  /* Marginal errors of (log10 A_b, gamma1, gamma2), the break's uncertainty included: the
+   * linearised (Gauss-Newton) curvature of chi2 in all four parameters, with the Jacobian
+   * columns 1, -(x - xb) below, -(x - xb) above, and d model / d xb = gamma1 below, gamma2
+   * above. When that 4 x 4 system is singular (a break exactly on a channel with no lever), the
+   * conditional errors at fixed v_b are kept. */
+  {
+    g_autofree double *jac = g_new (double, (gsize) s.n * 4);
+    g_autofree double *zero = g_new0 (double, s.n);
+    double coef4[4], cov4[16];
+    guint i;
+
+    for (i = 0; i < s.n; i++)
+      {
+        double d = s.x[i] - best_x;
+
+        jac[4 * i] = 1.0;
+        jac[4 * i + 1] = d < 0.0 ? -d : 0.0;
+        jac[4 * i + 2] = d < 0.0 ? 0.0 : -d;
+        jac[4 * i + 3] = d < 0.0 ? fit->gamma1 : fit->gamma2;
+      }
+    if (lsq_linear (jac, zero, s.w, s.n, 4, coef4, cov4, NULL))
+      {
+        cov[0] = cov4[0];
+        cov[4] = cov4[5];
+        cov[8] = cov4[10];
+      }
+  }
   fit->log10_ab_err = sqrt (cov[0] * scale);
   fit->gamma1_err = sqrt (cov[4] * scale);
   fit->gamma2_err = sqrt (cov[8] * scale);
-  fit->vb_kms = pow (10.0, best_x);
 
   /* Profile interval chi2 <= chi2_min + 1 (scaled). Walk the grid outwards from the best point to
    * the first point above the level, then bisect. */
