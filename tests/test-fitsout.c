@@ -326,6 +326,16 @@ test_refusals_leave_nothing (void)
   g_assert_nonnull (strstr (error->message, "BITPIX"));
   g_clear_error (&error);
 
+  /* a failure after the temporary file was created: a card the writer refuses half-way */
+  {
+    const char *cards[] = { "GOODKEY", "1", "", "MUCHTOOLONGKEY", "2", "", NULL };
+    float image[35] = { 0 };
+    g_assert_false (efflux_fits_write_sky_image (cube, image, "K", cards, path, &error));
+    g_assert_nonnull (strstr (error->message, "MUCHTOOLONGKEY"));
+    g_assert_nonnull (strstr (error->message, path));
+    g_clear_error (&error);
+  }
+
   /* nothing at all was left in the directory, not even a temporary file */
   g_assert_cmpuint (count_entries (tmpdir), ==, 0);
 }
