@@ -209,7 +209,7 @@ typedef struct
   const gssize     *vj;          /* per output channel: src channel index (-1: NaN), or NULL */
   const float      *vf;          /* and the fraction towards vj + 1 */
   gsize             nchan_out;
-  float            *out_t;       /* n_off x nchan_out, [i * nchan_out + c] */
+  float            *out;         /* FITS order: [c * n_off + i] */
 } SampleJob;
 
 typedef float v4f __attribute__ ((vector_size (16)));
@@ -255,7 +255,8 @@ sample_range (gsize    begin,
 
   for (gsize i = begin; i < end; i++)
     {
-      float *out = job->out_t + i * job->nchan_out;
+      float *out = job->out + i;   /* channel c at out[c * n_off] */
+      const gsize stride = job->n_off;
       gsize m = 0;
       int n_in = 0;
 
@@ -311,14 +312,15 @@ sample_range (gsize    begin,
       if (n_in == 0)
         {
           for (gsize c = 0; c < job->nchan_out; c++)
-            out[c] = NAN;
+            out[c * stride] = NAN;
           continue;
         }
       memset (acc, 0, nchan * sizeof (float));
       for (gsize r = 0; r < m; r++)
         axpy (acc, src->data + pix[r] * nchan, (float) (wt[r] / n_in), nchan);
       if (job->vj == NULL)
-        memcpy (out, acc, nchan * sizeof (float));
+        for (gsize c = 0; c < nchan; c++)
+          out[c * stride] = acc[c];
       else
         for (gsize c = 0; c < job->nchan_out; c++)
           {
@@ -326,13 +328,13 @@ sample_range (gsize    begin,
             float f = job->vf[c];
 
             if (j < 0)
-              out[c] = NAN;
+              out[c * stride] = NAN;
             else if (f <= 0.0f)
-              out[c] = acc[j];
+              out[c * stride] = acc[j];
             else if (f >= 1.0f)
-              out[c] = acc[j + 1];
+              out[c * stride] = acc[j + 1];
             else
-              out[c] = (1.0f - f) * acc[j] + f * acc[j + 1];
+              out[c * stride] = (1.0f - f) * acc[j] + f * acc[j + 1];
           }
     }
 }
@@ -419,7 +421,6 @@ fill_cut (EffluxPv         *pv,
   SampleJob job = { 0 };
   g_autofree gssize *vj = NULL;
   g_autofree float *vf = NULL;
-  g_autofree float *out_t = g_new (float, MAX (pv->n_offsets * pv->nchan, 1));
 
   if (interpolate)
     {
@@ -437,15 +438,9 @@ fill_cut (EffluxPv         *pv,
   job.vj = vj;
   job.vf = vf;
   job.nchan_out = pv->nchan;
-  job.out_t = out_t;
+  job.out = pv->data;
+  /* each thread writes its own columns of the diagram, straight in FITS order */
   efflux_parallel_for (pv->n_offsets, 16, sample_range, &job);
-
-  /* [i][c] -> FITS order [c][i], in tiles */
-  for (gsize c0 = 0; c0 < pv->nchan; c0 += 64)
-    for (gsize i0 = 0; i0 < pv->n_offsets; i0 += 64)
-      for (gsize i = i0; i < MIN (i0 + 64, pv->n_offsets); i++)
-        for (gsize c = c0; c < MIN (c0 + 64, pv->nchan); c++)
-          pv->data[c * pv->n_offsets + i] = out_t[i * pv->nchan + c];
 }
 
 static gboolean
