@@ -413,6 +413,23 @@ test_tau_and_brightness (void)
                            / efflux_lte_tau (co21, 30.0, 1e16, 2.0) - 4.0), <, 1e-12);
   g_assert_true (isnan (efflux_lte_tau (co21, 30.0, 1e16, 0.0)));
 
+  /* The classic 13CO 1-0 shortcut N = 2.42e14 (Tex + 0.88) int tau dv[km/s] / (1 - e^{-5.29/Tex})
+   * (REFERENCES.md 1.3 [R: Wilson, Rohlfs & Huettemeister, Tools of Radio Astronomy]) uses
+   * Q ~ kT/hB + 1/3 and a dipole of 0.112 D: it is 3.7% below the exact form at 10 K [C]. Our
+   * N per unit opacity integral, N / (tau dv), against it: */
+  {
+    const EffluxLine *c13 = line ("13CO 1-0");
+    double per_tau = 1e16 / efflux_lte_tau (c13, 10.0, 1e16, 1.0);
+    double shortcut = 2.42e14 * (10.0 + 0.88) / (1.0 - exp (-5.29 / 10.0));
+
+    g_test_message ("13CO 1-0 at 10 K: shortcut / ours = %.4f", shortcut / per_tau);
+    g_assert_cmpfloat_with_epsilon (shortcut / per_tau, 1.0 - 0.037, 0.002);
+    /* and the same shortcut expressed per K km/s with the CMB gives 9.565e14 [C] */
+    check_printed (shortcut / (efflux_jnu (c13->freq_hz, 10.0)
+                               - efflux_jnu (c13->freq_hz, 2.7255)), "9.565e14", 1e-4,
+                   "13CO shortcut per K km/s");
+  }
+
   /* J_u = 1 special case (1.3 [D]): e^{E_u/kT}/(e^{h nu/kT} - 1) = 1/(1 - e^{-h nu/kT}) when
    * E_u = h nu; the catalogue E_u/k = 5.53 K differs from h nu/k = 5.532 K by 4e-4 relative. */
   {
