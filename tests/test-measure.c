@@ -484,6 +484,139 @@ test_mask (void)
   g_assert_cmpuint (tri->n_pixels, ==, 45);
 }
 
+/* ---------------------------------------------------------------------------------------------- */
+/* Against scipy and astropy (tests/ref/measure_ref.py through EFFLUX_PYTHON). */
+
+static char *
+run_ref (const char * const *args)
+{
+  const char *python = g_getenv ("EFFLUX_PYTHON");
+  const char *src = g_getenv ("EFFLUX_SOURCE_ROOT");
+  g_autofree char *script = NULL;
+  g_autoptr (GPtrArray) argv = g_ptr_array_new ();
+  g_autoptr (GError) error = NULL;
+  g_autofree char *err = NULL;
+  char *out = NULL;
+  int status = 0;
+
+  if (python == NULL || *python == '\0' || src == NULL)
+    {
+      g_test_fail_printf ("EFFLUX_PYTHON or EFFLUX_SOURCE_ROOT is not set (run through meson test)");
+      return NULL;
+    }
+  script = g_build_filename (src, "tests", "ref", "measure_ref.py", NULL);
+  g_ptr_array_add (argv, (gpointer) python);
+  g_ptr_array_add (argv, script);
+  for (gsize i = 0; args[i] != NULL; i++)
+    g_ptr_array_add (argv, (gpointer) args[i]);
+  g_ptr_array_add (argv, NULL);
+  g_assert_true (g_spawn_sync (NULL, (char **) argv->pdata, NULL, G_SPAWN_DEFAULT, NULL, NULL, &out, &err, &status, &error));
+  g_assert_no_error (error);
+  if (!g_spawn_check_wait_status (status, &error))
+    g_error ("measure_ref.py: %s: %s", error->message, err);
+  return out;
+}
+
+/* Convex outlines with random (non-integer) vertices: the pixel centres inside must be exactly
+ * those that scipy.spatial.Delaunay finds inside the same polygon. */
+static void
+test_mask_scipy (void)
+{
+  g_autoptr (GRand) rand = g_rand_new_with_seed (20261202);
+
+  for (int trial = 0; trial < 12; trial++)
+    {
+      int n = g_rand_int_range (rand, 3, 9);
+      double cx = g_rand_double_range (rand, 5, 55), cy = g_rand_double_range (rand, 5, 45);
+      double ax = g_rand_double_range (rand, 3, 30), ay = g_rand_double_range (rand, 3, 25);
+      double rot = g_rand_double_range (rand, 0, G_PI);
+      double px[8], py[8], ang[8];
+      g_autoptr (GString) text = g_string_new (NULL);
+      g_autoptr (GError) error = NULL;
+      g_autoptr (EffluxLobeMask) m = NULL;
+      g_autofree char *out = NULL;
+      g_auto (GStrv) lines = NULL;
+      g_autofree char *nx = g_strdup ("60");
+      g_autofree char *ny = g_strdup ("50");
+      guint count = 0;
+
+      for (int i = 0; i < n; i++)
+        ang[i] = g_rand_double_range (rand, 0, 2 * G_PI);
+      for (int i = 1; i < n; i++)   /* sort the angles: a convex polygon on an ellipse */
+        for (int j = i; j > 0 && ang[j] < ang[j - 1]; j--)
+          {
+            double t = ang[j]; ang[j] = ang[j - 1]; ang[j - 1] = t;
+          }
+      for (int i = 0; i < n; i++)
+        {
+          double ex = ax * cos (ang[i]), ey = ay * sin (ang[i]);
+          char a[G_ASCII_DTOSTR_BUF_SIZE], b[G_ASCII_DTOSTR_BUF_SIZE];
+
+          px[i] = cx + ex * cos (rot) - ey * sin (rot);
+          py[i] = cy + ex * sin (rot) + ey * cos (rot);
+          g_string_append_printf (text, "%s%s,%s", i ? ";" : "",
+                                  g_ascii_formatd (a, sizeof a, "%.17g", px[i]),
+                                  g_ascii_formatd (b, sizeof b, "%.17g", py[i]));
+        }
+      m = efflux_lobe_mask_new_pixels (60, 50, px, py, (gsize) n, "random", &error);
+      g_assert_no_error (error);
+      {
+        const char *args[] = { "mask", nx, ny, text->str, NULL };
+        out = run_ref (args);
+      }
+      if (out == NULL)
+        return;
+      lines = g_strsplit (out, "\n", -1);
+      for (guint i = 0; lines[i] != NULL && lines[i][0] != '\0'; i++, count++)
+        {
+          g_assert_cmpuint (i, <, m->n_pixels);
+          g_assert_cmpuint (m->index[i], ==, (guint) g_ascii_strtoull (lines[i], NULL, 10));
+        }
+      g_assert_cmpuint (count, ==, m->n_pixels);
+    }
+}
+
+/* rmax: the distance from the source to the farthest detected pixel, on a TAN grid at Dec 60
+ * with 2" pixels, against astropy (WCS.pixel_to_world, SkyCoord.separation). */
+static void
+test_rmax_astropy (void)
+{
+  g_autoptr (EffluxCube) cube = efflux_cube_new_simple (101, 101, 3, 150.0, 60.0, 2.0, -1.0, 1.0, REST_12CO21);
+  g_autofree char *poly = rect_polygon (cube, -0.5, -0.5, 100.5, 100.5);
+  g_autofree char *text = NULL;
+  g_autofree char *out = NULL;
+  g_autoptr (EffluxDossier) d = NULL;
+  g_autoptr (EffluxMeasureResult) res = NULL;
+  g_autoptr (GError) error = NULL;
+  double xs = 50.3, ys = 49.6, ra, dec, sep, ra_ref, dec_ref;
+  const char *args[] = { "separation", "101", "101", "2", "150", "60", "50.3", "49.6", "97", "5", NULL };
+  g_auto (GStrv) parts = NULL;
+
+  set_voxel (cube, 97, 5, 0.0, 1.0f);
+  set_voxel (cube, 60, 60, 0.0, 5.0f);
+  g_assert_true (efflux_cube_pixel_to_icrs (cube, xs, ys, &ra, &dec));
+  text = g_strdup_printf ("[Source]\nname=Far\nra-deg=%.12f\ndec-deg=%.12f\ndistance-pc=100\nvsys-kms=-3\n"
+                          "[Assumptions]\ntex-k=20\nco-abundance=1e-4\nmc-samples=0\n"
+                          "[Cube co]\npath=none.fits\nline=12CO 2-1\nrms-k=0.1\n"
+                          "[Lobe r]\nkind=red\ncube=co\npolygon=%s\nvelocity-kms=-0.5;0.5\n",
+                          ra, dec, poly);
+  d = efflux_dossier_new_from_data (text, -1, "far.efflux", "/nonexistent", &error);
+  g_assert_no_error (error);
+  res = measure (d, cube);
+  out = run_ref (args);
+  if (out == NULL)
+    return;
+  parts = g_strsplit (g_strstrip (out), " ", -1);
+  sep = g_ascii_strtod (parts[0], NULL);
+  ra_ref = g_ascii_strtod (parts[1], NULL);
+  dec_ref = g_ascii_strtod (parts[2], NULL);
+  g_assert_cmpfloat (fabs (ra - ra_ref) * 3600 * cos (60 * G_PI / 180), <, 1e-6);
+  g_assert_cmpfloat (fabs (dec - dec_ref) * 3600, <, 1e-6);
+  /* 1 arcsec at 100 pc is 100 au */
+  assert_rel (row (res, "r")->rmax_au / 100.0, sep, 1e-8, "rmax against astropy separation");
+  assert_rel (row (res, "r")->vmax_kms, 3.0, 1e-12, "vmax |0 - (-3)|");
+}
+
 int
 main (int    argc,
       char **argv)
@@ -498,5 +631,7 @@ main (int    argc,
   g_test_add_func ("/measure/mc-distance", test_mc_distance);
   g_test_add_func ("/measure/mc-random-inclination", test_mc_random_inclination);
   g_test_add_func ("/measure/mass-velocity", test_mass_velocity);
+  g_test_add_func ("/measure/mask-scipy", test_mask_scipy);
+  g_test_add_func ("/measure/rmax-astropy", test_rmax_astropy);
   return g_test_run ();
 }
