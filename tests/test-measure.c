@@ -178,24 +178,33 @@ toy_clear (Toy *t)
 }
 
 static EffluxDossier *
-toy_dossier (const Toy  *t,
-             const char *source_extra,
-             const char *assumptions_extra)
+toy_dossier_line (const Toy  *t,
+                  const char *source_extra,
+                  const char *assumptions_extra,
+                  const char *line)
 {
   g_autoptr (GError) error = NULL;
   g_autofree char *text =
     g_strdup_printf ("# toy outflow of REFERENCES.md 4.7\n"
                      "[Source]\nname=Toy\nra-deg=%.12f\ndec-deg=%.12f\ndistance-pc=250\nvsys-kms=0\n%s\n"
                      "[Assumptions]\ntex-k=50\ntbg-k=2.7255\nco-abundance=1e-4\nisotope-ratio=62\nmass-per-h2=2.8\n%s\n"
-                     "[Cube co]\npath=toy.fits\nline=12CO 2-1\nrole=tracer\nbeam-efficiency=1\nrms-k=0.05\n"
+                     "[Cube co]\npath=toy.fits\nline=%s\nrole=tracer\nbeam-efficiency=1\nrms-k=0.05\n"
                      "[Lobe blue]\nkind=blue\ncube=co\npolygon=%s\nvelocity-kms=-6.5;-1.5\n"
                      "[Lobe red]\nkind=red\ncube=co\npolygon=%s\nvelocity-kms=1.5;6.5\n",
-                     t->src_ra, t->src_dec, source_extra, assumptions_extra, t->blue_poly, t->red_poly);
+                     t->src_ra, t->src_dec, source_extra, assumptions_extra, line, t->blue_poly, t->red_poly);
   EffluxDossier *d = efflux_dossier_new_from_data (text, -1, "toy.efflux", "/nonexistent", &error);
 
   g_assert_no_error (error);
   g_assert_nonnull (d);
   return d;
+}
+
+static EffluxDossier *
+toy_dossier (const Toy  *t,
+             const char *source_extra,
+             const char *assumptions_extra)
+{
+  return toy_dossier_line (t, source_extra, assumptions_extra, "12CO 2-1");
 }
 
 static void
@@ -325,6 +334,47 @@ test_toy_opacity_fixed (void)
   assert_rel (row (res, "blue")->mass_msun, 1.77816e-4 * 6.5318, 1e-3, "4.7 x 4.8 C_tau(6.5222)");
   assert_rel (row (res, "total")->momentum_msun_kms, 9.39882e-4 * 6.5318, 1e-3, "4.7 x 4.8 P");
   g_assert_cmpint (row (res, "blue")->opacity, ==, EFFLUX_OPACITY_FIXED);
+  toy_clear (&t);
+}
+
+/* A lobe measured directly on 13CO or C18O: the column per K km/s of that line (REFERENCES.md 4.4
+ * [C], Tex 50 K with the CMB: 12CO 2-1 7.7063e14, 13CO 2-1 8.3076e14, C18O 2-1 8.3031e14 cm^-2),
+ * times 12C/13C = 62 or 16O/18O = 560 (Wilson & Rood 1994, from memory). */
+static void
+test_toy_isotopologues (void)
+{
+  Toy t;
+  g_autoptr (EffluxDossier) d13 = NULL;
+  g_autoptr (EffluxDossier) d18 = NULL;
+  g_autoptr (EffluxMeasureResult) r13 = NULL;
+  g_autoptr (EffluxMeasureResult) r18 = NULL;
+
+  toy_init (&t);
+  d13 = toy_dossier_line (&t, "", "mc-samples=0", "13CO 2-1");
+  d18 = toy_dossier_line (&t, "", "mc-samples=0\no18-ratio=560", "C18O 2-1");
+  r13 = measure (d13, t.cube);
+  r18 = measure (d18, t.cube);
+  assert_rel (row (r13, "blue")->mass_msun, 1.77816e-4 * 8.3076e14 / 7.7063e14 * 62, 1e-3, "4.7 on 13CO 2-1 x 62");
+  assert_rel (row (r18, "total")->mass_msun, 3.04827e-4 * 8.3031e14 / 7.7063e14 * 560, 1e-3, "4.7 on C18O 2-1 x 560");
+  toy_clear (&t);
+}
+
+/* Monte Carlo over [12CO/H2] log-uniform in [5e-5, 2e-4]: mass ~ 1/X, so its percentiles are
+ * 1e-4 / X(q) with X(q) = 5e-5 (2e-4 / 5e-5)^q taken at q = 0.84, 0.5, 0.16 (analytic). */
+static void
+test_mc_abundance (void)
+{
+  Toy t;
+  g_autoptr (EffluxDossier) d = NULL;
+  g_autoptr (EffluxMeasureResult) res = NULL;
+  double q[3] = { 0.84, 0.50, 0.16 };
+
+  toy_init (&t);
+  d = toy_dossier (&t, "", "co-abundance-range=5e-5;2e-4\nmc-samples=20000\nmc-seed=11");
+  res = measure (d, t.cube);
+  for (int j = 0; j < 3; j++)
+    assert_rel (row (res, "total")->pct[EFFLUX_MQ_MASS][j], 3.04827e-4 * 1e-4 / (5e-5 * pow (4.0, q[j])), 0.02,
+                "MC percentiles of M for a log-uniform abundance");
   toy_clear (&t);
 }
 
@@ -627,7 +677,9 @@ main (int    argc,
   g_test_add_func ("/measure/toy", test_toy);
   g_test_add_func ("/measure/toy-inclined", test_toy_inclined);
   g_test_add_func ("/measure/toy-opacity-fixed", test_toy_opacity_fixed);
+  g_test_add_func ("/measure/toy-isotopologues", test_toy_isotopologues);
   g_test_add_func ("/measure/noise", test_noise);
+  g_test_add_func ("/measure/mc-abundance", test_mc_abundance);
   g_test_add_func ("/measure/mc-distance", test_mc_distance);
   g_test_add_func ("/measure/mc-random-inclination", test_mc_random_inclination);
   g_test_add_func ("/measure/mass-velocity", test_mass_velocity);
