@@ -7,6 +7,9 @@
 #include <string.h>
 
 #include <errno.h>
+#include <fcntl.h>
+#include <sys/mman.h>
+#include <unistd.h>
 #include <stdio.h>
 #include <sys/stat.h>
 
@@ -293,41 +296,46 @@ median_in_place (float *v,
 #define NOISE_MAX_SAMPLES 65536
 #define NOISE_BLOCK 64
 
-void
-efflux_cube_estimate_noise (EffluxCube *cube)
+typedef struct
 {
-  gsize npix = cube->nx * cube->ny;
-  gsize step = (npix + NOISE_MAX_SAMPLES - 1) / NOISE_MAX_SAMPLES;
-  gsize nsamp = (npix + step - 1) / step;
-  g_autofree float *buf = NULL;
+  EffluxCube *cube;
+  gsize       npix, step, nsamp, stride;
+  gint        next;   /* atomic: next block of channels */
+} NoiseJob;
+
+static gpointer
+noise_worker (gpointer data)
+{
+  NoiseJob *job = data;
+  EffluxCube *cube = job->cube;
+  gsize nchan = cube->nchan;
+  /* one row per channel of the block; the row stride is padded off a power of two so the
+   * NOISE_BLOCK rows do not fight over the same cache sets */
+  g_autofree float *buf = g_try_new (float, (gsize) NOISE_BLOCK * job->stride);
   gsize counts[NOISE_BLOCK];
 
-  if (cube->rms == NULL)
-    cube->rms = g_new0 (float, cube->nchan);
-  if (npix == 0 || cube->nchan == 0)
-    return;
-  if (step == 0)
-    step = 1;
-
-  /* The sampled pixels are every step-th pixel: a fixed, deterministic subset. Channels are
-   * taken NOISE_BLOCK at a time so each sampled spectrum is read in contiguous pieces. */
-  buf = g_new (float, (gsize) NOISE_BLOCK * nsamp);
-  for (gsize k0 = 0; k0 < cube->nchan; k0 += NOISE_BLOCK)
+  if (buf == NULL)
+    return NULL;
+  for (;;)
     {
-      gsize nb = MIN (NOISE_BLOCK, cube->nchan - k0);
+      gsize k0 = (gsize) g_atomic_int_add (&job->next, 1) * NOISE_BLOCK;
+      gsize nb;
 
+      if (k0 >= nchan)
+        break;
+      nb = MIN (NOISE_BLOCK, nchan - k0);
       memset (counts, 0, sizeof counts);
-      for (gsize p = 0; p < npix; p += step)
+      for (gsize p = 0; p < job->npix; p += job->step)
         {
-          const float *spec = cube->data + p * cube->nchan + k0;
+          const float *spec = cube->data + p * nchan + k0;
 
           for (gsize b = 0; b < nb; b++)
             if (isfinite (spec[b]))
-              buf[b * nsamp + counts[b]++] = spec[b];
+              buf[b * job->stride + counts[b]++] = spec[b];
         }
       for (gsize b = 0; b < nb; b++)
         {
-          float *v = buf + b * nsamp;
+          float *v = buf + b * job->stride;
           gsize n = counts[b];
           double med;
 
@@ -342,6 +350,34 @@ efflux_cube_estimate_noise (EffluxCube *cube)
           cube->rms[k0 + b] = (float) (1.4826 * median_in_place (v, n));
         }
     }
+  return NULL;
+}
+
+void
+efflux_cube_estimate_noise (EffluxCube *cube)
+{
+  NoiseJob job = { 0 };
+  GThread *helper = NULL;
+
+  if (cube->rms == NULL)
+    cube->rms = g_new0 (float, cube->nchan);
+  job.cube = cube;
+  job.npix = cube->nx * cube->ny;
+  if (job.npix == 0 || cube->nchan == 0)
+    return;
+  /* The sampled pixels are every step-th pixel: a fixed, deterministic subset of at most
+   * NOISE_MAX_SAMPLES. Channels are taken NOISE_BLOCK at a time so each sampled spectrum is read
+   * in contiguous pieces; two threads share the blocks. */
+  job.step = (job.npix + NOISE_MAX_SAMPLES - 1) / NOISE_MAX_SAMPLES;
+  job.nsamp = (job.npix + job.step - 1) / job.step;
+  job.stride = job.nsamp + 16;
+  for (gsize k = 0; k < cube->nchan; k++)
+    cube->rms[k] = NAN;
+  if (cube->nchan > NOISE_BLOCK && g_get_num_processors () > 1)
+    helper = g_thread_try_new ("efflux-noise", noise_worker, &job, NULL);
+  noise_worker (&job);
+  if (helper != NULL)
+    g_thread_join (helper);
 }
 
 /* ------------------------------------------------------------------------------------------ */
@@ -599,18 +635,22 @@ typedef struct
   gsize s_in;    /* stride in the chunk */
 } Loop;
 
-/* Copy a chunk of file data (three axes, file order) into the spectral-contiguous output. The
- * loops run from the largest output stride to the smallest, so the innermost loop writes
- * consecutive channels and the reads walk a few streams at once. */
+/* Copy a chunk of file data (three axes, file order) into the spectral-contiguous output,
+ * byte-swapping big-endian words when swap is TRUE. The loops run from the largest output stride
+ * to the smallest; the middle axis is walked in tiles of TILE so that the reads are short
+ * contiguous runs and the writes fill whole cache lines of a few spectra at a time. */
+#define TILE 64
+#define TILE_K 32
+
 static void
-transpose_chunk (const float *in,
-                 float       *out,
-                 Loop         loops[3])
+transpose_chunk (const guint32 *in,
+                 guint32       *out,
+                 const Loop     loops[3],
+                 gboolean       swap)
 {
   Loop l[3];
 
   memcpy (l, loops, sizeof l);
-  /* sort by output stride, descending */
   for (int a = 0; a < 3; a++)
     for (int b = a + 1; b < 3; b++)
       if (l[b].s_out > l[a].s_out)
@@ -623,20 +663,142 @@ transpose_chunk (const float *in,
     {
       for (gsize i = 0; i < l[0].n; i++)
         for (gsize j = 0; j < l[1].n; j++)
-          memcpy (out + i * l[0].s_out + j * l[1].s_out, in + i * l[0].s_in + j * l[1].s_in,
-                  l[2].n * sizeof (float));
+          {
+            guint32 *o = out + i * l[0].s_out + j * l[1].s_out;
+            const guint32 *p = in + i * l[0].s_in + j * l[1].s_in;
+
+            if (swap)
+              for (gsize k = 0; k < l[2].n; k++)
+                o[k] = GUINT32_FROM_BE (p[k]);
+            else
+              memcpy (o, p, l[2].n * sizeof (guint32));
+          }
       return;
     }
-  for (gsize i = 0; i < l[0].n; i++)
-    for (gsize j = 0; j < l[1].n; j++)
-      {
-        float *o = out + i * l[0].s_out + j * l[1].s_out;
-        const float *p = in + i * l[0].s_in + j * l[1].s_in;
-        gsize s = l[2].s_in;
+  {
+    /* tile: up to TILE elements of the middle axis x TILE_K of the innermost, gathered into a
+     * small contiguous buffer (no cache-set conflicts from power-of-two strides), then written
+     * out as runs of consecutive channels */
+    guint32 tile[TILE * TILE_K];
 
-        for (gsize k = 0; k < l[2].n; k++)
-          o[k * l[2].s_out] = p[k * s];
-      }
+    for (gsize i = 0; i < l[0].n; i++)
+      for (gsize j0 = 0; j0 < l[1].n; j0 += TILE)
+        for (gsize k0 = 0; k0 < l[2].n; k0 += TILE_K)
+          {
+            gsize jn = MIN ((gsize) TILE, l[1].n - j0);
+            gsize kn = MIN ((gsize) TILE_K, l[2].n - k0);
+            const guint32 *ib = in + i * l[0].s_in + j0 * l[1].s_in + k0 * l[2].s_in;
+            guint32 *ob = out + i * l[0].s_out + j0 * l[1].s_out + k0 * l[2].s_out;
+            gsize s1i = l[1].s_in, s2i = l[2].s_in;
+
+            for (gsize k = 0; k < kn; k++)
+              {
+                const guint32 *p = ib + k * s2i;
+
+                if (swap)
+                  for (gsize j = 0; j < jn; j++)
+                    tile[j * TILE_K + k] = GUINT32_FROM_BE (p[j * s1i]);
+                else
+                  for (gsize j = 0; j < jn; j++)
+                    tile[j * TILE_K + k] = p[j * s1i];
+              }
+            if (l[2].s_out == 1)
+              for (gsize j = 0; j < jn; j++)
+                memcpy (ob + j * l[1].s_out, tile + j * TILE_K, kn * sizeof (guint32));
+            else
+              for (gsize j = 0; j < jn; j++)
+                for (gsize k = 0; k < kn; k++)
+                  ob[j * l[1].s_out + k * l[2].s_out] = tile[j * TILE_K + k];
+          }
+  }
+}
+
+/* The fast path for uncompressed, unscaled BITPIX = -32 data: pread() the big-endian words and
+ * swap them while transposing, on two threads. */
+typedef struct
+{
+  int            fd;
+  guint64        offset;       /* file offset of the first data byte */
+  gsize          plane;        /* words per slice of the slowest axis */
+  gsize          chunk_n;      /* slices per chunk */
+  gsize          n_slow;
+  gsize          n_chunks;
+  Loop           loops[3];     /* loops[2].n set per chunk */
+  gsize          slow_stride_out;
+  guint32       *out;
+  GCancellable  *cancellable;
+  gint           next;         /* atomic: next chunk to take */
+  gint           done;         /* atomic: chunks finished */
+  gint           failed;       /* atomic: 1 read error, 2 cancelled, 3 no memory */
+  int            err_no;
+} RawRead;
+
+static gpointer
+raw_read_worker (gpointer data)
+{
+  RawRead *r = data;
+  g_autofree guint32 *buf = g_try_malloc (r->plane * r->chunk_n * sizeof (guint32));
+
+  if (buf == NULL)
+    {
+      g_atomic_int_set (&r->failed, 3);
+      return NULL;
+    }
+  for (;;)
+    {
+      gsize c = (gsize) g_atomic_int_add (&r->next, 1);
+      gsize j0, cn, want, got = 0;
+      Loop loops[3];
+
+      if (c >= r->n_chunks || g_atomic_int_get (&r->failed) != 0)
+        break;
+      if (g_cancellable_is_cancelled (r->cancellable))
+        {
+          g_atomic_int_set (&r->failed, 2);
+          break;
+        }
+      j0 = c * r->chunk_n;
+      cn = MIN (r->chunk_n, r->n_slow - j0);
+      want = r->plane * cn * sizeof (guint32);
+      while (got < want)
+        {
+          ssize_t n = pread (r->fd, (char *) buf + got, want - got,
+                             (off_t) (r->offset + (guint64) j0 * r->plane * sizeof (guint32) + got));
+
+          if (n < 0 && errno == EINTR)
+            continue;
+          if (n <= 0)
+            {
+              r->err_no = n < 0 ? errno : EIO;
+              g_atomic_int_set (&r->failed, 1);
+              return NULL;
+            }
+          got += (gsize) n;
+        }
+      memcpy (loops, r->loops, sizeof loops);
+      loops[2].n = cn;
+      transpose_chunk (buf, r->out + j0 * r->slow_stride_out, loops, TRUE);
+      g_atomic_int_inc (&r->done);
+    }
+  return NULL;
+}
+
+/* The voxel array: large arrays aligned to 2 MiB and marked for transparent huge pages, which
+ * spares most of the page faults of the first touch (freed with g_free like any other). */
+static float *
+alloc_voxels (gsize bytes)
+{
+  const gsize huge = 2u * 1024u * 1024u;
+  void *p = NULL;
+
+  if (bytes < 4 * huge)
+    return g_try_malloc (bytes);
+  if (posix_memalign (&p, huge, bytes) != 0)
+    return NULL;
+#ifdef MADV_HUGEPAGE
+  madvise (p, bytes - bytes % huge, MADV_HUGEPAGE);
+#endif
+  return p;
 }
 
 /* Whether the primary header (80-character cards) reaches its END card within the file. */
@@ -1400,7 +1562,7 @@ efflux_cube_load (const char                  *path,
                      path, ilng + 1, ilat + 1, ispec + 1, nx, ny, nchan, n, a);
         goto out;
       }
-    cube->data = g_try_malloc (bytes);
+    cube->data = alloc_voxels (bytes);
     if (cube->data == NULL)
       {
         g_autofree char *n = format_gib (bytes);
@@ -1416,9 +1578,10 @@ efflux_cube_load (const char                  *path,
     gsize out_stride[MAX_AXES] = { 0 };
     gsize plane, chunk_n, n_slow;
     int a0, a1, a2;
-    gboolean contiguous = TRUE;
-    g_autofree float *buf = NULL;
+    gboolean contiguous = TRUE, raw = FALSE;
     float nulval = NAN;
+    Loop loops[3];
+    double progress_scale = options && options->no_noise ? 1.0 : 0.9;
 
     out_stride[ilng] = nchan;
     out_stride[ilat] = nx * nchan;
@@ -1440,63 +1603,158 @@ efflux_cube_load (const char                  *path,
         contiguous = FALSE;
     plane = (gsize) naxes[a0] * (gsize) naxes[a1];
     n_slow = (gsize) naxes[a2];
-    /* about 16 MiB per chunk, at most 64 slices of the slowest axis */
-    chunk_n = MAX ((gsize) 1, (16u * 1024u * 1024u / sizeof (float)) / plane);
-    chunk_n = MIN (chunk_n, (gsize) 64);
+    /* about 4 MiB per chunk, at most 32 slices of the slowest axis */
+    chunk_n = MAX ((gsize) 1, (4u * 1024u * 1024u / sizeof (float)) / plane);
+    chunk_n = MIN (chunk_n, (gsize) 32);
     chunk_n = MIN (chunk_n, n_slow);
-    buf = g_try_malloc (plane * chunk_n * sizeof (float));
-    if (buf == NULL)
+    loops[0] = (Loop) { (gsize) naxes[a0], out_stride[a0], 1 };
+    loops[1] = (Loop) { (gsize) naxes[a1], out_stride[a1], (gsize) naxes[a0] };
+    loops[2] = (Loop) { 0, out_stride[a2], plane };
+
+    if (!gz && !tile_compressed && bitpix == FLOAT_IMG && contiguous)
       {
-        g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_MEMORY, "%s: no memory for the read buffer", path);
-        goto out;
+        double bscale = 1.0, bzero = 0.0;
+        int s1 = 0, s2 = 0;
+
+        if (fits_read_key (f, TDOUBLE, "BSCALE", &bscale, NULL, &s1) != 0)
+          bscale = 1.0;
+        if (fits_read_key (f, TDOUBLE, "BZERO", &bzero, NULL, &s2) != 0)
+          bzero = 0.0;
+        fits_clear_errmsg ();
+        raw = bscale == 1.0 && bzero == 0.0;
       }
-    for (gsize j0 = 0; j0 < n_slow; j0 += chunk_n)
+
+    if (raw)
       {
-        gsize cn = MIN (chunk_n, n_slow - j0);
-        int anynul = 0;
-        Loop loops[3];
+        RawRead r = { 0 };
+        LONGLONG headstart = 0, datastart = 0, dataend = 0;
+        GThread *helper = NULL;
+        gsize reported = 0;
 
-        if (g_cancellable_set_error_if_cancelled (cancellable, error))
-          goto out;
-        if (contiguous)
+        fits_get_hduaddrll (f, &headstart, &datastart, &dataend, &status);
+        r.fd = open (path, O_RDONLY | O_CLOEXEC);
+        if (status != 0 || r.fd < 0)
           {
-            LONGLONG first[MAX_AXES];
+            int e = errno;
 
-            for (int i = 0; i < naxis; i++)
-              first[i] = 1;
-            first[a2] = (LONGLONG) j0 + 1;
-            fits_read_pixll (f, TFLOAT, first, (LONGLONG) (plane * cn), &nulval, buf, &anynul, &status);
-          }
-        else
-          {
-            long fpix[MAX_AXES], lpix[MAX_AXES], inc[MAX_AXES];
-
-            for (int i = 0; i < naxis; i++)
-              {
-                fpix[i] = stokes_plane[i];
-                lpix[i] = stokes_plane[i];
-                inc[i] = 1;
-              }
-            fpix[a0] = 1;
-            lpix[a0] = (long) naxes[a0];
-            fpix[a1] = 1;
-            lpix[a1] = (long) naxes[a1];
-            fpix[a2] = (long) j0 + 1;
-            lpix[a2] = (long) (j0 + cn);
-            fits_read_subset (f, TFLOAT, fpix, lpix, inc, &nulval, buf, &anynul, &status);
-          }
-        if (status != 0)
-          {
-            set_fits_error (error, path, status, "the data cannot be read");
+            if (r.fd >= 0)
+              close (r.fd);
+            g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_IO, "%s: cannot read the data: %s", path,
+                         status != 0 ? "no data address" : g_strerror (e));
             goto out;
           }
-        loops[0] = (Loop) { (gsize) naxes[a0], out_stride[a0], 1 };
-        loops[1] = (Loop) { (gsize) naxes[a1], out_stride[a1], (gsize) naxes[a0] };
-        loops[2] = (Loop) { cn, out_stride[a2], plane };
-        transpose_chunk (buf, cube->data + j0 * out_stride[a2], loops);
+        r.offset = (guint64) datastart;
+        r.plane = plane;
+        r.chunk_n = chunk_n;
+        r.n_slow = n_slow;
+        r.n_chunks = (n_slow + chunk_n - 1) / chunk_n;
+        memcpy (r.loops, loops, sizeof loops);
+        r.slow_stride_out = out_stride[a2];
+        r.out = (guint32 *) cube->data;
+        r.cancellable = cancellable;
+        if (r.n_chunks > 1 && g_get_num_processors () > 1)
+          helper = g_thread_try_new ("efflux-load", raw_read_worker, &r, NULL);
+        if (progress == NULL)
+          raw_read_worker (&r);
+        else
+          {
+            /* the calling thread reads too, and reports progress between its chunks */
+            GThread *second = g_thread_try_new ("efflux-load", raw_read_worker, &r, NULL);
+
+            while (second != NULL)
+              {
+                gsize d = (gsize) g_atomic_int_get (&r.done);
+
+                if (d != reported)
+                  {
+                    reported = d;
+                    progress ((double) d / (double) r.n_chunks * progress_scale, progress_data);
+                  }
+                if (d >= r.n_chunks || g_atomic_int_get (&r.failed) != 0 ||
+                    (gsize) g_atomic_int_get (&r.next) >= r.n_chunks + (helper ? 2 : 1))
+                  break;
+                g_usleep (2000);
+              }
+            if (second != NULL)
+              g_thread_join (second);
+            else
+              raw_read_worker (&r);
+          }
+        if (helper != NULL)
+          g_thread_join (helper);
+        close (r.fd);
+        if (r.failed == 2 || g_cancellable_is_cancelled (cancellable))
+          {
+            g_cancellable_set_error_if_cancelled (cancellable, error);
+            goto out;
+          }
+        if (r.failed == 1)
+          {
+            g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_IO, "%s: the data cannot be read: %s", path,
+                         g_strerror (r.err_no));
+            goto out;
+          }
+        if (r.failed == 3)
+          {
+            g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_MEMORY, "%s: no memory for the read buffer", path);
+            goto out;
+          }
         if (progress != NULL)
-          progress ((double) (j0 + cn) / (double) n_slow * (options && options->no_noise ? 1.0 : 0.9),
-                    progress_data);
+          progress (progress_scale, progress_data);
+      }
+    else
+      {
+        g_autofree float *buf = g_try_malloc (plane * chunk_n * sizeof (float));
+
+        if (buf == NULL)
+          {
+            g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_MEMORY, "%s: no memory for the read buffer", path);
+            goto out;
+          }
+        for (gsize j0 = 0; j0 < n_slow; j0 += chunk_n)
+          {
+            gsize cn = MIN (chunk_n, n_slow - j0);
+            int anynul = 0;
+
+            if (g_cancellable_set_error_if_cancelled (cancellable, error))
+              goto out;
+            if (contiguous)
+              {
+                LONGLONG first[MAX_AXES];
+
+                for (int i = 0; i < naxis; i++)
+                  first[i] = 1;
+                first[a2] = (LONGLONG) j0 + 1;
+                fits_read_pixll (f, TFLOAT, first, (LONGLONG) (plane * cn), &nulval, buf, &anynul, &status);
+              }
+            else
+              {
+                long fpix[MAX_AXES], lpix[MAX_AXES], inc[MAX_AXES];
+
+                for (int i = 0; i < naxis; i++)
+                  {
+                    fpix[i] = stokes_plane[i];
+                    lpix[i] = stokes_plane[i];
+                    inc[i] = 1;
+                  }
+                fpix[a0] = 1;
+                lpix[a0] = (long) naxes[a0];
+                fpix[a1] = 1;
+                lpix[a1] = (long) naxes[a1];
+                fpix[a2] = (long) j0 + 1;
+                lpix[a2] = (long) (j0 + cn);
+                fits_read_subset (f, TFLOAT, fpix, lpix, inc, &nulval, buf, &anynul, &status);
+              }
+            if (status != 0)
+              {
+                set_fits_error (error, path, status, "the data cannot be read");
+                goto out;
+              }
+            loops[2].n = cn;
+            transpose_chunk ((const guint32 *) buf, (guint32 *) cube->data + j0 * out_stride[a2], loops, FALSE);
+            if (progress != NULL)
+              progress ((double) (j0 + cn) / (double) n_slow * progress_scale, progress_data);
+          }
       }
   }
 
