@@ -502,6 +502,13 @@ test_tau_from_ratio (void)
       g_assert_cmpfloat (fabs (efflux_tau_from_ratio (r, 62.0) / t - 1.0), <, 1e-8);
     }
 
+  /* The two limits (REFERENCES.md 1.5 [D]): near R = X the thin expansion
+   * R = X (1 - tau (1 - 1/X) / 2); near R = 1 the thick one, R = 1 / (1 - e^{-tau/X}). */
+  g_assert_cmpfloat (fabs (efflux_tau_from_ratio (62.0 * (1.0 - 1e-9), 62.0)
+                           / (2e-9 / (1.0 - 1.0 / 62.0)) - 1.0), <, 1e-5);
+  g_assert_cmpfloat (fabs (efflux_tau_from_ratio (1.0 + 1e-9, 62.0)
+                           / (-62.0 * log1p (-1.0 / (1.0 + 1e-9))) - 1.0), <, 1e-6);
+
   /* Edges: no correction at R >= X; invalid (negative) for R <= 1, X <= 1 or NaN. */
   g_assert_cmpfloat (efflux_tau_from_ratio (62.0, 62.0), ==, 0.0);
   g_assert_cmpfloat (efflux_tau_from_ratio (80.0, 62.0), ==, 0.0);

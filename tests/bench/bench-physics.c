@@ -70,7 +70,7 @@ main (int    argc,
   for (i = 0; i < reps; i++)
     acc += efflux_tau_from_ratio (1.5 + 60.0 * (i % 997) / 997.0, 62.0);
   t = now () - t0;
-  g_print ("tau from 12CO/13CO ratio (bisection): %.3f us/call\n", t / reps * 1e6);
+  g_print ("tau from 12CO/13CO ratio (bracketed bisection-Newton): %.3f us/call\n", t / reps * 1e6);
 
   /* the per-lobe ratio fit, 256 channels */
   {
