@@ -465,6 +465,26 @@ test_progress_cancel (void)
   g_assert_null (none);
   g_assert_error (error, G_IO_ERROR, G_IO_ERROR_CANCELLED);
   g_unlink (path);
+
+  /* the float32 path (pread on two threads): progress, values, cancellation */
+  {
+    const char *fcards[] = { CUBE_CARDS ("-32", "64", "64", "300"), SKY_CARDS, "CTYPE3  = 'VRAD'",
+                             "CRVAL3  = 0.0", "CDELT3  = 250.0", "CRPIX3  = 1.0", "BUNIT   = 'K'", NULL };
+    g_autofree char *fpath = write_fits ("progress32.fits", fcards, 64 * 64 * 300 * 4);
+    g_autoptr(GCancellable) cancel2 = g_cancellable_new ();
+    g_autoptr(EffluxCube) c32 = NULL, none32 = NULL;
+
+    g_clear_error (&error);
+    last = 0.0;
+    c32 = efflux_cube_load (fpath, NULL, NULL, on_progress, &last, &error);
+    g_assert_no_error (error);
+    g_assert_cmpfloat (last, ==, 1.0);
+    g_assert_cmpfloat (c32->data[4321], ==, 0.0f);
+    none32 = efflux_cube_load (fpath, NULL, cancel2, cancel_on_progress, cancel2, &error);
+    g_assert_null (none32);
+    g_assert_error (error, G_IO_ERROR, G_IO_ERROR_CANCELLED);
+    g_unlink (fpath);
+  }
 }
 
 int

@@ -1652,6 +1652,8 @@ efflux_cube_load (const char                  *path,
         r.slow_stride_out = out_stride[a2];
         r.out = (guint32 *) cube->data;
         r.cancellable = cancellable;
+        if (progress != NULL)
+          progress (0.0, progress_data);
         if (r.n_chunks > 1 && g_get_num_processors () > 1)
           helper = g_thread_try_new ("efflux-load", raw_read_worker, &r, NULL);
         if (progress == NULL)
