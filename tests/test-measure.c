@@ -276,6 +276,25 @@ test_toy (void)
     assert_rel (row (res2, "blue")->mass_msun, 600 * 2.54022e-7, tol, "4.7 blue, -4..-2 only");
     assert_rel (row (res2, "blue")->vmax_kms, 4.0, 1e-12, "vmax of the narrower range");
     g_assert_true (efflux_dossier_set_lobe_velocity (d, "blue", -6.5, -1.5, &error));
+
+    /* a new outline that leaves out the far pixel (50, 91): only that lobe is prepared again */
+    {
+      double xs[4] = { 40.5, 60.5, 60.5, 40.5 }, ys[4] = { 51.5, 51.5, 85.5, 85.5 };
+      double ra[4], dec[4];
+      g_autoptr (EffluxMeasureResult) res3 = NULL;
+
+      for (int i = 0; i < 4; i++)
+        g_assert_true (efflux_cube_pixel_to_icrs (t.cube, xs[i], ys[i], &ra[i], &dec[i]));
+      g_assert_true (efflux_dossier_set_lobe_polygon (d, "blue", ra, dec, 4, &error));
+      g_assert_true (efflux_measure_prep_refresh_lobe (prep, d, "blue", NULL, &error));
+      g_assert_no_error (error);
+      g_assert_cmpuint (efflux_measure_prep_mask (prep, "blue")->n_pixels, ==, 20 * 34);
+      res3 = efflux_measure_finish (prep, d, &error);
+      g_assert_no_error (error);
+      assert_rel (row (res3, "blue")->mass_msun, 400 * 2.54022e-7, tol, "4.6 m0 x 400 K without the far pixel");
+      assert_rel (row (res3, "red")->mass_msun, 1.27011e-4, tol, "4.7 red unchanged");
+      assert_rel (row (res3, "blue")->vmax_kms, 4.0, 1e-12, "vmax without the far pixel");
+    }
   }
 
   /* the mass-velocity spectrum: dM/dv = m0 x sum / 1 km/s at -2 km/s */

@@ -37,8 +37,10 @@ typedef struct
 
 struct _EffluxMeasurePrep
 {
-  GPtrArray *lobes;   /* PrepLobe * */
-  GPtrArray *notes;
+  GPtrArray  *lobes;   /* PrepLobe * */
+  GPtrArray  *notes;
+  GHashTable *cubes;   /* the caller's id -> EffluxCube * (a reference) */
+  GHashTable *lines;   /* cube id -> const EffluxLine * (as written or guessed) */
 };
 
 static void
@@ -67,6 +69,8 @@ efflux_measure_prep_free (EffluxMeasurePrep *prep)
     return;
   g_clear_pointer (&prep->lobes, g_ptr_array_unref);
   g_clear_pointer (&prep->notes, g_ptr_array_unref);
+  g_clear_pointer (&prep->cubes, g_hash_table_unref);
+  g_clear_pointer (&prep->lines, g_hash_table_unref);
   g_free (prep);
 }
 
@@ -306,7 +310,7 @@ prepare_lobe (const EffluxDossier      *d,
       pl->line = cube_line (d, dc, cube, notes, error);
       if (pl->line == NULL)
         return FALSE;
-      g_hash_table_insert (lines, dc->id, (gpointer) pl->line);
+      g_hash_table_insert (lines, g_strdup (dc->id), (gpointer) pl->line);
     }
   pl->mask = efflux_lobe_mask_new (cube, dl->ra_deg, dl->dec_deg, dl->n_vertices, what, error);
   if (pl->mask == NULL)
@@ -403,7 +407,7 @@ prepare_lobe (const EffluxDossier      *d,
           iline = cube_line (d, ic, icube, notes, error);
           if (iline == NULL)
             return FALSE;
-          g_hash_table_insert (lines, ic->id, (gpointer) iline);
+          g_hash_table_insert (lines, g_strdup (ic->id), (gpointer) iline);
         }
       if (iline->species != EFFLUX_SPECIES_13CO && iline->species != EFFLUX_SPECIES_C18O)
         {
@@ -447,10 +451,11 @@ efflux_measure_prepare (const EffluxDossier  *d,
                         GError              **error)
 {
   g_autoptr (EffluxMeasurePrep) prep = g_new0 (EffluxMeasurePrep, 1);
-  g_autoptr (GHashTable) lines = g_hash_table_new (g_str_hash, g_str_equal);
 
   prep->lobes = g_ptr_array_new_with_free_func (prep_lobe_free);
   prep->notes = g_ptr_array_new_with_free_func (g_free);
+  prep->cubes = g_hash_table_ref (cubes);
+  prep->lines = g_hash_table_new_full (g_str_hash, g_str_equal, g_free, NULL);
   if (d->lobes->len == 0)
     {
       g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: [Lobe ...]: the dossier has no lobe to measure",
@@ -462,10 +467,62 @@ efflux_measure_prepare (const EffluxDossier  *d,
       PrepLobe *pl = g_new0 (PrepLobe, 1);
 
       g_ptr_array_add (prep->lobes, pl);
-      if (!prepare_lobe (d, g_ptr_array_index (d->lobes, i), cubes, lines, prep->notes, pl, cancellable, error))
+      if (!prepare_lobe (d, g_ptr_array_index (d->lobes, i), prep->cubes, prep->lines, prep->notes, pl,
+                         cancellable, error))
         return NULL;
     }
   return g_steal_pointer (&prep);
+}
+
+static PrepLobe *
+find_prepared (const EffluxMeasurePrep *prep,
+               const char              *name,
+               guint                   *index)
+{
+  for (guint i = 0; i < prep->lobes->len; i++)
+    {
+      PrepLobe *pl = g_ptr_array_index (prep->lobes, i);
+
+      if (strcmp (pl->name, name) == 0)
+        {
+          if (index)
+            *index = i;
+          return pl;
+        }
+    }
+  return NULL;
+}
+
+gboolean
+efflux_measure_prep_refresh_lobe (EffluxMeasurePrep    *prep,
+                                  const EffluxDossier  *d,
+                                  const char           *lobe,
+                                  GCancellable         *cancellable,
+                                  GError              **error)
+{
+  const EffluxDossierLobe *dl = efflux_dossier_find_lobe (d, lobe);
+  PrepLobe *pl;
+  guint index;
+
+  if (dl == NULL)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: [Lobe %s]: no such lobe", d->path, lobe);
+      return FALSE;
+    }
+  pl = g_new0 (PrepLobe, 1);
+  if (!prepare_lobe (d, dl, prep->cubes, prep->lines, prep->notes, pl, cancellable, error))
+    {
+      prep_lobe_free (pl);
+      return FALSE;
+    }
+  if (find_prepared (prep, lobe, &index) != NULL)
+    {
+      prep_lobe_free (g_ptr_array_index (prep->lobes, index));
+      g_ptr_array_index (prep->lobes, index) = pl;
+    }
+  else
+    g_ptr_array_add (prep->lobes, pl);
+  return TRUE;
 }
 
 /* ---------------------------------------------------------------------------------------------- */
@@ -816,7 +873,7 @@ efflux_measure_finish (EffluxMeasurePrep    *prep,
                        GError              **error)
 {
   g_autoptr (EffluxMeasureResult) res = g_new0 (EffluxMeasureResult, 1);
-  guint nl = prep->lobes->len;
+  guint nl = d->lobes->len;
   g_autofree FinLobe *fl = g_new0 (FinLobe, nl);
   EffluxMeasureRow *total;
   Draw w0 = nominal_draw (d);
@@ -832,17 +889,17 @@ efflux_measure_finish (EffluxMeasurePrep    *prep,
   /* channel ranges, detection and opacity per lobe */
   for (guint i = 0; i < nl; i++)
     {
-      PrepLobe *pl = g_ptr_array_index (prep->lobes, i);
-      const EffluxDossierLobe *dl = efflux_dossier_find_lobe (d, pl->name);
+      const EffluxDossierLobe *dl = g_ptr_array_index (d->lobes, i);
+      PrepLobe *pl = find_prepared (prep, dl->name, NULL);
       FinLobe *f = &fl[i];
       gsize n;
 
       f->pl = pl;
       f->dl = dl;
-      if (dl == NULL)
+      if (pl == NULL)
         {
-          g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: [Lobe %s]: no longer in the dossier",
-                       d->path, pl->name);
+          g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                       "%s: [Lobe %s]: not prepared (efflux_measure_prep_refresh_lobe)", d->path, dl->name);
           goto out;
         }
       if (!efflux_cube_channel_range (pl->cube, dl->v1_kms, dl->v2_kms, &f->kb, &f->ke))

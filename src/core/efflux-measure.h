@@ -129,6 +129,14 @@ EffluxMeasurePrep   *efflux_measure_prepare (const EffluxDossier  *dossier,
                                              GError              **error);
 void                 efflux_measure_prep_free (EffluxMeasurePrep *prep);
 
+/* After a lobe's outline changed, or a lobe was added: rebuild that lobe's mask and sums only.
+ * finish measures the dossier's lobes in its order; prepared lobes no longer in it are ignored. */
+gboolean             efflux_measure_prep_refresh_lobe (EffluxMeasurePrep    *prep,
+                                                       const EffluxDossier  *dossier,
+                                                       const char           *lobe,
+                                                       GCancellable         *cancellable,
+                                                       GError              **error);
+
 /* The mask of a lobe (owned by the preparation), or NULL. */
 const EffluxLobeMask *efflux_measure_prep_mask (const EffluxMeasurePrep *prep,
                                                 const char              *lobe);
