@@ -184,6 +184,10 @@ def make(name, *, order=("lng", "lat", "spec"), sky=None, spec=None, dtype=np.fl
         freq = q.to(u.Hz, equivalencies=u.doppler_optical(nu0 * u.Hz))
     elif stype == "VELO":
         freq = q.to(u.Hz, equivalencies=u.doppler_relativistic(nu0 * u.Hz))
+    elif stype == "ZOPT":
+        # redshift: nu = nu0 / (1 + z), through astropy's optical convention v = c z
+        freq = (q.to_value(u.dimensionless_unscaled) * C_KMS * u.km / u.s).to(
+            u.Hz, equivalencies=u.doppler_optical(nu0 * u.Hz))
     else:
         raise SystemExit("unhandled spectral type " + stype)
 
@@ -312,7 +316,13 @@ make("f32-fk4", sky={"ctype1": "RA---TAN", "ctype2": "DEC--TAN", "crval1": 51.5,
      cards={"RADESYS": "FK4", "EQUINOX": 1950.0, "SPECSYS": "LSRK"}, expect_notes=("FK4",))
 make("f32-degree-unit", sky={"cunit1": "DEGREE", "cunit2": "DEGREE"}, cards={"SPECSYS": "LSRK"},
      expect_notes=("unitfix",))
-make("f32-no-specsys")
+make("f32-no-specsys", expect_notes=("no SPECSYS",))
+make("f32-velo-hel", spec={"ctype": "VELO-HEL", "crval": 6000.0, "cdelt": -500.0, "cunit": "m/s"},
+     cards={"VELREF": 258, "RESTFRQ": F230}, expect_notes=("spcfix", "BARYCENT to LSRK"))
+make("f32-vrad-topocent", spec={"ctype": "VRAD", "crval": 6000.0, "cdelt": -500.0, "cunit": "m/s"},
+     cards={"RESTFRQ": F230, "SPECSYS": "TOPOCENT"}, expect_notes=("TOPOCENT",))
+make("f32-zopt", spec={"ctype": "ZOPT", "crval": 2.0e-5, "cdelt": 1.0e-6, "cunit": ""},
+     cards={"RESTFRQ": F230, "SPECSYS": "LSRK"})
 # brightness units
 make("f32-k-tmb", bunit="K (Tmb)", cards={"SPECSYS": "LSRK"})
 make("f32-kelvin", bunit="Kelvin", cards={"SPECSYS": "LSRK"})
@@ -322,6 +332,8 @@ make("f32-jybeam-upper", bunit="JY/BEAM", jy_beam=1.0,
 make("f32-jybeam-m1", bunit="Jy beam-1", jy_beam=1.0,
      cards={"RESTFRQ": 345.7959899e9, "SPECSYS": "LSRK", "BMAJ": 0.5 / 3600, "BMIN": 0.5 / 3600,
             "BPA": 0.0})
+make("f32-mjybeam", bunit="mJy/beam", jy_beam=1e-3,
+     cards={"RESTFRQ": F230, "SPECSYS": "LSRK", "BMAJ": 0.3 / 3600, "BMIN": 0.2 / 3600, "BPA": 10.0})
 make("f32-jypixel", bunit="Jy/pixel", cards={"SPECSYS": "LSRK"}, expect_notes=("Jy/pixel",))
 make("f32-nobunit", bunit=None, cards={"SPECSYS": "LSRK"}, expect_notes=("no BUNIT",))
 make("f32-beams-table", bunit="Jy/beam", jy_beam=1.0,
