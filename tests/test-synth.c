@@ -630,6 +630,20 @@ test_dossier (void)
   g_assert_cmpfloat_with_epsilon (g_key_file_get_double (truth, "Knot red-1", "velocity-kms", NULL),
                                   -2.0 + 25.0 * cos (40.0 * G_PI / 180.0), 1e-12);
   g_assert_cmpfloat_with_epsilon (g_key_file_get_double (truth, "Truth", "ambient-mass-msun", NULL), 0.1, 1e-12);
+  /* the densest blue-lobe voxel and its 12CO optical depth */
+  {
+    double hmax = 0.0;
+    for (gsize k = 0; k < model->nchan; k++)
+      if (model->grid->velocity[k] < -2.0)
+        for (gsize i = 0; i < model->nx * model->ny; i++)
+          hmax = MAX (hmax, model->lobe_h2[i * model->nchan + k]);
+    g_assert_cmpfloat (hmax, >, 0.0);
+    g_assert_cmpfloat_with_epsilon (g_key_file_get_double (truth, "Lobe blue", "peak-h2-column-cm2", NULL),
+                                    hmax, 1e-12 * hmax);
+    g_assert_cmpfloat_with_epsilon (g_key_file_get_double (truth, "Lobe blue", "peak-tau-co", NULL),
+                                    efflux_lte_tau (efflux_line_lookup ("12CO 2-1"), 25.0, 1e-4 * hmax, 0.75),
+                                    1e-9 * g_key_file_get_double (truth, "Lobe blue", "peak-tau-co", NULL));
+  }
   check_massvel (truth, "Lobe blue", "2e-3 4 25 1.8 40 -2.0 -24.5 0.75 60 0");
   check_massvel (truth, "Lobe red", "1e-3 4 22 2.0 40 -2.0 -24.5 0.75 60 1");
 

@@ -1222,6 +1222,35 @@ gaussian (GRand   *rand,
   return rad * cos (2.0 * G_PI * u2);
 }
 
+/* Optical depth per unit H2 column (cm^2) of a cube's line in one channel: the tracer's abundance
+ * (12CO: co-abundance; 13CO and C18O: divided by their ratios; SiO: sio-abundance) times
+ * efflux_lte_tau per unit tracer column. tau is proportional to the column (efflux_lte_tau is N
+ * over the column per unit opacity integral), so one call gives the factor. */
+static double
+cube_tau_per_h2 (const EffluxSynthRecipe *recipe,
+                 const SynthCubeSpec     *spec)
+{
+  double x;
+
+  switch (spec->line->species)
+    {
+    case EFFLUX_SPECIES_12CO:
+      x = recipe->co_abundance;
+      break;
+    case EFFLUX_SPECIES_13CO:
+      x = recipe->co_abundance / recipe->isotope_ratio;
+      break;
+    case EFFLUX_SPECIES_C18O:
+      x = recipe->co_abundance / recipe->c18o_ratio;
+      break;
+    case EFFLUX_SPECIES_SIO:
+    default:
+      x = recipe->sio_abundance;
+      break;
+    }
+  return x * efflux_lte_tau (spec->line, recipe->tex_k, 1e15, fabs (recipe->dv_kms)) / 1e15;
+}
+
 EffluxCube *
 efflux_synth_render (const EffluxSynthRecipe *recipe,
                      const EffluxSynthModel  *model,
@@ -1232,7 +1261,7 @@ efflux_synth_render (const EffluxSynthRecipe *recipe,
   const EffluxLine *line;
   g_autoptr (EffluxCube) cube = NULL;
   gsize n = model->nx * model->ny * model->nchan;
-  double tau_per_h2, t_amp, dv = fabs (recipe->dv_kms);
+  double tau_per_h2, t_amp;
   gboolean co_gas;
 
   g_return_val_if_fail (index < recipe->cubes->len, NULL);
@@ -1253,31 +1282,10 @@ efflux_synth_render (const EffluxSynthRecipe *recipe,
   g_free (cube->object);
   cube->object = g_strdup (recipe->source_name);
 
-  /* tracer column per H2 */
-  switch (line->species)
-    {
-    case EFFLUX_SPECIES_12CO:
-      tau_per_h2 = recipe->co_abundance;
-      co_gas = TRUE;
-      break;
-    case EFFLUX_SPECIES_13CO:
-      tau_per_h2 = recipe->co_abundance / recipe->isotope_ratio;
-      co_gas = TRUE;
-      break;
-    case EFFLUX_SPECIES_C18O:
-      tau_per_h2 = recipe->co_abundance / recipe->c18o_ratio;
-      co_gas = TRUE;
-      break;
-    case EFFLUX_SPECIES_SIO:
-    default:
-      tau_per_h2 = recipe->sio_abundance;
-      co_gas = FALSE;
-      break;
-    }
-  /* tau is proportional to the column (efflux_lte_tau: N over the column per unit opacity
-   * integral), so one call gives the factor; T = (J(Tex) - J(Tbg)) (1 - e^-tau), the amplitude
-   * read from efflux_lte_brightness at tau = 1. */
-  tau_per_h2 *= efflux_lte_tau (line, recipe->tex_k, 1e15, dv) / 1e15;
+  /* CO isotopologues see the lobes and the ambient cloud, SiO the jet */
+  co_gas = line->species != EFFLUX_SPECIES_SIO;
+  tau_per_h2 = cube_tau_per_h2 (recipe, spec);
+  /* T = (J(Tex) - J(Tbg)) (1 - e^-tau): the amplitude read from efflux_lte_brightness at tau = 1 */
   t_amp = efflux_lte_brightness (line, recipe->tex_k, recipe->tbg_k, 1.0) / -expm1 (-1.0);
   if (!isfinite (tau_per_h2) || !isfinite (t_amp))
     {
@@ -1446,6 +1454,27 @@ truth_text (const EffluxSynthRecipe *rc,
       g_key_file_set_double (kf, g, "half-opening-deg", lobe->half_opening_deg);
       g_key_file_set_double (kf, g, "half-width-arcsec", lt->w_max);
       g_key_file_set_double (kf, g, "t0-yr", lt->t0_yr);
+      {
+        /* the densest voxel of lobe gas on this lobe's side of vsys, and its optical depth in
+         * each CO cube (for the opacity-correction recovery tests) */
+        double hmax = 0.0;
+        for (gsize k = 0; k < model->nchan; k++)
+          {
+            double v = rc->vstart_kms + (double) k * rc->dv_kms;
+            if (lobe->red ? !(v > rc->vsys_kms) : !(v < rc->vsys_kms))
+              continue;
+            for (gsize i = 0; i < model->nx * model->ny; i++)
+              hmax = MAX (hmax, model->lobe_h2[i * model->nchan + k]);
+          }
+        g_key_file_set_double (kf, g, "peak-h2-column-cm2", hmax);
+        for (guint c = 0; c < rc->cubes->len; c++)
+          {
+            const SynthCubeSpec *spec = g_ptr_array_index (rc->cubes, c);
+            g_autofree char *key = g_strconcat ("peak-tau-", spec->id, NULL);
+            if (spec->line->species != EFFLUX_SPECIES_SIO)
+              g_key_file_set_double (kf, g, key, cube_tau_per_h2 (rc, spec) * hmax);
+          }
+      }
       g_key_file_set_double_list (kf, g, "channel-velocity-kms", (double *) lt->v->data, lt->v->len);
       g_key_file_set_double_list (kf, g, "channel-mass-msun", (double *) lt->m->data, lt->m->len);
     }
@@ -1722,15 +1751,7 @@ efflux_synth_run (const EffluxSynthRecipe *recipe,
                                                                  : model->lobe_h2[i] + model->ambient_h2[i];
           col_max = MAX (col_max, col);
         }
-      tau1 = efflux_lte_tau (spec->line, recipe->tex_k, 1e15, fabs (recipe->dv_kms)) / 1e15;
-      switch (spec->line->species)
-        {
-        case EFFLUX_SPECIES_12CO: tau1 *= recipe->co_abundance; break;
-        case EFFLUX_SPECIES_13CO: tau1 *= recipe->co_abundance / recipe->isotope_ratio; break;
-        case EFFLUX_SPECIES_C18O: tau1 *= recipe->co_abundance / recipe->c18o_ratio; break;
-        case EFFLUX_SPECIES_SIO:
-        default: tau1 *= recipe->sio_abundance; break;
-        }
+      tau1 = cube_tau_per_h2 (recipe, spec);
       peak_tau[c] = tau1 * col_max;
 
       /* no DATE card: the same recipe gives byte-identical files */
