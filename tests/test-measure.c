@@ -397,6 +397,43 @@ test_mc_abundance (void)
   toy_clear (&t);
 }
 
+/* clip-sigma and the beam efficiency: with clip-sigma 3 and rms 0.05 K only the ten non-zero
+ * voxels enter (voxels = 5 per lobe) and the mass is unchanged; a beam efficiency of 0.5 doubles
+ * the main-beam brightness, so the mass and its noise error (REFERENCES 4.7 [C]). */
+static void
+test_clip_and_efficiency (void)
+{
+  Toy t;
+  g_autoptr (EffluxDossier) d = NULL;
+  g_autoptr (EffluxMeasureResult) res = NULL;
+  g_autoptr (EffluxDossier) d2 = NULL;
+  g_autoptr (EffluxMeasureResult) res2 = NULL;
+  g_autofree char *text = NULL;
+  g_autofree char *text2 = NULL;
+  g_autoptr (GError) error = NULL;
+  char *at;
+
+  toy_init (&t);
+  d = toy_dossier (&t, "", "clip-sigma=3\nmc-samples=0");
+  res = measure (d, t.cube);
+  g_assert_cmpuint (row (res, "blue")->voxels, ==, 5);
+  g_assert_cmpuint (row (res, "red")->voxels, ==, 5);
+  assert_rel (row (res, "total")->mass_msun, 3.04827e-4, 1e-3, "4.7 M total, clipped");
+  assert_rel (row (res, "blue")->mass_err, 2.54022e-7 * 0.05 * sqrt (5.0), 1e-4, "sigma M of 5 voxels");
+
+  text = efflux_dossier_to_data (d, NULL);
+  at = strstr (text, "beam-efficiency=1\n");
+  g_assert_nonnull (at);
+  text2 = g_strdup_printf ("%.*sbeam-efficiency=0.5\n%s", (int) (at - text), text, at + strlen ("beam-efficiency=1\n"));
+  d2 = efflux_dossier_new_from_data (text2, -1, "toy-eff.efflux", "/nonexistent", &error);
+  g_assert_no_error (error);
+  res2 = measure (d2, t.cube);
+  assert_rel (row (res2, "total")->mass_msun, 2 * 3.04827e-4, 1e-3, "4.7 M total / beam efficiency 0.5");
+  assert_rel (row (res2, "blue")->mass_err, 2 * 2.54022e-7 * 0.05 * sqrt (5.0), 1e-4, "sigma M / beam efficiency");
+  g_assert_cmpuint (row (res2, "blue")->voxels, ==, 5);
+  toy_clear (&t);
+}
+
 /* Noise: every entering voxel carries rms^2; with clip 0 all 880 x 5 blue voxels enter, so
  * sigma_M = m0 |dv| rms sqrt(N) and sigma_P = m0 |dv| rms sqrt(880 sum u^2) (analytic). */
 static void
@@ -698,6 +735,7 @@ main (int    argc,
   g_test_add_func ("/measure/toy-opacity-fixed", test_toy_opacity_fixed);
   g_test_add_func ("/measure/toy-isotopologues", test_toy_isotopologues);
   g_test_add_func ("/measure/noise", test_noise);
+  g_test_add_func ("/measure/clip-and-efficiency", test_clip_and_efficiency);
   g_test_add_func ("/measure/mc-abundance", test_mc_abundance);
   g_test_add_func ("/measure/mc-distance", test_mc_distance);
   g_test_add_func ("/measure/mc-random-inclination", test_mc_random_inclination);

@@ -44,6 +44,11 @@ G_BEGIN_DECLS
  *   single power law over the excluded ambient range, from half a channel width to the lobe's
  *   inner velocity edge (its innermost channel's |v - vsys| minus half a channel): reported,
  *   never added.
+ * - pm_kms = P / M is the mass-weighted speed and age_pm_yr = rmax / (P / M) the age it implies.
+ *   That age runs long: most of the mass sits at low velocities, so P / M lies well below the
+ *   speed at which the lobe tip advances, and the lifetime comes out too large (by about an order
+ *   of magnitude for jet-driven flows in the simulations of Downes & Cabrit 2007, A&A 471, 873).
+ *   tdyn = rmax / vmax is the table's age; age_pm_yr is given for comparison only.
  * - The Monte Carlo draws, per sample and shared by all lobes of the source: distance (normal,
  *   distance-err-pc, redrawn when <= 0), T_ex (uniform in tex-range-k), [12CO/H2] (log-uniform in
  *   co-abundance-range), 12C/13C (uniform in isotope-ratio-range) and the inclination (per mode).
