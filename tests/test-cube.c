@@ -3,6 +3,7 @@
  * FITS files (efflux_cube_load and `efflux-cli info`). */
 #include "config.h"
 
+#include <gio/gio.h>
 #include <glib.h>
 #include <glib/gstdio.h>
 #include <math.h>
@@ -350,6 +351,33 @@ test_bad_files (void)
   expect_refusal (zeroaxis, "NAXIS3 = 0");
   extra = write_fits ("extra.fits", c_extra, 7 * 5 * 6 * 2 * 4);
   expect_refusal (extra, "NAXIS4 = 2");
+
+  /* a gzip file cannot be checked against its size: a header claiming 2000000000 x 5 x 6 floats
+   * must then be refused by the memory check, before any allocation */
+  {
+    g_autofree char *plain = NULL, *gzpath = g_build_filename (tmpdir, "huge.fits.gz", NULL);
+    g_autoptr(GZlibCompressor) z = g_zlib_compressor_new (G_ZLIB_COMPRESSOR_FORMAT_GZIP, 6);
+    g_autoptr(GError) gerror = NULL;
+    g_autoptr(EffluxCube) none = NULL;
+    gsize len = 0, nread = 0, nwritten = 0;
+    gsize cap = 1 << 20;
+    g_autofree char *packed = g_malloc (cap);
+
+    g_assert_true (g_file_get_contents (huge, &plain, &len, NULL));
+    g_assert_cmpint (g_converter_convert (G_CONVERTER (z), plain, len, packed, cap, G_CONVERTER_INPUT_AT_END,
+                                          &nread, &nwritten, &gerror), ==, G_CONVERTER_FINISHED);
+    g_assert_no_error (gerror);
+    g_assert_true (g_file_set_contents (gzpath, packed, (gssize) nwritten, NULL));
+    none = efflux_cube_load (gzpath, NULL, NULL, NULL, NULL, &gerror);
+    g_assert_null (none);
+    g_assert_error (gerror, EFFLUX_ERROR, EFFLUX_ERROR_MEMORY);
+    g_assert_nonnull (strstr (gerror->message, "huge.fits.gz"));
+    g_assert_nonnull (strstr (gerror->message, "NAXIS1"));
+    g_assert_nonnull (strstr (gerror->message, "223.5 GiB"));   /* 2e9 x 5 x 6 x 4 bytes + 32 MiB */
+    g_assert_nonnull (strstr (gerror->message, "GiB available"));
+    g_test_message ("%s", gerror->message);
+    g_unlink (gzpath);
+  }
 
   /* a header cut short (no END card) */
   {

@@ -1250,7 +1250,10 @@ efflux_cube_load (const char                  *path,
                          efflux_sky_frame_name (cube->frame), cube->frame == EFFLUX_SKY_FK5 ? "2000" : "1800 to 2100");
             goto out;
           }
-        if (cube->frame != EFFLUX_SKY_ICRS)
+        if (cube->frame == EFFLUX_SKY_FK4)
+          efflux_cube_add_note (cube, "sky positions converted from FK4 (equinox B%g, E-terms removed, epoch of "
+                                "observation taken as the equinox) to ICRS", cube->equinox);
+        else if (cube->frame != EFFLUX_SKY_ICRS)
           efflux_cube_add_note (cube, "sky positions converted from %s (equinox %g) to ICRS",
                                 efflux_sky_frame_name (cube->frame), cube->equinox);
       }
