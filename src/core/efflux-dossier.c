@@ -213,6 +213,8 @@ read_vertices (Ctx         *ctx,
         return fail (error, ctx->file, group, key,
                      "vertex %" G_GSIZE_FORMAT ": declination %g is outside [-90, 90]", i + 1, dec[i]);
     }
+  if (n > 10000)
+    return fail (error, ctx->file, group, key, "more than 10000 vertices (%" G_GSIZE_FORMAT ")", n);
   if (n < min_vertices)
     return fail (error, ctx->file, group, key,
                  "needs at least %" G_GSIZE_FORMAT " vertices, got %" G_GSIZE_FORMAT,
@@ -474,8 +476,8 @@ parse_assumptions (EffluxDossier *d,
     return fail (error, ctx->file, g, "sio-abundance", "must be positive, got %g", d->sio_abundance);
   if (d->clip_sigma < 0)
     return fail (error, ctx->file, g, "clip-sigma", "must not be negative, got %g", d->clip_sigma);
-  if (samples < 0 || samples > 10000000 || samples != floor (samples))
-    return fail (error, ctx->file, g, "mc-samples", "expected a whole number in [0, 10000000], got %g", samples);
+  if (samples < 0 || samples > 1000000 || samples != floor (samples))
+    return fail (error, ctx->file, g, "mc-samples", "expected a whole number in [0, 1000000], got %g", samples);
   if (seed < 0 || seed > 9007199254740992.0 || seed != floor (seed))
     return fail (error, ctx->file, g, "mc-seed", "expected a whole non-negative number, got %g", seed);
   d->mc_samples = (guint) samples;

@@ -21,7 +21,7 @@ G_BEGIN_DECLS
  *   isotope-ratio-range=LO;HI   12C/13C drawn uniformly in [LO, HI] (absent: no spread)
  *   o18-ratio=560               16O/18O for lobes measured on C18O (Wilson & Rood 1994, from memory)
  *   sio-abundance=X             [SiO/H2] for lobes measured on SiO (required for such lobes)
- *   mc-samples=2000             Monte Carlo samples (0: no Monte Carlo)
+ *   mc-samples=2000             Monte Carlo samples (0: no Monte Carlo; at most 1000000)
  *   mc-seed=1                   seed of the Monte Carlo; the same seed gives the same percentiles
  * The distance error is [Source] distance-err-pc (normal, truncated at zero). */
 

@@ -1037,11 +1037,18 @@ efflux_measure_finish (EffluxMeasurePrep    *prep,
     {
       guint ns = d->mc_samples;
       guint nrows = nl + 1;
-      g_autofree double *samples = g_new (double, (gsize) nrows * EFFLUX_MQ_N * ns);
+      g_autofree double *samples = g_try_malloc_n ((gsize) nrows * EFFLUX_MQ_N * ns, sizeof (double));
       g_autoptr (EffluxRng) rng = efflux_rng_new (d->mc_seed);
       gsize maxn = 0;
       g_autofree double *ctau = NULL;
 
+      if (samples == NULL)
+        {
+          g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_MEMORY,
+                       "%s: [Assumptions] mc-samples: %u samples of %u rows do not fit in memory",
+                       d->path, ns, nrows);
+          goto out;
+        }
       for (guint i = 0; i < nl; i++)
         maxn = MAX (maxn, fl[i].ke - fl[i].kb);
       ctau = g_new (double, maxn);
