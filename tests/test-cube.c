@@ -454,6 +454,80 @@ test_bad_files (void)
   g_unlink (cuthead);
 }
 
+/* Seeded mutations of a good file's header: every outcome must be a cube or a one-line
+ * EFFLUX_ERROR naming the file (a crash fails the test). wcslib 7.12 overran a buffer on a string
+ * value without its closing quote before the loader checked for it. */
+static void
+test_mutations (void)
+{
+  const char *cards[] = { CUBE_CARDS ("16", "7", "5", "6"), SKY_CARDS, "CTYPE3  = 'FREQ'",
+                          "CRVAL3  = 230.538E9", "CDELT3  = 1.0E5", "CRPIX3  = 1.0", "CUNIT3  = 'Hz'",
+                          "RESTFRQ = 230.538E9", "BUNIT   = 'Jy/beam'", "BMAJ    = 2.7E-4", "BMIN    = 2.5E-4",
+                          "BPA     = 30.0", "BSCALE  = 0.01", "BZERO   = 0.0", "BLANK   = -32768",
+                          "SPECSYS = 'BARYCENT'", "VELREF  = 258", "DATE-OBS= '2020-01-02T03:04:05'", NULL };
+  g_autofree char *good = write_fits ("mutate-good.fits", cards, 7 * 5 * 6 * 2);
+  g_autofree char *bytes = NULL;
+  g_autofree char *mpath = g_build_filename (tmpdir, "mutated.fits", NULL);
+  g_autoptr(GRand) r = g_rand_new_with_seed (4242);
+  static const char alphabet[] = "0123456789-+.E ='TFXYZ";
+  static const char *const values[] = {
+    "                   0", "                  -1", "         99999999999", "               1E300",
+    "'FREQ'              ", "                 NaN", "                    ", "'RA---SIN",
+  };
+  gsize len = 0;
+  int refused = 0, loaded = 0;
+
+  g_assert_true (g_file_get_contents (good, &bytes, &len, NULL));
+  for (int it = 0; it < 300; it++)
+    {
+      g_autofree char *b = g_memdup2 (bytes, len);
+      gsize blen = len;
+      int nmut = g_rand_int_range (r, 1, 5);
+      g_autoptr(GError) error = NULL;
+      g_autoptr(EffluxCube) cube = NULL;
+      g_autofree char *base = g_path_get_basename (mpath);
+
+      for (int m = 0; m < nmut; m++)
+        {
+          double mode = g_rand_double (r);
+          gsize pos = (gsize) g_rand_int_range (r, 0, (gint32) MIN (blen, (gsize) 2880));
+
+          if (mode < 0.5)
+            b[pos] = mode < 0.4 ? alphabet[g_rand_int_range (r, 0, sizeof alphabet - 1)]
+                                : (char) g_rand_int_range (r, 0, 256);
+          else if (mode < 0.9)
+            {
+              gsize card = pos / 80 * 80;
+              const char *v = values[g_rand_int_range (r, 0, G_N_ELEMENTS (values))];
+
+              if (card + 10 + strlen (v) <= blen)
+                memcpy (b + card + 10, v, strlen (v));
+            }
+          else
+            blen = (gsize) g_rand_int_range (r, 1, (gint32) blen);
+        }
+      g_assert_true (g_file_set_contents (mpath, b, (gssize) blen, NULL));
+      cube = efflux_cube_load (mpath, NULL, NULL, NULL, NULL, &error);
+      if (cube != NULL)
+        {
+          g_assert_no_error (error);
+          loaded++;
+          continue;
+        }
+      g_assert_nonnull (error);
+      g_assert_true (error->domain == EFFLUX_ERROR);
+      g_assert_nonnull (strstr (error->message, base));
+      g_assert_null (strchr (error->message, '\n'));
+      refused++;
+    }
+  /* the corpus exercises both outcomes */
+  g_assert_cmpint (loaded, >, 0);
+  g_assert_cmpint (refused, >, 0);
+  g_test_message ("%d loaded, %d refused", loaded, refused);
+  g_unlink (mpath);
+  g_unlink (good);
+}
+
 static void
 on_progress (double   fraction,
              gpointer data)
@@ -531,6 +605,7 @@ main (int    argc,
   g_test_add_func ("/cube/noise", test_noise);
   g_test_add_func ("/cube/bad-files", test_bad_files);
   g_test_add_func ("/cube/progress-cancel", test_progress_cancel);
+  g_test_add_func ("/cube/mutations", test_mutations);
   ret = g_test_run ();
   g_rmdir (tmpdir);
   g_free (tmpdir);

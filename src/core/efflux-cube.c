@@ -801,6 +801,57 @@ alloc_voxels (gsize bytes)
   return p;
 }
 
+/* Make the header text safe for wcspih, whose parser trusts its input: control and non-ASCII
+ * bytes become spaces, and a string value without its closing quote is refused (wcslib 7.12
+ * overruns a buffer on it). */
+static gboolean
+check_header_cards (char        *header,
+                    int          nkeys,
+                    const char  *path,
+                    GError     **error)
+{
+  for (int c = 0; c < nkeys; c++)
+    {
+      char *card = header + (gsize) c * 80;
+      int i = 10;
+
+      if (strnlen (card, 80) < 80)
+        break;
+      for (int j = 0; j < 80; j++)
+        if ((unsigned char) card[j] < 0x20 || (unsigned char) card[j] > 0x7e)
+          card[j] = ' ';
+      if (card[8] != '=' || card[9] != ' ')
+        continue;
+      while (i < 80 && card[i] == ' ')
+        i++;
+      if (i < 80 && card[i] == '\'')
+        {
+          gboolean closed = FALSE;
+
+          for (i = i + 1; i < 80; i++)
+            if (card[i] == '\'')
+              {
+                if (i + 1 < 80 && card[i + 1] == '\'')
+                  i++;
+                else
+                  {
+                    closed = TRUE;
+                    break;
+                  }
+              }
+          if (!closed)
+            {
+              g_autofree char *key = g_strndup (card, 8);
+
+              g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                           "%s: %s: the string value has no closing quote", path, g_strstrip (key));
+              return FALSE;
+            }
+        }
+    }
+  return TRUE;
+}
+
 /* Whether the primary header (80-character cards) reaches its END card within the file. */
 static gboolean
 primary_header_complete (const char *path)
@@ -1033,6 +1084,12 @@ efflux_cube_load (const char                  *path,
   if (status != 0)
     {
       set_fits_error (error, path, status, "cannot read the header");
+      return NULL;
+    }
+  if (!check_header_cards (header, nkeys, path, error))
+    {
+      int st2 = 0;
+      fits_free_memory (header, &st2);
       return NULL;
     }
   if (wcspih (header, nkeys, WCSHDR_all, 0, &nreject, &nwcs, &wcsarr) != 0 || nwcs == 0)
