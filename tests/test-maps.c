@@ -310,6 +310,28 @@ check_against_numpy (gboolean reversed)
         g_assert_cmpfloat_with_epsilon (spec[k], ref[k], 1e-9 * MAX (1.0, fabs (ref[k])));
     }
 
+  /* the same outline given in ICRS degrees gives the same pixels and spectrum */
+  {
+    double radec[6];
+    g_autofree double *spec2 = g_new (double, NCHAN);
+    gsize inside = 0;
+
+    for (int v = 0; v < 3; v++)
+      g_assert_true (efflux_cube_pixel_to_icrs (cube, lobe_x[v], lobe_y[v], &radec[2 * v],
+                                                &radec[2 * v + 1]));
+    g_assert_true (efflux_spectrum_over_outline (cube, radec, 3, EFFLUX_SPECTRUM_SUM, spec2,
+                                                 &inside, &error));
+    g_assert_no_error (error);
+    g_assert_cmpuint (inside, ==, lobe->n_pixels);
+    for (gsize k = 0; k < NCHAN; k++)
+      g_assert_true ((isnan (spec[k]) && isnan (spec2[k])) ||
+                     fabs (spec[k] - spec2[k]) <= 1e-9 * MAX (1.0, fabs (spec[k])));
+    g_assert_false (efflux_spectrum_over_outline (cube, radec, 2, EFFLUX_SPECTRUM_SUM, spec2,
+                                                  &inside, &error));
+    g_assert_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT);
+    g_clear_error (&error);
+  }
+
   /* spectrum at a pixel: the stored values */
   g_assert_true (efflux_spectrum_at_pixel (cube, 7, 3, spec, &error));
   for (gsize k = 0; k < NCHAN; k++)

@@ -485,6 +485,31 @@ test_commands (void)
   for (gsize i = 0; i < NX * NY; i++)
     g_assert_cmpfloat (fabs (back[i] - expect[i]), <=, 1e-5 * fabs (expect[i]));
 
+  /* with a clip: the same as efflux_moment_map on the loaded cube (whose noise the loader
+   * estimated) */
+  {
+    char *argv[] = { "moment", cube_path, "--order", "1", "--range", "-2:2", "--clip-sigma", "2",
+                     "-o", mom_path, NULL };
+    g_autofree char *err = NULL;
+    g_autoptr (EffluxCube) loaded = efflux_cube_load (cube_path, NULL, NULL, NULL, NULL, &error);
+
+    g_assert_no_error (error);
+    g_assert_cmpint (run_cli (argv, &err), ==, 0);
+    g_assert_true (efflux_moment_map (loaded, EFFLUX_MOMENT_1, -2.0, 2.0, 2.0, expect, &error));
+    g_assert_no_error (error);
+    status = 0;
+    fits_open_file (&f, mom_path, READONLY, &status);
+    fits_read_img (f, TFLOAT, 1, NX * NY, NULL, back, &anynul, &status);
+    read_key_string (f, "BUNIT", text);
+    g_assert_cmpstr (text, ==, "km/s");
+    g_assert_cmpfloat_with_epsilon (read_key_double (f, "CLIPSIG"), 2.0, 1e-12);
+    fits_close_file (f, &status);
+    g_assert_cmpint (status, ==, 0);
+    for (gsize i = 0; i < NX * NY; i++)
+      g_assert_true ((isnan (back[i]) && isnan (expect[i])) ||
+                     fabs (back[i] - expect[i]) <= 1e-5 * MAX (1.0, fabs (expect[i])));
+  }
+
   /* refusals: a range with no channel (1, naming --range), bad usage (2) */
   {
     char *argv[] = { "moment", cube_path, "--order", "1", "--range", "40:50", "-o", mom_path,
