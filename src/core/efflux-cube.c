@@ -890,7 +890,7 @@ efflux_cube_load (const char                  *path,
   g_autoptr(EffluxCube) cube = NULL;
   g_autoptr(fitsfile) f = NULL;
   GStatBuf st;
-  int status = 0, nhdu = 0, hdu = 0, naxis = 0, bitpix = 0, hdutype = 0;
+  int status = 0, nhdu = 0, hdu = 0, naxis = 0, data_naxis = 0, bitpix = 0, hdutype = 0;
   LONGLONG naxes[MAX_AXES] = { 0 };
   gboolean gz = FALSE, tile_compressed = FALSE;
   char *header = NULL;
@@ -1121,12 +1121,18 @@ efflux_cube_load (const char                  *path,
   if (hdu > 1)
     efflux_cube_add_note (cube, "cube read from HDU %d (the first image extension with three axes or more)", hdu);
 
-  if (wcs->naxis != naxis)
+  if (wcs->naxis < naxis || wcs->naxis > MAX_AXES)
     {
       g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                   "%s: WCSAXES = %d differs from NAXIS = %d", path, wcs->naxis, naxis);
+                   "%s: WCSAXES = %d does not fit NAXIS = %d", path, wcs->naxis, naxis);
       goto out;
     }
+  /* world axes beyond the data axes (WCSAXES > NAXIS, e.g. a STOKES axis given only by its
+   * keywords) are degenerate axes of length 1 */
+  data_naxis = naxis;
+  for (int i = naxis; i < wcs->naxis; i++)
+    naxes[i] = 1;
+  naxis = wcs->naxis;
 
   /* the spectral axis and its step, before wcsfix (cdfix would turn an all-zero CD row into 1) */
   for (int i = 0; i < naxis; i++)
@@ -1210,6 +1216,16 @@ efflux_cube_load (const char                  *path,
     {
       g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
                    "%s: CTYPE1..CTYPE%d: no pair of celestial axes (RA/DEC or GLON/GLAT)", path, naxis);
+      goto out;
+    }
+
+  if (ilng >= data_naxis || ilat >= data_naxis || ispec >= data_naxis)
+    {
+      int i = ilng >= data_naxis ? ilng : ilat >= data_naxis ? ilat : ispec;
+
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                   "%s: CTYPE%d = '%s' is not one of the NAXIS = %d data axes", path, i + 1, orig_ctype[i],
+                   data_naxis);
       goto out;
     }
 

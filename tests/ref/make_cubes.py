@@ -299,6 +299,8 @@ make("f32-tan-dvr", order=("lat", "spec", "lng"),
 make("f32-stokes1", extra_axis=("STOKES", 1), cards={"SPECSYS": "LSRK"})
 make("f32-stokes2", extra_axis=("STOKES", 2), cards={"SPECSYS": "LSRK"}, expect_notes=("STOKES",))
 make("f32-blank4", extra_axis=("", 1), cards={"SPECSYS": "LSRK"})
+make("f32-wcsaxes4", cards={"SPECSYS": "LSRK", "WCSAXES": 4, "CTYPE4": "STOKES", "CRVAL4": 1.0,
+                            "CDELT4": 1.0, "CRPIX4": 1.0})
 make("f32-velo-lsr", spec={"ctype": "VELO-LSR", "crval": 6000.0, "cdelt": -500.0, "cunit": "m/s"},
      cards={"VELREF": 257, "RESTFRQ": F230}, expect_notes=("spcfix",))
 make("f32-felo-lsr", spec={"ctype": "FELO-LSR", "crval": 6000.0, "cdelt": -500.0, "cunit": "m/s"},
