@@ -9,6 +9,9 @@
 #include <errno.h>
 #include <fcntl.h>
 #include <sys/mman.h>
+#ifdef __SSE2__
+#include <emmintrin.h>
+#endif
 #include <unistd.h>
 #include <stdio.h>
 #include <sys/stat.h>
@@ -635,6 +638,25 @@ typedef struct
   gsize s_in;    /* stride in the chunk */
 } Loop;
 
+/* Copy n words to the voxel array. Aligned runs of whole 16-byte groups use non-temporal stores:
+ * the output is written once and not read back soon, so it need not be fetched into the cache
+ * first (saves a third of the memory traffic of the transpose). */
+static inline void
+copy_run (guint32       *dst,
+          const guint32 *src,
+          gsize          n)
+{
+#ifdef __SSE2__
+  if (((guintptr) dst & 15) == 0 && n % 4 == 0)
+    {
+      for (gsize i = 0; i < n; i += 4)
+        _mm_stream_si128 ((__m128i *) (dst + i), _mm_loadu_si128 ((const __m128i *) (src + i)));
+      return;
+    }
+#endif
+  memcpy (dst, src, n * sizeof (guint32));
+}
+
 /* Copy a chunk of file data (three axes, file order) into the spectral-contiguous output,
  * byte-swapping big-endian words when swap is TRUE. The loops run from the largest output stride
  * to the smallest; the middle axis is walked in tiles of TILE so that the reads are short
@@ -704,13 +726,16 @@ transpose_chunk (const guint32 *in,
               }
             if (l[2].s_out == 1)
               for (gsize j = 0; j < jn; j++)
-                memcpy (ob + j * l[1].s_out, tile + j * TILE_K, kn * sizeof (guint32));
+                copy_run (ob + j * l[1].s_out, tile + j * TILE_K, kn);
             else
               for (gsize j = 0; j < jn; j++)
                 for (gsize k = 0; k < kn; k++)
                   ob[j * l[1].s_out + k * l[2].s_out] = tile[j * TILE_K + k];
           }
   }
+#ifdef __SSE2__
+  _mm_sfence ();
+#endif
 }
 
 /* The fast path for uncompressed, unscaled BITPIX = -32 data: pread() the big-endian words and
