@@ -528,6 +528,62 @@ test_mutations (void)
   g_unlink (good);
 }
 
+/* Every voxel in place, on the float32 path with several chunks and both threads: value =
+ * x + 100 y + 10000 k (exact in float32), NaN kept. nchan = 40 (a multiple of 4: whole 16-byte
+ * runs) and nchan = 37 (odd runs). */
+static void
+test_layout_float32 (void)
+{
+  const gsize nx = 67, ny = 48;
+  const gsize nchans[] = { 40, 37 };
+
+  for (gsize t = 0; t < G_N_ELEMENTS (nchans); t++)
+    {
+      gsize nchan = nchans[t];
+      g_autofree char *n3 = g_strdup_printf ("NAXIS3  = %" G_GSIZE_FORMAT, nchan);
+      const char *cards[] = { "SIMPLE  =                    T", "BITPIX  =                  -32",
+                              "NAXIS   =                    3", "NAXIS1  =                   67",
+                              "NAXIS2  =                   48", n3, SKY_CARDS, "CTYPE3  = 'VRAD'",
+                              "CRVAL3  = 0.0", "CDELT3  = 250.0", "CRPIX3  = 1.0", "BUNIT   = 'K'", NULL };
+      gsize nvox = nx * ny * nchan;
+      g_autofree char *path = write_fits ("layout.fits", cards, nvox * 4);
+      g_autofree char *bytes = NULL;
+      gsize len = 0, head;
+      g_autoptr(GError) error = NULL;
+      g_autoptr(EffluxCube) cube = NULL;
+
+      g_assert_true (g_file_get_contents (path, &bytes, &len, NULL));
+      head = len - (nvox * 4 + (2880 - nvox * 4 % 2880) % 2880);
+      for (gsize k = 0; k < nchan; k++)
+        for (gsize y = 0; y < ny; y++)
+          for (gsize x = 0; x < nx; x++)
+            {
+              union { float f; guint32 u; } v;
+              guint32 be;
+
+              v.f = (x == 5 && y == 7) ? NAN : (float) (x + 100 * y + 10000 * k);
+              be = GUINT32_TO_BE (v.u);
+              memcpy (bytes + head + ((k * ny + y) * nx + x) * 4, &be, 4);
+            }
+      g_assert_true (g_file_set_contents (path, bytes, (gssize) len, NULL));
+      cube = efflux_cube_load (path, NULL, NULL, NULL, NULL, &error);
+      g_assert_no_error (error);
+      for (gsize y = 0; y < ny; y++)
+        for (gsize x = 0; x < nx; x++)
+          {
+            const float *spec = efflux_cube_spectrum (cube, x, y);
+
+            for (gsize k = 0; k < nchan; k++)
+              if (x == 5 && y == 7)
+                g_assert_true (isnan (spec[k]));
+              else if (spec[k] != (float) (x + 100 * y + 10000 * k))
+                g_error ("voxel (%" G_GSIZE_FORMAT ", %" G_GSIZE_FORMAT ", %" G_GSIZE_FORMAT "): %g",
+                         x, y, k, spec[k]);
+          }
+      g_unlink (path);
+    }
+}
+
 static void
 on_progress (double   fraction,
              gpointer data)
@@ -606,6 +662,7 @@ main (int    argc,
   g_test_add_func ("/cube/bad-files", test_bad_files);
   g_test_add_func ("/cube/progress-cancel", test_progress_cancel);
   g_test_add_func ("/cube/mutations", test_mutations);
+  g_test_add_func ("/cube/layout-float32", test_layout_float32);
   ret = g_test_run ();
   g_rmdir (tmpdir);
   g_free (tmpdir);
