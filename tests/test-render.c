@@ -339,6 +339,31 @@ test_colormap_apply (void)
   /* the middle of the range: round (127.5) = 128 */
   g_assert_cmpint (rgba[12], ==, 128);
   g_assert_cmpint (rgba[16], ==, 255);
+
+  /* the table index is round (255 x stretch (v)) for every stretch, also at the edges between
+   * two entries (the apply function searches precomputed thresholds instead of evaluating) */
+  {
+    g_autoptr(GRand) rand = g_rand_new_with_seed (99);
+    const gsize n = 20000;
+    g_autofree float *v = g_new (float, n);
+    g_autofree guint8 *out = g_malloc (n * 4);
+
+    for (int i = 0; i < EFFLUX_COLORMAP_SIZE; i++)
+      lut[4 * i] = (guint8) i, lut[4 * i + 1] = lut[4 * i + 2] = 0, lut[4 * i + 3] = 255;
+    for (int s = 0; s < EFFLUX_N_STRETCHES; s++)
+      {
+        for (gsize i = 0; i < n; i++)
+          v[i] = (i % 2) ? (float) g_rand_double_range (rand, -3.0, 14.0)
+                         : (float) (-2.0 + 12.0 * (i / 2 % 255 + 0.5) / 255.0);
+        efflux_colormap_apply (lut, (EffluxStretchKind) s, -2.0, 10.0, v, n, out);
+        for (gsize i = 0; i < n; i++)
+          {
+            long want = lround (efflux_stretch_apply ((EffluxStretchKind) s, v[i], -2.0, 10.0) * 255.0);
+
+            g_assert_cmpint (out[4 * i], ==, want);
+          }
+      }
+  }
 }
 
 static void

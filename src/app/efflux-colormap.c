@@ -4,6 +4,7 @@
 #include "config.h"
 
 #include <math.h>
+#include <string.h>
 
 #include "efflux-colormap.h"
 
@@ -224,6 +225,29 @@ efflux_colormap_fill (EffluxColormapKind kind,
     }
 }
 
+/* The inverse of a stretch: the x in [0, 1] where it reaches y. */
+static double
+stretch_inverse (EffluxStretchKind kind,
+                 double            y)
+{
+  switch (kind)
+    {
+    case EFFLUX_STRETCH_SQRT:
+      return y * y;
+    case EFFLUX_STRETCH_LOG:
+      return expm1 (y * log1p (EFFLUX_STRETCH_LOG_A)) / EFFLUX_STRETCH_LOG_A;
+    case EFFLUX_STRETCH_ASINH:
+      return EFFLUX_STRETCH_ASINH_B * sinh (y * asinh (1.0 / EFFLUX_STRETCH_ASINH_B));
+    case EFFLUX_STRETCH_LINEAR:
+    case EFFLUX_N_STRETCHES:
+    default:
+      return y;
+    }
+}
+
+/* Every stretch is increasing, so the table entry round (255 y(v)) is the number of thresholds
+ * t_k <= v, where t_k (k = 1 .. 255) is the value at which 255 y first reaches k - 1/2. A binary
+ * search over the 255 thresholds replaces evaluating the stretch (log, asinh) at every pixel. */
 void
 efflux_colormap_apply (const guint8       lut[EFFLUX_COLORMAP_SIZE * 4],
                        EffluxStretchKind  stretch,
@@ -233,21 +257,82 @@ efflux_colormap_apply (const guint8       lut[EFFLUX_COLORMAP_SIZE * 4],
                        gsize              n,
                        guint8            *rgba)
 {
+  double thresholds[EFFLUX_COLORMAP_SIZE]; /* thresholds[k] for k = 1 .. 255 */
+  gboolean flat = !(hi > lo);
+
+  thresholds[0] = -INFINITY;
+
+  if (isnan (lo) || isnan (hi))
+    {
+      memset (rgba, 0, n * 4);
+      return;
+    }
+  for (int k = 1; k < EFFLUX_COLORMAP_SIZE && !flat; k++)
+    {
+      /* the smallest value whose stretch reaches k - 1/2 steps: start from the analytic
+       * inverse, then bisect a tight bracket [below, above] down to neighbouring doubles so
+       * that the search agrees with the forward stretch (and its rounding) exactly */
+      const double target = k - 0.5;
+      double guess = lo + stretch_inverse (stretch, target / (EFFLUX_COLORMAP_SIZE - 1)) * (hi - lo);
+      double delta = 1e-9 * (hi - lo);
+      double below = lo, above = hi;
+
+#define REACHES(v) (efflux_stretch_apply (stretch, (v), lo, hi) * (EFFLUX_COLORMAP_SIZE - 1) >= target)
+      if (REACHES (guess))
+        {
+          above = guess;
+          if (guess - delta > below && !REACHES (guess - delta))
+            below = guess - delta;
+        }
+      else
+        {
+          below = guess;
+          if (guess + delta < above && REACHES (guess + delta))
+            above = guess + delta;
+        }
+      for (int iter = 0; iter < 200 && nextafter (below, above) < above; iter++)
+        {
+          double mid = below + (above - below) / 2.0;
+
+          if (mid <= below || mid >= above)
+            break;
+          if (REACHES (mid))
+            above = mid;
+          else
+            below = mid;
+        }
+#undef REACHES
+      thresholds[k] = above;
+    }
+
   for (gsize i = 0; i < n; i++)
     {
-      double y;
+      double v = values[i];
       int idx;
 
-      if (!isfinite (values[i]) || isnan (y = efflux_stretch_apply (stretch, values[i], lo, hi)))
+      if (!isfinite (v))
         {
-          rgba[4 * i + 0] = rgba[4 * i + 1] = rgba[4 * i + 2] = rgba[4 * i + 3] = 0;
+          memset (rgba + 4 * i, 0, 4);
           continue;
         }
-      idx = (int) lround (y * (EFFLUX_COLORMAP_SIZE - 1));
-      idx = CLAMP (idx, 0, EFFLUX_COLORMAP_SIZE - 1);
-      rgba[4 * i + 0] = lut[4 * idx + 0];
-      rgba[4 * i + 1] = lut[4 * idx + 1];
-      rgba[4 * i + 2] = lut[4 * idx + 2];
-      rgba[4 * i + 3] = lut[4 * idx + 3];
+      if (flat)
+        idx = v <= lo ? 0 : EFFLUX_COLORMAP_SIZE - 1;
+      else
+        {
+          /* the largest k with thresholds[k] <= v (thresholds[0] = -inf): a branch-free
+           * binary search (the comparison becomes a conditional move) */
+          const double *base = thresholds;
+          int len = EFFLUX_COLORMAP_SIZE;
+
+          while (len > 1)
+            {
+              int half = len / 2;
+
+              base = (base[half] <= v) ? base + half : base;
+              len -= half;
+            }
+          idx = (int) (base - thresholds);
+        }
+      memcpy (rgba + 4 * i, lut + 4 * idx, 4);
     }
 }
