@@ -76,8 +76,25 @@ gboolean     efflux_moment_map (const EffluxCube  *cube,
 
 typedef struct _EffluxMomentCache EffluxMomentCache;
 
+/* EFFLUX_MOMENT_CACHE_FAST adds a channel-major copy of the cube (planes[k][pixel]): the
+ * remainders of a new range are then whole planes read in order (at most BLOCK / 2 per end, 1 MiB
+ * each on 512 x 512) instead of one random cache line per range end and pixel, and the cube is not
+ * touched. The sums are the same (double, NaN-aware), so are the maps. It costs 1x the cube more
+ * (1.22x with the compact sums), above DESIGN.md's memory budget: for callers that have the memory
+ * (efflux_memory_available) and want the latency. The default is compact. */
+typedef enum
+{
+  EFFLUX_MOMENT_CACHE_COMPACT = 0,
+  EFFLUX_MOMENT_CACHE_FAST = 1 << 0,
+} EffluxMomentCacheFlags;
+
+/* The compact cache (flags EFFLUX_MOMENT_CACHE_COMPACT). */
 EffluxMomentCache *efflux_moment_cache_new   (const EffluxCube   *cube,
                                               GError            **error);
+EffluxMomentCache *efflux_moment_cache_new_full (const EffluxCube        *cube,
+                                                 EffluxMomentCacheFlags   flags,
+                                                 GError                 **error);
+gboolean           efflux_moment_cache_is_fast  (const EffluxMomentCache *cache);
 void               efflux_moment_cache_free  (EffluxMomentCache  *cache);
 /* Bytes held by the cache (its planes). */
 guint64            efflux_moment_cache_bytes (const EffluxMomentCache *cache);

@@ -217,6 +217,38 @@ main (int    argc,
             failures++;
         }
     }
+  /* the same with the channel-major copy (EFFLUX_MOMENT_CACHE_FAST) */
+  g_clear_pointer (&cache, efflux_moment_cache_free);
+  t0 = g_get_monotonic_time ();
+  cache = efflux_moment_cache_new_full (cube, EFFLUX_MOMENT_CACHE_FAST, &error);
+  g_assert_no_error (error);
+  printf ("with the channel-major copy: built in %.3f s, %.0f MiB (%.2f x the cube)\n",
+          (g_get_monotonic_time () - t0) / 1e6, efflux_moment_cache_bytes (cache) / 1048576.0,
+          efflux_moment_cache_bytes (cache) / (double) (nx * ny * nchan * 4));
+  efflux_moment_cache_map (cache, EFFLUX_MOMENT_0, ranges[0][0], ranges[0][1], map, NULL);
+  for (int order = EFFLUX_MOMENT_0; order <= EFFLUX_MOMENT_1; order++)
+    {
+      double cpu[N_RANGES], cbest, cmedian;
+
+      for (int r = 0; r < N_RANGES; r++)
+        {
+          double c0 = cpu_seconds ();
+
+          t0 = g_get_monotonic_time ();
+          efflux_moment_cache_map (cache, order, ranges[r][0], ranges[r][1], map, NULL);
+          t[r] = (g_get_monotonic_time () - t0) / 1e3;
+          cpu[r] = (cpu_seconds () - c0) * 1e3;
+        }
+      best_median (t, N_RANGES, &best, &median);
+      best_median (cpu, N_RANGES, &cbest, &cmedian);
+      printf ("moment %d over a new range, channel-major copy: wall best %.2f ms, median %.2f ms; "
+              "CPU best %.2f ms, median %.2f ms\n", order, best, median, cbest, cmedian);
+      if (order == 0)
+        printf ("  target <= 5 ms: %s on the best run, %s on the median (memory above budget)\n",
+                best <= 5.0 ? "met" : "MISSED", median <= 5.0 ? "met" : "missed");
+    }
+  g_clear_pointer (&cache, efflux_moment_cache_free);
+
   for (int r = 0; r < 5; r++)
     {
       t0 = g_get_monotonic_time ();
