@@ -350,6 +350,8 @@ noise_worker (gpointer data)
           med = median_in_place (v, n);
           for (gsize i = 0; i < n; i++)
             v[i] = fabsf (v[i] - (float) med);
+          /* 1.4826 = 1 / Phi^-1 (3/4): the MAD of a Gaussian is 0.6745 sigma (Rousseeuw &
+           * Croux 1993, JASA 88, 1273) */
           cube->rms[k0 + b] = (float) (1.4826 * median_in_place (v, n));
         }
     }
@@ -1008,7 +1010,15 @@ efflux_cube_load (const char                  *path,
           return NULL;
         }
       if (hdutype != IMAGE_HDU)
-        continue;
+        {
+          if (want_hdu > 0)
+            {
+              g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                           "%s: HDU %d: XTENSION: a table, not an image", path, h);
+              return NULL;
+            }
+          continue;
+        }
       fits_get_img_dim (f, &nax, &status);
       if (status == 0 && nax >= 3)
         {
