@@ -499,6 +499,8 @@ draw_grid (EffluxSkyView *self,
     return;
   {
     double ref_ra = self->src_ra, ref_dec = self->src_dec;
+    /* fewer lines in a small view, so that the labels (about 100 pixels wide) do not crowd */
+    int max_lines = CLAMP (MIN (w / 140, h / 70), 2, GRID_LINES);
 
     /* offsets are from the source, or from the map's centre when no source is known */
     if (!self->has_source
@@ -506,7 +508,7 @@ draw_grid (EffluxSkyView *self,
                                        (self->height - 1.0) / 2.0, &ref_ra, &ref_dec))
       return;
     grid = efflux_skygrid_new (self->cube, x0, y0, x1, y1, (EffluxSkyGridStyle) self->grid,
-                               ref_ra, ref_dec, GRID_LINES);
+                               ref_ra, ref_dec, max_lines);
   }
   if (grid == NULL)
     return;
