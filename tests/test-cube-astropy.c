@@ -228,6 +228,15 @@ check_specific (void)
   g_assert_no_error (error);
   g_assert_cmpstr (c5->specsys, ==, "BARYCENT");
   g_assert_cmpstr (c5->spectral_ctype, ==, "FREQ");
+  {
+    /* a rotated pixel grid (PC matrix, 20 deg): the pixel size is still |CDELT| = 0.5" */
+    g_autofree char *p6 = g_build_filename (tmpdir, "f32-pc-rotated.fits", NULL);
+    g_autoptr(EffluxCube) c6 = efflux_cube_load (p6, NULL, NULL, NULL, NULL, &error);
+
+    g_assert_no_error (error);
+    g_assert_cmpfloat_with_epsilon (c6->pixel_arcsec[0], 0.5, 1e-9);
+    g_assert_cmpfloat_with_epsilon (c6->pixel_arcsec[1], 0.5, 1e-9);
+  }
 }
 
 /* efflux-cli info --json on one cube: the JSON parses (Python's json module) and holds the keys of

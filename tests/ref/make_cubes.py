@@ -299,6 +299,9 @@ make("f32-tan-dvr", order=("lat", "spec", "lng"),
 make("f32-stokes1", extra_axis=("STOKES", 1), cards={"SPECSYS": "LSRK"})
 make("f32-stokes2", extra_axis=("STOKES", 2), cards={"SPECSYS": "LSRK"}, expect_notes=("STOKES",))
 make("f32-blank4", extra_axis=("", 1), cards={"SPECSYS": "LSRK"})
+make("f32-pc-rotated", sky={"ctype1": "RA---TAN", "ctype2": "DEC--TAN"},
+     cards={"SPECSYS": "LSRK", "PC1_1": np.cos(np.radians(20.0)), "PC1_2": -np.sin(np.radians(20.0)),
+            "PC2_1": np.sin(np.radians(20.0)), "PC2_2": np.cos(np.radians(20.0))})
 make("f32-wcsaxes4", cards={"SPECSYS": "LSRK", "WCSAXES": 4, "CTYPE4": "STOKES", "CRVAL4": 1.0,
                             "CDELT4": 1.0, "CRPIX4": 1.0})
 make("f32-velo-lsr", spec={"ctype": "VELO-LSR", "crval": 6000.0, "cdelt": -500.0, "cunit": "m/s"},
