@@ -106,12 +106,13 @@ static const int cases[16][4] = {
   { -1, -1, -1, -1 },  /* 15 */
 };
 
+/* adj: 2 x n_edges entries, all -1 on entry and on return (only the entries used are reset). */
 static void
 trace_level (const Grid *g,
+             gssize     *adj,
              GPtrArray  *out)
 {
   g_autoptr (GArray) segs = g_array_new (FALSE, FALSE, sizeof (Segment));
-  g_autofree gssize *adj = NULL;
   g_autofree guint8 *used = NULL;
   const gsize nx = g->nx, ny = g->ny;
   const double L = g->level;
@@ -162,9 +163,6 @@ trace_level (const Grid *g,
     return;
 
   /* each edge is shared by at most two cells, so it ends at most two segments */
-  adj = g_new (gssize, 2 * g->n_edges);
-  for (gsize e = 0; e < 2 * g->n_edges; e++)
-    adj[e] = -1;
   for (guint s = 0; s < segs->len; s++)
     {
       Segment *sg = &g_array_index (segs, Segment, s);
@@ -240,6 +238,15 @@ trace_level (const Grid *g,
         line->xy = (double *) g_array_free (g_steal_pointer (&pts), FALSE);
         g_ptr_array_add (out, line);
       }
+
+  /* leave adj clean for the next level */
+  for (guint s0 = 0; s0 < segs->len; s0++)
+    {
+      Segment *sg = &g_array_index (segs, Segment, s0);
+
+      adj[2 * sg->e[0]] = adj[2 * sg->e[0] + 1] = -1;
+      adj[2 * sg->e[1]] = adj[2 * sg->e[1] + 1] = -1;
+    }
 }
 
 GPtrArray *
@@ -250,6 +257,7 @@ efflux_contour_trace_levels (const float  *image,
                              gsize         n_levels)
 {
   GPtrArray *out = g_ptr_array_new_with_free_func ((GDestroyNotify) efflux_polyline_free);
+  g_autofree gssize *adj = NULL;
   Grid g;
 
   if (image == NULL || nx < 2 || ny < 2)
@@ -259,12 +267,15 @@ efflux_contour_trace_levels (const float  *image,
   g.ny = ny;
   g.n_h = (nx - 1) * ny;
   g.n_edges = g.n_h + nx * (ny - 1);
+  adj = g_new (gssize, 2 * g.n_edges);
+  for (gsize e = 0; e < 2 * g.n_edges; e++)
+    adj[e] = -1;
   for (gsize l = 0; l < n_levels; l++)
     {
       if (!isfinite (levels[l]))
         continue;
       g.level = levels[l];
-      trace_level (&g, out);
+      trace_level (&g, adj, out);
     }
   return out;
 }
