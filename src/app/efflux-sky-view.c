@@ -738,8 +738,13 @@ build_scene (EffluxSkyView *self,
   cr = gtk_snapshot_append_cairo (snapshot, &GRAPHENE_RECT_INIT (0, 0, w, h));
   draw_grid (self, cr, w, h);
   draw_source (self, cr);
-  draw_beam (self, cr, w, h);
-  draw_scale_bar (self, cr, w, h);
+  {
+    /* the beam and the scale bar sit above the grid's labels along the bottom edge */
+    int bottom = h - (self->grid >= 0 ? 24 : 0);
+
+    draw_beam (self, cr, w, bottom);
+    draw_scale_bar (self, cr, w, bottom);
+  }
   cairo_destroy (cr);
   return gtk_snapshot_free_to_node (snapshot);
 }
