@@ -165,10 +165,49 @@ sorted_median (float *v,
 }
 
 static void
+check_mad_exact (EffluxCube *c,
+                 GRand      *r)
+{
+  gsize npx = c->nx * c->ny;
+
+  g_assert_cmpuint (c->nchan, ==, 6);
+  for (gsize p = 0; p < npx; p++)
+    {
+      float *spec = c->data + p * c->nchan;
+
+      spec[0] = (float) gauss (r);
+      spec[1] = (float) gauss (r) * 3.0f;
+      spec[2] = (float) g_rand_int_range (r, -5, 6);                 /* many ties */
+      spec[3] = p % 97 == 0 ? 1e30f : (float) gauss (r);           /* far outliers */
+      spec[4] = 2.5f;                                               /* constant */
+      spec[5] = p % 2 ? (float) gauss (r) * 1e-3f : 1e6f + (float) gauss (r);   /* two clumps */
+    }
+  c->data[5 * c->nchan + 1] = NAN;   /* channel 1: an even (or odd) count */
+  efflux_cube_estimate_noise (c);
+  for (gsize k = 0; k < c->nchan; k++)
+    {
+      gsize n = 0;
+      g_autofree float *v = g_new (float, npx);
+      double med;
+
+      for (gsize p = 0; p < npx; p++)
+        if (isfinite (c->data[p * c->nchan + k]))
+          v[n++] = c->data[p * c->nchan + k];
+      med = sorted_median (v, n);
+      for (gsize i = 0; i < n; i++)
+        v[i] = fabsf (v[i] - (float) med);
+      if (c->rms[k] != (float) (1.4826 * sorted_median (v, n)))
+        g_error ("%" G_GSIZE_FORMAT " pixels, channel %" G_GSIZE_FORMAT ": rms %.9g, sorted %.9g", npx, k,
+                 c->rms[k], 1.4826 * sorted_median (v, n));
+    }
+}
+
+static void
 test_noise (void)
 {
   g_autoptr(EffluxCube) cube = efflux_cube_new_simple (300, 301, 9, 0.0, 0.0, 1.0, 0.0, 1.0, 0.0);
-  g_autoptr(EffluxCube) small = efflux_cube_new_simple (31, 33, 4, 0.0, 0.0, 1.0, 0.0, 1.0, 0.0);
+  g_autoptr(EffluxCube) small = efflux_cube_new_simple (31, 33, 6, 0.0, 0.0, 1.0, 0.0, 1.0, 0.0);
+  g_autoptr(EffluxCube) large = efflux_cube_new_simple (100, 101, 6, 0.0, 0.0, 1.0, 0.0, 1.0, 0.0);
   g_autoptr(GRand) r = g_rand_new_with_seed (20261201);
   gsize npix = cube->nx * cube->ny;
 
@@ -193,26 +232,10 @@ test_noise (void)
         g_error ("channel %" G_GSIZE_FORMAT ": rms %.5f, sigma %.5f", k, cube->rms[k], sigma);
     }
 
-  /* exactness of the selection: 1023 pixels (odd and even counts), against a full sort */
-  for (gsize p = 0; p < small->nx * small->ny; p++)
-    for (gsize k = 0; k < small->nchan; k++)
-      small->data[p * small->nchan + k] = (float) (gauss (r) * (k + 1));
-  small->data[5 * small->nchan + 1] = NAN;   /* channel 1: 1022 finite values */
-  efflux_cube_estimate_noise (small);
-  for (gsize k = 0; k < small->nchan; k++)
-    {
-      gsize n = 0, npx = small->nx * small->ny;
-      g_autofree float *v = g_new (float, npx);
-      double med;
-
-      for (gsize p = 0; p < npx; p++)
-        if (isfinite (small->data[p * small->nchan + k]))
-          v[n++] = small->data[p * small->nchan + k];
-      med = sorted_median (v, n);
-      for (gsize i = 0; i < n; i++)
-        v[i] = fabsf (v[i] - (float) med);
-      g_assert_cmpfloat (small->rms[k], ==, (float) (1.4826 * sorted_median (v, n)));
-    }
+  /* exactness of the selection against a full sort: 1023 pixels (the selection) and 10100 pixels
+   * (the histogram search), odd and even counts, ties, outliers, a constant channel */
+  check_mad_exact (small, r);
+  check_mad_exact (large, r);
 }
 
 /* ---------------------------------------------------------------------------------------- */

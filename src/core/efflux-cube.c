@@ -278,21 +278,106 @@ select_kth (float  *v,
   return v[k];
 }
 
+#define HIST_BINS 4096
+#define HIST_MIN_N 8192
+
+/* The values of ranks k_lo and k_hi = k_lo or k_lo + 1 of v[0..n), exactly. Large arrays: a
+ * histogram over [min, max] finds the bins holding the two ranks, the values of those bins are
+ * moved to the front and the search goes on among them; small ones (or when the histogram does
+ * not split the values): the selection above. v is reordered. */
+static void
+ranks_in_place (float *v,
+                gsize  n,
+                gsize  k_lo,
+                gsize  k_hi,
+                float *lo,
+                float *hi)
+{
+  float mn, mx;
+  double scale;
+  gsize cum = 0, b_lo = 0, b_hi = 0, base = 0, m = 0;
+  guint32 *counts;
+
+  if (n >= HIST_MIN_N)
+    {
+      mn = mx = v[0];
+      for (gsize i = 1; i < n; i++)
+        {
+          mn = MIN (mn, v[i]);
+          mx = MAX (mx, v[i]);
+        }
+      if (!(mx > mn))
+        {
+          *lo = *hi = mn;
+          return;
+        }
+      scale = HIST_BINS / ((double) mx - (double) mn);
+      counts = g_new0 (guint32, HIST_BINS);
+#define BIN_OF(x) MIN ((gsize) (((double) (x) - (double) mn) * scale), (gsize) HIST_BINS - 1)
+      for (gsize i = 0; i < n; i++)
+        counts[BIN_OF (v[i])]++;
+      for (gsize b = 0; b < HIST_BINS; b++)
+        {
+          if (cum + counts[b] > k_lo)
+            {
+              b_lo = b;
+              base = cum;
+              break;
+            }
+          cum += counts[b];
+        }
+      cum = base;
+      for (gsize b = b_lo; b < HIST_BINS; b++)
+        {
+          if (cum + counts[b] > k_hi)
+            {
+              b_hi = b;
+              break;
+            }
+          cum += counts[b];
+        }
+      g_free (counts);
+      for (gsize i = 0; i < n; i++)
+        {
+          gsize b = BIN_OF (v[i]);
+
+          if (b >= b_lo && b <= b_hi)
+            {
+              float t = v[m];
+              v[m] = v[i];
+              v[i] = t;
+              m++;
+            }
+        }
+#undef BIN_OF
+      if (m < n)
+        {
+          ranks_in_place (v, m, k_lo - base, k_hi - base, lo, hi);
+          return;
+        }
+    }
+  *hi = select_kth (v, (gssize) n, (gssize) k_hi);
+  if (k_lo == k_hi)
+    *lo = *hi;
+  else
+    {
+      /* v[0..k_hi) now holds the smaller values: rank k_hi - 1 is their maximum */
+      float l = v[0];
+
+      for (gsize i = 1; i < k_hi; i++)
+        if (v[i] > l)
+          l = v[i];
+      *lo = l;
+    }
+}
+
 static double
 median_in_place (float *v,
                  gsize  n)
 {
-  gsize half = n / 2;
-  float upper = select_kth (v, (gssize) n, (gssize) half);
-  float lower;
+  float lower, upper;
 
-  if (n % 2 == 1)
-    return upper;
-  /* v[0..half) now holds the smaller values: the lower middle is their maximum */
-  lower = v[0];
-  for (gsize i = 1; i < half; i++)
-    if (v[i] > lower)
-      lower = v[i];
+  ranks_in_place (v, n, (n - 1) / 2, n / 2, &lower, &upper);
   return 0.5 * ((double) lower + (double) upper);
 }
 
