@@ -1,4 +1,17 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
+/* Spectral-line cubes: the in-memory cube and the FITS reader (CFITSIO + wcslib).
+ *
+ * Reading: the HDU is chosen, its sizes checked against the file and the memory available
+ * before anything large is allocated; the header goes through wcslib's wcspih and wcsfixi
+ * (every fix reported in cube->notes), the sky axes become a 2-D wcsprm (wcssub) in their own
+ * frame (ICRS, FK5, FK4, galactic; conversions to ICRS in efflux-sky.c), the spectral axis is
+ * evaluated channel by channel with wcsp2s at the reference sky pixel and turned into radio
+ * velocity through nu/nu0 (Greisen et al. 2006, A&A 446, 747, table 1), moved from BARYCENT or
+ * HELIOCEN to LSRK with the standard solar motion, and the brightness converted to K (Jy/beam with
+ * the Rayleigh-Jeans relation, REFERENCES.md 1.1). The data are read in chunks of the slowest
+ * file axis and transposed so the spectral axis is contiguous: unscaled float32 files with
+ * pread() on two threads, everything else (integers, scaling, BLANK, gzip, tile compression)
+ * through CFITSIO. */
 #include "config.h"
 
 #include <math.h>
