@@ -2,7 +2,9 @@
 #include "efflux-maps.h"
 
 #include <math.h>
+#include <stdlib.h>
 #include <string.h>
+#include <sys/mman.h>
 
 /* ------------------------------------------------------------------------------------------ */
 /* Threads */
@@ -350,6 +352,28 @@ struct _EffluxMomentCache
   float            *planes;
 };
 
+/* Large planes in transparent huge pages when the system allows it (madvise before the first
+ * touch): fewer page faults while building, fewer TLB misses while reading. Free with g_free. */
+static void *
+plane_alloc (gsize n,
+             gsize size)
+{
+  const gsize huge = 2u << 20;
+  gsize bytes;
+  void *p = NULL;
+
+  if (!g_size_checked_mul (&bytes, MAX (n, 1), size))
+    return NULL;
+  if (bytes < 2 * huge)
+    return g_try_malloc (bytes);
+  if (posix_memalign (&p, huge, bytes) != 0)
+    return NULL;
+#ifdef MADV_HUGEPAGE
+  (void) madvise (p, bytes / huge * huge, MADV_HUGEPAGE);
+#endif
+  return p;
+}
+
 static inline gsize
 bound_channel (const EffluxMomentCache *cache,
                gsize                    b)
@@ -487,10 +511,10 @@ efflux_moment_cache_new_full (const EffluxCube        *cube,
   cache->nbound = (cube->nchan + EFFLUX_MOMENT_CACHE_BLOCK - 1) / EFFLUX_MOMENT_CACHE_BLOCK + 1;
   cells = cache->nbound * cache->npix;
   need = (guint64) cells * (3 * sizeof (double) + sizeof (guint32));
-  cache->p0 = g_try_new (double, cells);
-  cache->p1 = g_try_new (double, cells);
-  cache->p2 = g_try_new (double, cells);
-  cache->pn = g_try_new (guint32, cells);
+  cache->p0 = plane_alloc (cells, sizeof (double));
+  cache->p1 = plane_alloc (cells, sizeof (double));
+  cache->p2 = plane_alloc (cells, sizeof (double));
+  cache->pn = plane_alloc (cells, sizeof (guint32));
   if (cache->p0 == NULL || cache->p1 == NULL || cache->p2 == NULL || cache->pn == NULL)
     {
       g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_MEMORY,
@@ -500,7 +524,7 @@ efflux_moment_cache_new_full (const EffluxCube        *cube,
     }
   if (flags & EFFLUX_MOMENT_CACHE_FAST)
     {
-      cache->planes = g_try_new (float, cube->nchan * cache->npix);
+      cache->planes = plane_alloc (cube->nchan * cache->npix, sizeof (float));
       if (cache->planes == NULL)
         {
           g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_MEMORY,
@@ -680,11 +704,18 @@ query_rows (gsize    begin,
             {
               const float *ahead = spec + PREFETCH_AHEAD * nchan;
 
-              /* first and last line of each remainder (they span at most two) */
-              __builtin_prefetch (ahead + a.lo);
-              __builtin_prefetch (ahead + MAX (a.hi, 1) - 1);
-              __builtin_prefetch (ahead + z.lo);
-              __builtin_prefetch (ahead + MAX (z.hi, 1) - 1);
+              /* first and last line of each remainder (they span at most two); an empty
+               * remainder is not fetched at all */
+              if (a.lo < a.hi)
+                {
+                  __builtin_prefetch (ahead + a.lo);
+                  __builtin_prefetch (ahead + a.hi - 1);
+                }
+              if (z.lo < z.hi)
+                {
+                  __builtin_prefetch (ahead + z.lo);
+                  __builtin_prefetch (ahead + z.hi - 1);
+                }
             }
           for (gsize k = a.lo; k < a.hi; k++)
             if (isfinite (spec[k]))
@@ -717,8 +748,10 @@ query_rows (gsize    begin,
         {
           const float *ahead = spec + PREFETCH_AHEAD * nchan;
 
-          __builtin_prefetch (ahead + a.lo);
-          __builtin_prefetch (ahead + z.lo);
+          if (a.lo < a.hi)
+            __builtin_prefetch (ahead + a.lo);
+          if (z.lo < z.hi)
+            __builtin_prefetch (ahead + z.lo);
         }
       for (gsize k = a.lo; k < a.hi; k++)
         if (isfinite (spec[k]))

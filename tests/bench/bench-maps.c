@@ -16,6 +16,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include <time.h>
+#include <sys/mman.h>
 
 #include "efflux-cube.h"
 #include "efflux-fitsout.h"
@@ -217,8 +218,46 @@ main (int    argc,
             failures++;
         }
     }
-  /* the same with the channel-major copy (EFFLUX_MOMENT_CACHE_FAST) */
+  /* The same with the cube itself in transparent huge pages (madvise before the first touch, as
+   * a loader could allocate it): one random line per pixel costs a TLB miss less. */
   g_clear_pointer (&cache, efflux_moment_cache_free);
+  {
+    gsize bytes = nx * ny * nchan * sizeof (float);
+    void *huge = NULL;
+
+    if (posix_memalign (&huge, 2u << 20, bytes) == 0)
+      {
+        double cpu[N_RANGES], cbest, cmedian;
+
+        (void) madvise (huge, bytes, MADV_HUGEPAGE);
+        memcpy (huge, cube->data, bytes);
+        g_free (cube->data);
+        cube->data = huge;
+        cache = efflux_moment_cache_new (cube, &error);
+        g_assert_no_error (error);
+        efflux_moment_cache_map (cache, EFFLUX_MOMENT_0, ranges[0][0], ranges[0][1], map, NULL);
+        for (int r = 0; r < N_RANGES; r++)
+          {
+            double c0 = cpu_seconds ();
+
+            t0 = g_get_monotonic_time ();
+            efflux_moment_cache_map (cache, EFFLUX_MOMENT_0, ranges[r][0], ranges[r][1], map,
+                                     NULL);
+            t[r] = (g_get_monotonic_time () - t0) / 1e3;
+            cpu[r] = (cpu_seconds () - c0) * 1e3;
+          }
+        best_median (t, N_RANGES, &best, &median);
+        best_median (cpu, N_RANGES, &cbest, &cmedian);
+        printf ("moment 0 over a new range, cumulative sums, cube in huge pages: wall best %.2f ms, "
+                "median %.2f ms; CPU best %.2f ms, median %.2f ms\n", best, median, cbest,
+                cmedian);
+        printf ("  target <= 5 ms: %s on the best run, %s on the median\n",
+                best <= 5.0 ? "met" : "MISSED", median <= 5.0 ? "met" : "missed");
+        g_clear_pointer (&cache, efflux_moment_cache_free);
+      }
+  }
+
+  /* the same with the channel-major copy (EFFLUX_MOMENT_CACHE_FAST) */
   t0 = g_get_monotonic_time ();
   cache = efflux_moment_cache_new_full (cube, EFFLUX_MOMENT_CACHE_FAST, &error);
   g_assert_no_error (error);
