@@ -65,7 +65,10 @@ gboolean     efflux_moment_map (const EffluxCube  *cube,
  * cube for BLOCK = 32 (0.23 GiB for a 512 x 512 x 1024 cube), so the cube and its sums stay
  * within DESIGN.md's 1.3x. Cost of a new range: 4 sequential plane reads (2 for moment 0's sum,
  * 2 for its count) plus at most BLOCK / 2 contiguous floats per end and pixel read from the cube
- * (prefetched ahead), in threads over rows.
+ * (prefetched ahead), in threads over rows. The planes are allocated in transparent huge pages
+ * where the system allows (fewer page faults when building, fewer TLB misses when reading); the
+ * random line per range end and pixel is the dominant cost, and it is cheaper again when the
+ * cube's own buffer lies in huge pages (tests/bench/bench-maps.c measures both).
  * Moment 2 from prefix sums is one-pass, (sum T u^2 - (sum T u)^2 / sum T) / sum T: where sum T
  * is small against the noise (no line in the range) it loses digits; where the line is detected it
  * agrees with the two-pass value to float precision (tests/test-maps.c checks 1e-5).
