@@ -5,6 +5,7 @@
 
 #include <glib/gi18n.h>
 #include <math.h>
+#include <string.h>
 
 #include "efflux-colormap.h"
 #include "efflux-skygrid.h"
@@ -245,8 +246,8 @@ update_readout_text (EffluxSkyView *self)
           g_string_append_printf (s, _("%s E, %s N of the source"), e, n);
         }
       g_string_append (s, "   ");
-      /* Translators: the 0-based pixel under the pointer */
-      g_string_append_printf (s, _("pixel %zd, %zd"), r->x, r->y);
+      /* Translators: the pixel under the pointer, numbered from 1 as in FITS */
+      g_string_append_printf (s, _("FITS pixel %zd, %zd"), r->x + 1, r->y + 1);
       g_string_append (s, "   ");
       if (isnan (r->value))
         g_string_append (s, _("blank"));

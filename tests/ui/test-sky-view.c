@@ -138,6 +138,8 @@ test_sky_view (void)
         g_assert_cmpint (r.x, ==, x);
         g_assert_cmpint (r.y, ==, y);
         g_assert_cmpfloat (r.value, ==, 1000.0 * y + x);
+        if (x == 6 && y == 9)
+          g_assert_nonnull (strstr (efflux_sky_view_get_readout (view), "FITS pixel 7, 10"));
         g_assert_true (efflux_cube_pixel_to_icrs (cube, x, y, &ra, &dec));
         g_assert_cmpfloat (r.ra_deg, ==, ra);
         g_assert_cmpfloat (r.dec_deg, ==, dec);
