@@ -310,6 +310,52 @@ test_bad_file (void)
   g_assert_cmpint (g_rmdir (dir), ==, 0);
 }
 
+/* Files dropped on the window: a dossier among them is opened (the drop target's "drop" signal,
+ * emitted as a drag and drop would, with a GdkFileList of a cube and the demo dossier). */
+static void
+test_drop (void)
+{
+  g_autofree char *demo = efflux_application_find_demo ();
+  g_autofree char *dir = NULL;
+  g_autoptr(GListModel) controllers = NULL;
+  GtkDropTarget *target = NULL;
+  GFile *files[2];
+  GValue value = G_VALUE_INIT;
+  gboolean accepted = FALSE;
+  EffluxWindow *window;
+
+  g_assert_nonnull (demo);
+  dir = g_path_get_dirname (demo);
+  files[0] = g_file_new_build_filename (dir, "demo-sio54.fits", NULL);
+  files[1] = g_file_new_for_path (demo);
+
+  window = efflux_window_new (NULL);
+  gtk_window_present (GTK_WINDOW (window));
+  controllers = gtk_widget_observe_controllers (GTK_WIDGET (window));
+  for (guint i = 0; i < g_list_model_get_n_items (controllers) && target == NULL; i++)
+    {
+      g_autoptr(GObject) c = g_list_model_get_item (controllers, i);
+
+      if (GTK_IS_DROP_TARGET (c))
+        target = GTK_DROP_TARGET (c);
+    }
+  g_assert_nonnull (target);
+
+  g_value_init (&value, GDK_TYPE_FILE_LIST);
+  g_value_take_boxed (&value, gdk_file_list_new_from_array (files, 2));
+  g_signal_emit_by_name (target, "drop", &value, 10.0, 10.0, &accepted);
+  g_value_unset (&value);
+  g_assert_true (accepted);
+  wait_until_loaded (window);
+  g_assert_cmpstr (gtk_window_get_title (GTK_WINDOW (window)), ==, "Demo source A - Efflux");
+  g_assert_true (efflux_sky_view_has_map (efflux_window_get_sky_view (window)));
+  g_assert_cmpuint (efflux_window_get_n_sources (window), ==, 1);
+
+  g_object_unref (files[0]);
+  g_object_unref (files[1]);
+  gtk_window_destroy (GTK_WINDOW (window));
+}
+
 int
 main (int    argc,
       char **argv)
@@ -318,5 +364,6 @@ main (int    argc,
   g_test_add_func ("/ui/window/demo-opens", test_demo_opens);
   g_test_add_func ("/ui/window/cube-opens", test_cube_opens);
   g_test_add_func ("/ui/window/bad-file", test_bad_file);
+  g_test_add_func ("/ui/window/drop", test_drop);
   return g_test_run ();
 }
