@@ -563,6 +563,77 @@ test_skygrid_trace (void)
         }
     }
   g_assert_cmpint (n_lon, ==, 1);
+
+  /* a field across RA = 0 h: lines on both sides of the wrap, each point at its RA */
+  {
+    g_autoptr(EffluxCube) wrap = efflux_cube_new_simple (120, 90, 2, 0.002, 10.0, 0.25, 0.0, 1.0,
+                                                         230.538e9);
+    g_autoptr(EffluxSkyGrid) g = efflux_skygrid_new (wrap, -0.5, -0.5, 119.5, 89.5,
+                                                     EFFLUX_SKYGRID_SEXAGESIMAL, 0, 0, 6);
+    gboolean below_24h = FALSE, at_0h = FALSE;
+
+    g_assert_nonnull (g);
+    g_assert_cmpfloat (g->lon_step, ==, 0.5);
+    for (guint i = 0; i < g->lines->len; i++)
+      {
+        EffluxSkyGridLine *line = g_ptr_array_index (g->lines, i);
+        const double *p = (const double *) line->points->data;
+
+        if (!line->longitude)
+          continue;
+        g_assert_cmpfloat (line->value, >=, 0.0);
+        g_assert_cmpfloat (line->value, <, 360.0);
+        if (line->value > 359.0)
+          {
+            below_24h = TRUE;
+            g_assert_cmpstr (line->label, ==, "23h59m59.5s");
+          }
+        if (line->value == 0.0)
+          {
+            at_0h = TRUE;
+            g_assert_cmpstr (line->label, ==, "00h00m00.0s");
+          }
+        for (guint k = 0; k < line->points->len / 2; k++)
+          {
+            double ra, dec;
+
+            if (isnan (p[2 * k]))
+              continue;
+            g_assert_true (efflux_cube_pixel_to_icrs (wrap, p[2 * k], p[2 * k + 1], &ra, &dec));
+            g_assert_cmpfloat (fabs (remainder (ra - line->value, 360.0)), <, 1e-9);
+          }
+      }
+    g_assert_true (below_24h);
+    g_assert_true (at_0h);
+  }
+
+  /* the north celestial pole inside the field: every hour line meets it, four at 6 h steps */
+  {
+    g_autoptr(EffluxCube) polar = efflux_cube_new_simple (120, 90, 2, 45.0, 89.999, 0.25, 0.0, 1.0,
+                                                          230.538e9);
+    g_autoptr(EffluxSkyGrid) g = efflux_skygrid_new (polar, -0.5, -0.5, 119.5, 89.5,
+                                                     EFFLUX_SKYGRID_SEXAGESIMAL, 0, 0, 6);
+    double pole_x, pole_y;
+    int hours = 0;
+
+    g_assert_nonnull (g);
+    g_assert_true (efflux_cube_icrs_to_pixel (polar, 0.0, 90.0, &pole_x, &pole_y));
+    g_assert_cmpfloat (g->lon_step, ==, 21600.0);
+    for (guint i = 0; i < g->lines->len; i++)
+      {
+        EffluxSkyGridLine *line = g_ptr_array_index (g->lines, i);
+        const double *p = (const double *) line->points->data;
+        guint last = line->points->len / 2 - 1;
+
+        if (!line->longitude)
+          continue;
+        hours++;
+        /* traced up to Dec = 90: the last point is the pole */
+        g_assert_cmpfloat (fabs (p[2 * last] - pole_x), <, 1e-6);
+        g_assert_cmpfloat (fabs (p[2 * last + 1] - pole_y), <, 1e-6);
+      }
+    g_assert_cmpint (hours, ==, 4);
+  }
 }
 
 int

@@ -404,8 +404,9 @@ efflux_skygrid_new (const EffluxCube   *cube,
       if (efflux_cube_icrs_to_pixel (cube, 0.0, 90.0 * pole, &px, &py)
           && px >= x0 && px <= x1 && py >= y0 && py <= y1)
         {
+          /* half open, so that the hour line at the wrap is drawn once */
           lon_min = ra_c - 180.0;
-          lon_max = ra_c + 180.0;
+          lon_max = ra_c + 180.0 - 1e-9;
           if (pole > 0)
             lat_max = 90.0;
           else
