@@ -8,6 +8,7 @@
 #include <glib/gstdio.h>
 #include <math.h>
 #include <string.h>
+#include <wcslib/wcs.h>
 
 #include "../src/app/efflux-colormap.h"
 #include "efflux-cube.h"
@@ -605,6 +606,52 @@ test_skygrid_trace (void)
       }
     g_assert_true (below_24h);
     g_assert_true (at_0h);
+  }
+
+  /* a grid rotated by 35 deg (PC matrix) and a SIN projection: the lines follow the WCS, and
+   * still cross the label edges */
+  {
+    g_autoptr(EffluxCube) rot = efflux_cube_new_simple (120, 90, 2, 52.263, 31.255, 0.25, 0.0, 1.0,
+                                                        230.538e9);
+    g_autoptr(EffluxSkyGrid) g = NULL;
+    double c = cos (35.0 * G_PI / 180.0), s = sin (35.0 * G_PI / 180.0);
+    int n_lines = 0, n_anchored = 0;
+
+    rot->sky->pc[0] = c;
+    rot->sky->pc[1] = -s;
+    rot->sky->pc[2] = s;
+    rot->sky->pc[3] = c;
+    rot->sky->altlin |= 1;
+    strcpy (rot->sky->ctype[0], "RA---SIN");
+    strcpy (rot->sky->ctype[1], "DEC--SIN");
+    rot->sky->flag = 0;
+    g_assert_cmpint (wcsset (rot->sky), ==, 0);
+
+    g = efflux_skygrid_new (rot, -0.5, -0.5, 119.5, 89.5, EFFLUX_SKYGRID_SEXAGESIMAL, 0, 0, 6);
+    g_assert_nonnull (g);
+    for (guint i = 0; i < g->lines->len; i++)
+      {
+        EffluxSkyGridLine *line = g_ptr_array_index (g->lines, i);
+        const double *p = (const double *) line->points->data;
+
+        n_lines++;
+        n_anchored += line->has_anchor;
+        for (guint k = 0; k < line->points->len / 2; k++)
+          {
+            double ra, dec;
+
+            if (isnan (p[2 * k]))
+              continue;
+            g_assert_true (efflux_cube_pixel_to_icrs (rot, p[2 * k], p[2 * k + 1], &ra, &dec));
+            if (line->longitude)
+              g_assert_cmpfloat (fabs (remainder (ra - line->value, 360.0)), <, 1e-9);
+            else
+              g_assert_cmpfloat (fabs (dec - line->value), <, 1e-9);
+          }
+      }
+    g_assert_cmpint (n_lines, >=, 6);
+    /* rotated lines may leave through another edge; most still reach their label edge */
+    g_assert_cmpint (n_anchored, >=, n_lines / 2);
   }
 
   /* the north celestial pole inside the field: every hour line meets it, four at 6 h steps */
