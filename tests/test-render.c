@@ -10,10 +10,10 @@
 #include <string.h>
 #include <wcslib/wcs.h>
 
-#include "../src/app/efflux-colormap.h"
+#include "../src/render/efflux-colormap.h"
 #include "efflux-cube.h"
-#include "../src/app/efflux-skygrid.h"
-#include "../src/app/efflux-stretch.h"
+#include "../src/render/efflux-skygrid.h"
+#include "../src/render/efflux-stretch.h"
 
 /* Run tests/ref/render_ref.py with arguments; returns its stdout. A missing EFFLUX_PYTHON fails. */
 static char *

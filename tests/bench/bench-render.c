@@ -9,9 +9,9 @@
 #include <math.h>
 #include <stdlib.h>
 
-#include "../../src/app/efflux-colormap.h"
-#include "../../src/app/efflux-skygrid.h"
-#include "../../src/app/efflux-stretch.h"
+#include "../../src/render/efflux-colormap.h"
+#include "../../src/render/efflux-skygrid.h"
+#include "../../src/render/efflux-stretch.h"
 
 #define RUNS 15
 
