@@ -51,6 +51,34 @@ struct _EffluxSkyView
   char               *readout_text;
 
   GskRenderNode      *node;        /* cached scene; dropped on data, size and view changes */
+
+  /* editing */
+  EffluxDocument     *document;
+  int                 tool;        /* EffluxSkyTool */
+  char               *cube_id;
+  EffluxLobeKind      new_kind;
+  double              cut_width;   /* arcsec, for new cuts */
+  char               *selected;
+  GArray             *draft_x, *draft_y;   /* the outline being drawn, pixel coordinates */
+  int                 drag_what;
+  char               *drag_name;
+  gsize               drag_index;
+  double             *drag_px, *drag_py;   /* the outline when the drag began */
+  gsize               drag_n;
+  double              drag_mx, drag_my;    /* pixel position where the drag began */
+  guint               drag_merge;
+  char               *hover_lobe;
+  gssize              hover_vertex;
+  char               *edit_error;
+  GskRenderNode      *overlay_node; /* lobes, cuts, draft; dropped on edits and view changes */
+};
+
+enum {
+  DRAG_PAN,
+  DRAG_VERTEX,
+  DRAG_LOBE,
+  DRAG_SOURCE,
+  DRAG_CUT_VERTEX,
 };
 
 G_DEFINE_FINAL_TYPE (EffluxSkyView, efflux_sky_view, GTK_TYPE_WIDGET)
@@ -64,6 +92,10 @@ enum {
   PROP_ZOOM,
   PROP_READOUT,
   PROP_HAS_MAP,
+  PROP_TOOL,
+  PROP_SELECTED_LOBE,
+  PROP_NEW_LOBE_KIND,
+  PROP_CUT_WIDTH,
   N_PROPS
 };
 
@@ -75,6 +107,7 @@ static void
 invalidate (EffluxSkyView *self)
 {
   g_clear_pointer (&self->node, gsk_render_node_unref);
+  g_clear_pointer (&self->overlay_node, gsk_render_node_unref);
   gtk_widget_queue_draw (GTK_WIDGET (self));
 }
 
@@ -386,6 +419,843 @@ efflux_sky_view_unset_source (EffluxSkyView *self)
   self->has_source = FALSE;
   self->distance_pc = NAN;
   invalidate (self);
+}
+
+/* ---- editing: lobes, cuts and the source marker through the document ---- */
+
+#define HIT_VERTEX_PX 8.0
+#define HIT_EDGE_PX   6.0
+
+static const char *tool_names[] = { "pan", "lobe", "edit", "source", "cut" };
+
+static void
+invalidate_overlay (EffluxSkyView *self)
+{
+  g_clear_pointer (&self->overlay_node, gsk_render_node_unref);
+  gtk_widget_queue_draw (GTK_WIDGET (self));
+}
+
+static void
+set_edit_error (EffluxSkyView *self,
+                const GError  *error)
+{
+  g_free (self->edit_error);
+  self->edit_error = error ? g_strdup (error->message) : NULL;
+}
+
+/* An outline (ICRS) in 0-based pixel coordinates of the shown cube; FALSE when a vertex has no
+ * valid projection. *px and *py are new arrays. */
+static gboolean
+outline_to_pixels (EffluxSkyView *self,
+                   const double  *ra,
+                   const double  *dec,
+                   gsize          n,
+                   double       **px,
+                   double       **py)
+{
+  *px = g_new (double, MAX (n, 1));
+  *py = g_new (double, MAX (n, 1));
+  for (gsize i = 0; i < n; i++)
+    if (self->cube == NULL || self->cube->sky == NULL
+        || !efflux_cube_icrs_to_pixel (self->cube, ra[i], dec[i], &(*px)[i], &(*py)[i]))
+      {
+        g_clear_pointer (px, g_free);
+        g_clear_pointer (py, g_free);
+        return FALSE;
+      }
+  return TRUE;
+}
+
+static gboolean
+pixels_to_outline (EffluxSkyView *self,
+                   const double  *px,
+                   const double  *py,
+                   gsize          n,
+                   double        *ra,
+                   double        *dec)
+{
+  for (gsize i = 0; i < n; i++)
+    if (self->cube == NULL || self->cube->sky == NULL
+        || !efflux_cube_pixel_to_icrs (self->cube, px[i], py[i], &ra[i], &dec[i]))
+      return FALSE;
+  return TRUE;
+}
+
+static const EffluxDossier *
+current_dossier (EffluxSkyView *self)
+{
+  return self->document ? efflux_document_get_dossier (self->document) : NULL;
+}
+
+static double
+segment_distance (double  x,
+                  double  y,
+                  double  ax,
+                  double  ay,
+                  double  bx,
+                  double  by,
+                  double *t_out)
+{
+  double dx = bx - ax, dy = by - ay;
+  double len2 = dx * dx + dy * dy;
+  double t = len2 > 0 ? ((x - ax) * dx + (y - ay) * dy) / len2 : 0.0;
+
+  t = CLAMP (t, 0.0, 1.0);
+  if (t_out)
+    *t_out = t;
+  return hypot (x - (ax + t * dx), y - (ay + t * dy));
+}
+
+static gboolean
+point_in_polygon (double        x,
+                  double        y,
+                  const double *px,
+                  const double *py,
+                  gsize         n)
+{
+  gboolean inside = FALSE;
+
+  for (gsize i = 0, j = n - 1; i < n; j = i++)
+    if ((py[i] > y) != (py[j] > y)
+        && x < (px[j] - px[i]) * (y - py[i]) / (py[j] - py[i]) + px[i])
+      inside = !inside;
+  return inside;
+}
+
+typedef enum
+{
+  HIT_NONE,
+  HIT_VERTEX,
+  HIT_EDGE,
+  HIT_INSIDE,
+  HIT_CUT_VERTEX,
+} HitKind;
+
+typedef struct
+{
+  HitKind  kind;
+  char    *name;       /* lobe or cut */
+  gsize    index;      /* vertex, or the edge from index to index + 1 */
+  double   px, py;     /* on an edge: the nearest point, pixel coordinates */
+} Hit;
+
+/* What lies under widget point (wx, wy): the selected lobe first, then the others, topmost
+ * (last drawn) first; vertices before edges before insides. */
+static Hit
+hit_test (EffluxSkyView *self,
+          double         wx,
+          double         wy)
+{
+  const EffluxDossier *d = current_dossier (self);
+  Hit best = { HIT_NONE, NULL, 0, 0, 0 };
+  double best_dist = G_MAXDOUBLE;
+
+  if (d == NULL)
+    return best;
+  for (int pass = 0; pass < 3; pass++)
+    {
+      for (guint k = d->lobes->len; k-- > 0;)
+        {
+          const EffluxDossierLobe *lobe = g_ptr_array_index (d->lobes, k);
+          g_autofree double *px = NULL, *py = NULL;
+          gboolean selected = g_strcmp0 (lobe->name, self->selected) == 0;
+
+          if (lobe->n_vertices < 3 || !outline_to_pixels (self, lobe->ra_deg, lobe->dec_deg,
+                                                          lobe->n_vertices, &px, &py))
+            continue;
+          if (pass == 0 && !selected)
+            continue;
+          for (gsize i = 0; i < lobe->n_vertices && pass < 2; i++)
+            {
+              double vx, vy, dist;
+
+              efflux_sky_view_pixel_to_widget (self, px[i], py[i], &vx, &vy);
+              dist = hypot (vx - wx, vy - wy);
+              if (dist <= HIT_VERTEX_PX && dist < best_dist)
+                {
+                  g_free (best.name);
+                  best = (Hit) { HIT_VERTEX, g_strdup (lobe->name), i, px[i], py[i] };
+                  best_dist = dist;
+                }
+            }
+          if (best.kind != HIT_NONE)
+            return best;
+          for (gsize i = 0; i < lobe->n_vertices && pass < 2; i++)
+            {
+              gsize j = (i + 1) % lobe->n_vertices;
+              double ax, ay, bx, by, t, dist;
+
+              efflux_sky_view_pixel_to_widget (self, px[i], py[i], &ax, &ay);
+              efflux_sky_view_pixel_to_widget (self, px[j], py[j], &bx, &by);
+              dist = segment_distance (wx, wy, ax, ay, bx, by, &t);
+              if (dist <= HIT_EDGE_PX && dist < best_dist)
+                {
+                  g_free (best.name);
+                  best = (Hit) { HIT_EDGE, g_strdup (lobe->name), i,
+                                 px[i] + t * (px[j] - px[i]), py[i] + t * (py[j] - py[i]) };
+                  best_dist = dist;
+                }
+            }
+          if (best.kind != HIT_NONE)
+            return best;
+          if (pass != 1)
+            {
+              double mx, my;
+
+              efflux_sky_view_widget_to_pixel (self, wx, wy, &mx, &my);
+              if (point_in_polygon (mx, my, px, py, lobe->n_vertices))
+                return (Hit) { HIT_INSIDE, g_strdup (lobe->name), 0, mx, my };
+            }
+        }
+      if (pass == 1)
+        for (guint k = 0; k < d->cuts->len; k++)
+          {
+            const EffluxDossierCut *cut = g_ptr_array_index (d->cuts, k);
+            g_autofree double *px = NULL, *py = NULL;
+
+            if (!outline_to_pixels (self, cut->ra_deg, cut->dec_deg, cut->n_vertices, &px, &py))
+              continue;
+            for (gsize i = 0; i < cut->n_vertices; i++)
+              {
+                double vx, vy;
+
+                efflux_sky_view_pixel_to_widget (self, px[i], py[i], &vx, &vy);
+                if (hypot (vx - wx, vy - wy) <= HIT_VERTEX_PX)
+                  return (Hit) { HIT_CUT_VERTEX, g_strdup (cut->name), i, px[i], py[i] };
+              }
+          }
+    }
+  return best;
+}
+
+void
+efflux_sky_view_select_lobe (EffluxSkyView *self,
+                             const char    *lobe)
+{
+  g_return_if_fail (EFFLUX_IS_SKY_VIEW (self));
+  if (g_strcmp0 (lobe, self->selected) == 0)
+    return;
+  g_free (self->selected);
+  self->selected = g_strdup (lobe);
+  invalidate_overlay (self);
+  g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_SELECTED_LOBE]);
+}
+
+const char *
+efflux_sky_view_get_selected_lobe (EffluxSkyView *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_SKY_VIEW (self), NULL);
+  return self->selected;
+}
+
+guint
+efflux_sky_view_get_n_draft (EffluxSkyView *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_SKY_VIEW (self), 0);
+  return self->draft_x->len;
+}
+
+const char *
+efflux_sky_view_get_edit_error (EffluxSkyView *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_SKY_VIEW (self), NULL);
+  return self->edit_error;
+}
+
+void
+efflux_sky_view_set_tool (EffluxSkyView *self,
+                          EffluxSkyTool  tool)
+{
+  g_return_if_fail (EFFLUX_IS_SKY_VIEW (self));
+  if ((int) tool == self->tool)
+    return;
+  self->tool = tool;
+  g_array_set_size (self->draft_x, 0);
+  g_array_set_size (self->draft_y, 0);
+  invalidate_overlay (self);
+  g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_TOOL]);
+}
+
+EffluxSkyTool
+efflux_sky_view_get_tool (EffluxSkyView *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_SKY_VIEW (self), EFFLUX_SKY_TOOL_PAN);
+  return self->tool;
+}
+
+void
+efflux_sky_view_set_cube_id (EffluxSkyView *self,
+                             const char    *cube_id)
+{
+  g_return_if_fail (EFFLUX_IS_SKY_VIEW (self));
+  g_free (self->cube_id);
+  self->cube_id = g_strdup (cube_id);
+}
+
+static void
+document_changed (EffluxDocument *document,
+                  const char     *group,
+                  EffluxSkyView  *self)
+{
+  const EffluxDossier *d = efflux_document_get_dossier (document);
+
+  if (self->selected != NULL && efflux_dossier_find_lobe (d, self->selected) == NULL)
+    efflux_sky_view_select_lobe (self, NULL);
+  invalidate_overlay (self);
+}
+
+void
+efflux_sky_view_set_document (EffluxSkyView  *self,
+                              EffluxDocument *document)
+{
+  g_return_if_fail (EFFLUX_IS_SKY_VIEW (self));
+  g_return_if_fail (document == NULL || EFFLUX_IS_DOCUMENT (document));
+  if (self->document == document)
+    return;
+  if (self->document != NULL)
+    g_signal_handlers_disconnect_by_func (self->document, document_changed, self);
+  g_set_object (&self->document, document);
+  if (document != NULL)
+    g_signal_connect (document, "changed", G_CALLBACK (document_changed), self);
+  efflux_sky_view_select_lobe (self, NULL);
+  g_array_set_size (self->draft_x, 0);
+  g_array_set_size (self->draft_y, 0);
+  invalidate_overlay (self);
+}
+
+static void
+add_draft_vertex (EffluxSkyView *self,
+                  double         wx,
+                  double         wy)
+{
+  double px, py;
+
+  if (self->cube == NULL || (self->tool != EFFLUX_SKY_TOOL_LOBE && self->tool != EFFLUX_SKY_TOOL_CUT))
+    return;
+  efflux_sky_view_widget_to_pixel (self, wx, wy, &px, &py);
+  /* a second click on the same spot (the second press of a double click) adds nothing */
+  if (self->draft_x->len > 0)
+    {
+      double lx = g_array_index (self->draft_x, double, self->draft_x->len - 1);
+      double ly = g_array_index (self->draft_y, double, self->draft_y->len - 1);
+
+      if (hypot (lx - px, ly - py) * self->zoom < 2.0)
+        return;
+    }
+  g_array_append_val (self->draft_x, px);
+  g_array_append_val (self->draft_y, py);
+  invalidate_overlay (self);
+}
+
+/* The default velocity range of a new lobe: the cube's channels on its side of v_sys, leaving
+ * out the channel nearest v_sys. */
+static void
+new_lobe_range (EffluxSkyView *self,
+                double        *v1,
+                double        *v2)
+{
+  const EffluxDossier *d = current_dossier (self);
+  double vmin = MIN (self->cube->velocity[0], self->cube->velocity[self->cube->nchan - 1]);
+  double vmax = MAX (self->cube->velocity[0], self->cube->velocity[self->cube->nchan - 1]);
+  double step = fabs (self->cube->dv);
+
+  if (self->new_kind == EFFLUX_LOBE_BLUE)
+    {
+      *v1 = vmin;
+      *v2 = MAX (vmin, d->vsys_kms - step);
+    }
+  else
+    {
+      *v1 = MIN (vmax, d->vsys_kms + step);
+      *v2 = vmax;
+    }
+}
+
+static void
+finish_draft (EffluxSkyView *self)
+{
+  g_autoptr(GError) error = NULL;
+  gsize n = self->draft_x->len;
+  g_autofree double *ra = g_new (double, MAX (n, 1));
+  g_autofree double *dec = g_new (double, MAX (n, 1));
+  const EffluxDossier *d = current_dossier (self);
+
+  if (d == NULL || self->cube == NULL || self->cube_id == NULL)
+    return;
+  if (self->tool == EFFLUX_SKY_TOOL_LOBE && n >= 3
+      && pixels_to_outline (self, (double *) self->draft_x->data, (double *) self->draft_y->data,
+                            n, ra, dec))
+    {
+      g_autofree char *name = NULL;
+      double v1, v2;
+
+      new_lobe_range (self, &v1, &v2);
+      name = efflux_document_add_lobe (self->document, self->new_kind, self->cube_id, ra, dec, n,
+                                       v1, v2, &error);
+      set_edit_error (self, error);
+      if (name != NULL)
+        efflux_sky_view_select_lobe (self, name);
+    }
+  else if (self->tool == EFFLUX_SKY_TOOL_CUT && n >= 2
+           && pixels_to_outline (self, (double *) self->draft_x->data,
+                                 (double *) self->draft_y->data, n, ra, dec))
+    {
+      const char *name = d->cuts->len > 0
+                         ? ((EffluxDossierCut *) g_ptr_array_index (d->cuts, 0))->name : "axis";
+
+      efflux_document_set_cut (self->document, name, self->cube_id, ra, dec, n, self->cut_width,
+                               0, &error);
+      set_edit_error (self, error);
+    }
+  else
+    return;
+  g_array_set_size (self->draft_x, 0);
+  g_array_set_size (self->draft_y, 0);
+  invalidate_overlay (self);
+}
+
+/* Replace a lobe's outline from pixel coordinates (one command per merge id). */
+static void
+commit_outline (EffluxSkyView *self,
+                const char    *lobe,
+                const double  *px,
+                const double  *py,
+                gsize          n,
+                guint          merge_id)
+{
+  g_autoptr(GError) error = NULL;
+  g_autofree double *ra = g_new (double, n);
+  g_autofree double *dec = g_new (double, n);
+
+  if (!pixels_to_outline (self, px, py, n, ra, dec))
+    return;
+  /* an outline the core refuses (e.g. crossing itself) keeps its last good shape */
+  efflux_document_set_lobe_polygon (self->document, lobe, ra, dec, n, merge_id, &error);
+  set_edit_error (self, error);
+}
+
+static void
+delete_vertex (EffluxSkyView *self,
+               const char    *lobe_name,
+               gsize          index)
+{
+  const EffluxDossierLobe *lobe = efflux_dossier_find_lobe (current_dossier (self), lobe_name);
+  g_autofree double *px = NULL, *py = NULL;
+
+  if (lobe == NULL || lobe->n_vertices <= 3 || index >= lobe->n_vertices
+      || !outline_to_pixels (self, lobe->ra_deg, lobe->dec_deg, lobe->n_vertices, &px, &py))
+    return;
+  memmove (px + index, px + index + 1, (lobe->n_vertices - index - 1) * sizeof (double));
+  memmove (py + index, py + index + 1, (lobe->n_vertices - index - 1) * sizeof (double));
+  commit_outline (self, lobe_name, px, py, lobe->n_vertices - 1, 0);
+}
+
+static void
+delete_selection (EffluxSkyView *self)
+{
+  g_autoptr(GError) error = NULL;
+  g_autofree char *name = NULL;
+
+  if (self->document == NULL)
+    return;
+  if (self->draft_x->len > 0)
+    {
+      g_array_set_size (self->draft_x, self->draft_x->len - 1);
+      g_array_set_size (self->draft_y, self->draft_y->len - 1);
+      invalidate_overlay (self);
+      return;
+    }
+  if (self->selected == NULL)
+    return;
+  if (self->hover_vertex >= 0 && g_strcmp0 (self->hover_lobe, self->selected) == 0)
+    {
+      delete_vertex (self, self->selected, (gsize) self->hover_vertex);
+      return;
+    }
+  name = g_strdup (self->selected);
+  efflux_document_remove_lobe (self->document, name, &error);
+  set_edit_error (self, error);
+}
+
+/* Starts an edit for a drag that begins at (wx, wy); FALSE: nothing to edit there (pan). */
+static gboolean
+edit_begin (EffluxSkyView *self,
+            double         wx,
+            double         wy)
+{
+  const EffluxDossier *d = current_dossier (self);
+  Hit hit;
+
+  self->drag_what = DRAG_PAN;
+  if (d == NULL || self->cube == NULL)
+    return FALSE;
+  self->drag_merge = efflux_document_new_merge_id ();
+  if (self->tool == EFFLUX_SKY_TOOL_SOURCE)
+    {
+      double px, py, ra, dec;
+      g_autoptr(GError) error = NULL;
+
+      efflux_sky_view_widget_to_pixel (self, wx, wy, &px, &py);
+      if (!efflux_cube_pixel_to_icrs (self->cube, px, py, &ra, &dec))
+        return FALSE;
+      efflux_document_set_source_position (self->document, ra, dec, self->drag_merge, &error);
+      set_edit_error (self, error);
+      self->drag_what = DRAG_SOURCE;
+      return TRUE;
+    }
+  if (self->tool != EFFLUX_SKY_TOOL_EDIT)
+    return FALSE;
+  hit = hit_test (self, wx, wy);
+  g_clear_pointer (&self->drag_name, g_free);
+  g_clear_pointer (&self->drag_px, g_free);
+  g_clear_pointer (&self->drag_py, g_free);
+  switch (hit.kind)
+    {
+    case HIT_NONE:
+      efflux_sky_view_select_lobe (self, NULL);
+      return FALSE;
+    case HIT_CUT_VERTEX:
+      {
+        const EffluxDossierCut *cut = NULL;
+
+        for (guint k = 0; k < d->cuts->len; k++)
+          if (g_str_equal (((EffluxDossierCut *) g_ptr_array_index (d->cuts, k))->name, hit.name))
+            cut = g_ptr_array_index (d->cuts, k);
+        if (cut == NULL
+            || !outline_to_pixels (self, cut->ra_deg, cut->dec_deg, cut->n_vertices,
+                                   &self->drag_px, &self->drag_py))
+          {
+            g_free (hit.name);
+            return FALSE;
+          }
+        self->drag_n = cut->n_vertices;
+        self->drag_what = DRAG_CUT_VERTEX;
+      }
+      break;
+    case HIT_VERTEX:
+    case HIT_EDGE:
+    case HIT_INSIDE:
+      {
+        const EffluxDossierLobe *lobe = efflux_dossier_find_lobe (d, hit.name);
+
+        efflux_sky_view_select_lobe (self, hit.name);
+        if (lobe == NULL
+            || !outline_to_pixels (self, lobe->ra_deg, lobe->dec_deg, lobe->n_vertices,
+                                   &self->drag_px, &self->drag_py))
+          {
+            g_free (hit.name);
+            return FALSE;
+          }
+        self->drag_n = lobe->n_vertices;
+        if (hit.kind == HIT_EDGE)
+          {
+            /* insert a vertex on the edge and drag it */
+            gsize at = hit.index + 1;
+
+            self->drag_px = g_renew (double, self->drag_px, self->drag_n + 1);
+            self->drag_py = g_renew (double, self->drag_py, self->drag_n + 1);
+            memmove (self->drag_px + at + 1, self->drag_px + at, (self->drag_n - at) * sizeof (double));
+            memmove (self->drag_py + at + 1, self->drag_py + at, (self->drag_n - at) * sizeof (double));
+            self->drag_px[at] = hit.px;
+            self->drag_py[at] = hit.py;
+            self->drag_n++;
+            hit.index = at;
+            commit_outline (self, hit.name, self->drag_px, self->drag_py, self->drag_n,
+                            self->drag_merge);
+          }
+        self->drag_what = hit.kind == HIT_INSIDE ? DRAG_LOBE : DRAG_VERTEX;
+      }
+      break;
+    }
+  self->drag_name = hit.name;
+  self->drag_index = hit.index;
+  efflux_sky_view_widget_to_pixel (self, wx, wy, &self->drag_mx, &self->drag_my);
+  return TRUE;
+}
+
+static void
+edit_update (EffluxSkyView *self,
+             double         wx,
+             double         wy)
+{
+  g_autoptr(GError) error = NULL;
+  double px, py, ddx, ddy;
+
+  efflux_sky_view_widget_to_pixel (self, wx, wy, &px, &py);
+  ddx = px - self->drag_mx;
+  ddy = py - self->drag_my;
+  switch (self->drag_what)
+    {
+    case DRAG_SOURCE:
+      {
+        double ra, dec;
+
+        if (efflux_cube_pixel_to_icrs (self->cube, px, py, &ra, &dec))
+          efflux_document_set_source_position (self->document, ra, dec, self->drag_merge, &error);
+      }
+      break;
+    case DRAG_VERTEX:
+    case DRAG_LOBE:
+    case DRAG_CUT_VERTEX:
+      {
+        g_autofree double *nx = g_memdup2 (self->drag_px, self->drag_n * sizeof (double));
+        g_autofree double *ny = g_memdup2 (self->drag_py, self->drag_n * sizeof (double));
+
+        if (self->drag_what == DRAG_LOBE)
+          for (gsize i = 0; i < self->drag_n; i++)
+            {
+              nx[i] += ddx;
+              ny[i] += ddy;
+            }
+        else
+          {
+            nx[self->drag_index] += ddx;
+            ny[self->drag_index] += ddy;
+          }
+        if (self->drag_what == DRAG_CUT_VERTEX)
+          {
+            const EffluxDossier *d = current_dossier (self);
+            g_autofree double *ra = g_new (double, self->drag_n);
+            g_autofree double *dec = g_new (double, self->drag_n);
+
+            for (guint k = 0; k < d->cuts->len; k++)
+              {
+                const EffluxDossierCut *cut = g_ptr_array_index (d->cuts, k);
+
+                if (g_str_equal (cut->name, self->drag_name)
+                    && pixels_to_outline (self, nx, ny, self->drag_n, ra, dec))
+                  {
+                    efflux_document_set_cut (self->document, cut->name, cut->cube_id, ra, dec,
+                                             self->drag_n, cut->width_arcsec, self->drag_merge,
+                                             &error);
+                    break;
+                  }
+              }
+          }
+        else
+          commit_outline (self, self->drag_name, nx, ny, self->drag_n, self->drag_merge);
+      }
+      break;
+    default:
+      break;
+    }
+  if (error != NULL)
+    set_edit_error (self, error);
+}
+
+static void
+edit_end (EffluxSkyView *self)
+{
+  self->drag_what = DRAG_PAN;
+  g_clear_pointer (&self->drag_name, g_free);
+  g_clear_pointer (&self->drag_px, g_free);
+  g_clear_pointer (&self->drag_py, g_free);
+}
+
+static void
+click_released_cb (GtkGestureClick *gesture,
+                   int              n_press,
+                   double           x,
+                   double           y,
+                   EffluxSkyView   *self)
+{
+  guint button = gtk_gesture_single_get_current_button (GTK_GESTURE_SINGLE (gesture));
+
+  if (button == GDK_BUTTON_PRIMARY && n_press == 1)
+    add_draft_vertex (self, x, y);
+}
+
+static void
+click_pressed_cb (GtkGestureClick *gesture,
+                  int              n_press,
+                  double           x,
+                  double           y,
+                  EffluxSkyView   *self)
+{
+  guint button = gtk_gesture_single_get_current_button (GTK_GESTURE_SINGLE (gesture));
+
+  gtk_widget_grab_focus (GTK_WIDGET (self));
+  if (button == GDK_BUTTON_PRIMARY && n_press == 2)
+    finish_draft (self);
+  else if (button == GDK_BUTTON_SECONDARY && self->tool == EFFLUX_SKY_TOOL_EDIT)
+    {
+      Hit hit = hit_test (self, x, y);
+
+      if (hit.kind == HIT_VERTEX)
+        delete_vertex (self, hit.name, hit.index);
+      g_free (hit.name);
+    }
+}
+
+/* Remember the vertex under the pointer (for Delete) and show the draft's rubber band. */
+static void
+edit_hover (EffluxSkyView *self,
+            double         wx,
+            double         wy)
+{
+  Hit hit = { HIT_NONE, NULL, 0, 0, 0 };
+
+  if (self->tool == EFFLUX_SKY_TOOL_EDIT && !isnan (wx))
+    hit = hit_test (self, wx, wy);
+  g_free (self->hover_lobe);
+  self->hover_lobe = hit.kind == HIT_VERTEX ? g_steal_pointer (&hit.name) : NULL;
+  self->hover_vertex = hit.kind == HIT_VERTEX ? (gssize) hit.index : -1;
+  g_free (hit.name);
+  if (self->draft_x->len > 0)
+    invalidate_overlay (self);
+}
+
+static void
+edit_action (GtkWidget  *widget,
+             const char *action_name,
+             GVariant   *parameter)
+{
+  EffluxSkyView *self = EFFLUX_SKY_VIEW (widget);
+
+  if (g_str_equal (action_name, "sky.add-vertex"))
+    {
+      double x, y;
+
+      g_variant_get (parameter, "(dd)", &x, &y);
+      add_draft_vertex (self, x, y);
+    }
+  else if (g_str_equal (action_name, "sky.finish"))
+    finish_draft (self);
+  else if (g_str_equal (action_name, "sky.cancel"))
+    {
+      g_array_set_size (self->draft_x, 0);
+      g_array_set_size (self->draft_y, 0);
+      invalidate_overlay (self);
+    }
+  else if (g_str_equal (action_name, "sky.delete"))
+    delete_selection (self);
+  else if (g_str_equal (action_name, "sky.tool"))
+    {
+      const char *name = g_variant_get_string (parameter, NULL);
+
+      for (guint i = 0; i < G_N_ELEMENTS (tool_names); i++)
+        if (g_str_equal (name, tool_names[i]))
+          efflux_sky_view_set_tool (self, i);
+    }
+}
+
+static void
+path_outline (cairo_t       *cr,
+              EffluxSkyView *self,
+              const double  *px,
+              const double  *py,
+              gsize          n,
+              gboolean       close)
+{
+  for (gsize i = 0; i < n; i++)
+    {
+      double wx, wy;
+
+      efflux_sky_view_pixel_to_widget (self, px[i], py[i], &wx, &wy);
+      if (i == 0)
+        cairo_move_to (cr, wx, wy);
+      else
+        cairo_line_to (cr, wx, wy);
+    }
+  if (close)
+    cairo_close_path (cr);
+}
+
+static void
+draw_handles (cairo_t       *cr,
+              EffluxSkyView *self,
+              const double  *px,
+              const double  *py,
+              gsize          n)
+{
+  for (gsize i = 0; i < n; i++)
+    {
+      double wx, wy;
+
+      efflux_sky_view_pixel_to_widget (self, px[i], py[i], &wx, &wy);
+      cairo_rectangle (cr, wx - 3.5, wy - 3.5, 7, 7);
+    }
+  cairo_set_source_rgba (cr, 1, 1, 1, 1);
+  cairo_fill_preserve (cr);
+  cairo_set_source_rgba (cr, 0, 0, 0, 0.8);
+  cairo_set_line_width (cr, 1.0);
+  cairo_stroke (cr);
+}
+
+/* Lobes (blue and red, translucent fill), cuts with their width band, the outline being drawn. */
+static void
+draw_overlays (EffluxSkyView *self,
+               cairo_t       *cr)
+{
+  const EffluxDossier *d = current_dossier (self);
+
+  if (d != NULL && self->cube != NULL && self->cube->sky != NULL)
+    {
+      for (guint k = 0; k < d->cuts->len; k++)
+        {
+          const EffluxDossierCut *cut = g_ptr_array_index (d->cuts, k);
+          g_autofree double *px = NULL, *py = NULL;
+          double band;
+
+          if (!outline_to_pixels (self, cut->ra_deg, cut->dec_deg, cut->n_vertices, &px, &py))
+            continue;
+          band = cut->width_arcsec / self->cube->pixel_arcsec[0] * self->zoom;
+          cairo_set_line_join (cr, CAIRO_LINE_JOIN_ROUND);
+          cairo_set_line_cap (cr, CAIRO_LINE_CAP_BUTT);
+          if (band > 1.0)
+            {
+              path_outline (cr, self, px, py, cut->n_vertices, FALSE);
+              cairo_set_source_rgba (cr, 1.0, 0.85, 0.3, 0.22);
+              cairo_set_line_width (cr, band);
+              cairo_stroke (cr);
+            }
+          path_outline (cr, self, px, py, cut->n_vertices, FALSE);
+          cairo_set_source_rgba (cr, 1.0, 0.85, 0.3, 0.95);
+          cairo_set_line_width (cr, 1.5);
+          cairo_stroke (cr);
+          if (self->tool == EFFLUX_SKY_TOOL_EDIT || self->tool == EFFLUX_SKY_TOOL_CUT)
+            draw_handles (cr, self, px, py, cut->n_vertices);
+        }
+      for (guint k = 0; k < d->lobes->len; k++)
+        {
+          const EffluxDossierLobe *lobe = g_ptr_array_index (d->lobes, k);
+          g_autofree double *px = NULL, *py = NULL;
+          gboolean blue = lobe->kind == EFFLUX_LOBE_BLUE;
+          gboolean selected = g_strcmp0 (lobe->name, self->selected) == 0;
+          double r = blue ? 0.25 : 1.0, g = blue ? 0.55 : 0.3, b = blue ? 1.0 : 0.25;
+
+          if (lobe->n_vertices < 3
+              || !outline_to_pixels (self, lobe->ra_deg, lobe->dec_deg, lobe->n_vertices, &px, &py))
+            continue;
+          path_outline (cr, self, px, py, lobe->n_vertices, TRUE);
+          cairo_set_source_rgba (cr, r, g, b, selected ? 0.30 : 0.18);
+          cairo_fill_preserve (cr);
+          cairo_set_source_rgba (cr, 0, 0, 0, 0.6);
+          cairo_set_line_width (cr, selected ? 4.5 : 3.5);
+          cairo_stroke_preserve (cr);
+          cairo_set_source_rgba (cr, r, g, b, 1.0);
+          cairo_set_line_width (cr, selected ? 2.5 : 1.5);
+          cairo_stroke (cr);
+          if (selected && self->tool == EFFLUX_SKY_TOOL_EDIT)
+            draw_handles (cr, self, px, py, lobe->n_vertices);
+        }
+    }
+  if (self->draft_x->len > 0)
+    {
+      double *px = (double *) self->draft_x->data, *py = (double *) self->draft_y->data;
+      gsize n = self->draft_x->len;
+      double dash[] = { 5.0, 3.0 };
+
+      path_outline (cr, self, px, py, n, FALSE);
+      if (!isnan (self->pointer_x))
+        cairo_line_to (cr, self->pointer_x, self->pointer_y);
+      cairo_set_source_rgba (cr, 1, 1, 1, 0.95);
+      cairo_set_line_width (cr, 1.5);
+      cairo_set_dash (cr, dash, 2, 0);
+      cairo_stroke (cr);
+      cairo_set_dash (cr, NULL, 0, 0);
+      draw_handles (cr, self, px, py, n);
+    }
 }
 
 /* ---- drawing ---- */
@@ -764,6 +1634,17 @@ efflux_sky_view_snapshot (GtkWidget   *widget,
     self->node = build_scene (self, w, h);
   if (self->node != NULL)
     gtk_snapshot_append_node (snapshot, self->node);
+  if (self->overlay_node == NULL && (self->document != NULL || self->draft_x->len > 0))
+    {
+      GtkSnapshot *overlay = gtk_snapshot_new ();
+      cairo_t *cr = gtk_snapshot_append_cairo (overlay, &GRAPHENE_RECT_INIT (0, 0, w, h));
+
+      draw_overlays (self, cr);
+      cairo_destroy (cr);
+      self->overlay_node = gtk_snapshot_free_to_node (overlay);
+    }
+  if (self->overlay_node != NULL)
+    gtk_snapshot_append_node (snapshot, self->overlay_node);
 }
 
 static void
@@ -802,6 +1683,7 @@ motion_cb (GtkEventControllerMotion *controller,
            EffluxSkyView            *self)
 {
   efflux_sky_view_point_at (self, x, y);
+  edit_hover (self, x, y);
 }
 
 static void
@@ -844,6 +1726,9 @@ drag_begin_cb (GtkGestureDrag *gesture,
   self->drag_cx = self->cx;
   self->drag_cy = self->cy;
   gtk_widget_grab_focus (GTK_WIDGET (self));
+  if (gtk_gesture_single_get_current_button (GTK_GESTURE_SINGLE (gesture)) == GDK_BUTTON_PRIMARY
+      && edit_begin (self, x, y))
+    return;
   gtk_widget_set_cursor_from_name (GTK_WIDGET (self), "grabbing");
 }
 
@@ -853,6 +1738,14 @@ drag_update_cb (GtkGestureDrag *gesture,
                 double          oy,
                 EffluxSkyView  *self)
 {
+  if (self->drag_what != DRAG_PAN)
+    {
+      double sx, sy;
+
+      gtk_gesture_drag_get_start_point (gesture, &sx, &sy);
+      edit_update (self, sx + ox, sy + oy);
+      return;
+    }
   self->fitted = FALSE;
   self->cx = self->drag_cx - ox / self->zoom;
   self->cy = self->drag_cy + oy / self->zoom;
@@ -865,6 +1758,7 @@ drag_end_cb (GtkGestureDrag *gesture,
              double          oy,
              EffluxSkyView  *self)
 {
+  edit_end (self);
   gtk_widget_set_cursor_from_name (GTK_WIDGET (self), "crosshair");
 }
 
@@ -915,6 +1809,18 @@ efflux_sky_view_get_property (GObject    *object,
       break;
     case PROP_HAS_MAP:
       g_value_set_boolean (value, self->data != NULL);
+      break;
+    case PROP_TOOL:
+      g_value_set_string (value, tool_names[self->tool]);
+      break;
+    case PROP_SELECTED_LOBE:
+      g_value_set_string (value, self->selected);
+      break;
+    case PROP_NEW_LOBE_KIND:
+      g_value_set_string (value, efflux_lobe_kind_name (self->new_kind));
+      break;
+    case PROP_CUT_WIDTH:
+      g_value_set_double (value, self->cut_width);
       break;
     default:
       G_OBJECT_WARN_INVALID_PROPERTY_ID (object, prop_id, pspec);
@@ -990,6 +1896,37 @@ efflux_sky_view_set_property (GObject      *object,
         g_object_notify_by_pspec (object, pspec);
       }
       break;
+    case PROP_TOOL:
+      for (guint i = 0; i < G_N_ELEMENTS (tool_names); i++)
+        if (g_strcmp0 (g_value_get_string (value), tool_names[i]) == 0)
+          {
+            efflux_sky_view_set_tool (self, i);
+            return;
+          }
+      g_warning ("unknown tool '%s'", g_value_get_string (value));
+      break;
+    case PROP_SELECTED_LOBE:
+      efflux_sky_view_select_lobe (self, g_value_get_string (value));
+      break;
+    case PROP_NEW_LOBE_KIND:
+      {
+        EffluxLobeKind kind = g_strcmp0 (g_value_get_string (value), "red") == 0
+                              ? EFFLUX_LOBE_RED : EFFLUX_LOBE_BLUE;
+
+        if (kind != self->new_kind)
+          {
+            self->new_kind = kind;
+            g_object_notify_by_pspec (object, pspec);
+          }
+      }
+      break;
+    case PROP_CUT_WIDTH:
+      if (g_value_get_double (value) != self->cut_width)
+        {
+          self->cut_width = g_value_get_double (value);
+          g_object_notify_by_pspec (object, pspec);
+        }
+      break;
     default:
       G_OBJECT_WARN_INVALID_PROPERTY_ID (object, prop_id, pspec);
     }
@@ -1001,6 +1938,19 @@ efflux_sky_view_finalize (GObject *object)
   EffluxSkyView *self = EFFLUX_SKY_VIEW (object);
 
   g_clear_pointer (&self->node, gsk_render_node_unref);
+  g_clear_pointer (&self->overlay_node, gsk_render_node_unref);
+  if (self->document != NULL)
+    g_signal_handlers_disconnect_by_func (self->document, document_changed, self);
+  g_clear_object (&self->document);
+  g_array_unref (self->draft_x);
+  g_array_unref (self->draft_y);
+  g_free (self->cube_id);
+  g_free (self->selected);
+  g_free (self->drag_name);
+  g_free (self->drag_px);
+  g_free (self->drag_py);
+  g_free (self->hover_lobe);
+  g_free (self->edit_error);
   g_free (self->data);
   g_free (self->rgba);
   g_free (self->unit);
@@ -1042,7 +1992,35 @@ efflux_sky_view_class_init (EffluxSkyViewClass *klass)
   properties[PROP_HAS_MAP] =
     g_param_spec_boolean ("has-map", NULL, NULL, FALSE,
                           G_PARAM_READABLE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
+  properties[PROP_TOOL] =
+    g_param_spec_string ("tool", NULL, NULL, "pan",
+                         G_PARAM_READWRITE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
+  properties[PROP_SELECTED_LOBE] =
+    g_param_spec_string ("selected-lobe", NULL, NULL, NULL,
+                         G_PARAM_READWRITE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
+  properties[PROP_NEW_LOBE_KIND] =
+    g_param_spec_string ("new-lobe-kind", NULL, NULL, "blue",
+                         G_PARAM_READWRITE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
+  properties[PROP_CUT_WIDTH] =
+    g_param_spec_double ("cut-width", NULL, NULL, 0.0, 3600.0, 0.0,
+                         G_PARAM_READWRITE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
   g_object_class_install_properties (object_class, N_PROPS, properties);
+
+  gtk_widget_class_install_action (widget_class, "sky.add-vertex", "(dd)", edit_action);
+  gtk_widget_class_install_action (widget_class, "sky.finish", NULL, edit_action);
+  gtk_widget_class_install_action (widget_class, "sky.cancel", NULL, edit_action);
+  gtk_widget_class_install_action (widget_class, "sky.delete", NULL, edit_action);
+  gtk_widget_class_install_action (widget_class, "sky.tool", "s", edit_action);
+  gtk_widget_class_add_binding_action (widget_class, GDK_KEY_Return, 0, "sky.finish", NULL);
+  gtk_widget_class_add_binding_action (widget_class, GDK_KEY_KP_Enter, 0, "sky.finish", NULL);
+  gtk_widget_class_add_binding_action (widget_class, GDK_KEY_Escape, 0, "sky.cancel", NULL);
+  gtk_widget_class_add_binding_action (widget_class, GDK_KEY_Delete, 0, "sky.delete", NULL);
+  gtk_widget_class_add_binding_action (widget_class, GDK_KEY_BackSpace, 0, "sky.delete", NULL);
+  gtk_widget_class_add_binding_action (widget_class, GDK_KEY_p, 0, "sky.tool", "s", "pan");
+  gtk_widget_class_add_binding_action (widget_class, GDK_KEY_l, 0, "sky.tool", "s", "lobe");
+  gtk_widget_class_add_binding_action (widget_class, GDK_KEY_e, 0, "sky.tool", "s", "edit");
+  gtk_widget_class_add_binding_action (widget_class, GDK_KEY_s, 0, "sky.tool", "s", "source");
+  gtk_widget_class_add_binding_action (widget_class, GDK_KEY_c, 0, "sky.tool", "s", "cut");
 
   gtk_widget_class_install_action (widget_class, "sky.zoom-in", NULL, zoom_action);
   gtk_widget_class_install_action (widget_class, "sky.zoom-out", NULL, zoom_action);
@@ -1063,6 +2041,7 @@ efflux_sky_view_init (EffluxSkyView *self)
   GtkEventController *scroll =
     gtk_event_controller_scroll_new (GTK_EVENT_CONTROLLER_SCROLL_VERTICAL);
   GtkGesture *drag = gtk_gesture_drag_new ();
+  GtkGesture *click = gtk_gesture_click_new ();
 
   self->colormap = EFFLUX_COLORMAP_CUBEHELIX;
   self->stretch = EFFLUX_STRETCH_LINEAR;
@@ -1074,6 +2053,10 @@ efflux_sky_view_init (EffluxSkyView *self)
   self->distance_pc = NAN;
   self->lo = self->hi = NAN;
   self->readout.value = NAN;
+  self->draft_x = g_array_new (FALSE, FALSE, sizeof (double));
+  self->draft_y = g_array_new (FALSE, FALSE, sizeof (double));
+  self->hover_vertex = -1;
+  self->new_kind = EFFLUX_LOBE_BLUE;
 
   g_signal_connect (motion, "motion", G_CALLBACK (motion_cb), self);
   g_signal_connect (motion, "leave", G_CALLBACK (leave_cb), self);
@@ -1084,6 +2067,10 @@ efflux_sky_view_init (EffluxSkyView *self)
   g_signal_connect (drag, "drag-update", G_CALLBACK (drag_update_cb), self);
   g_signal_connect (drag, "drag-end", G_CALLBACK (drag_end_cb), self);
   gtk_widget_add_controller (GTK_WIDGET (self), GTK_EVENT_CONTROLLER (drag));
+  gtk_gesture_single_set_button (GTK_GESTURE_SINGLE (click), 0);
+  g_signal_connect (click, "pressed", G_CALLBACK (click_pressed_cb), self);
+  g_signal_connect (click, "released", G_CALLBACK (click_released_cb), self);
+  gtk_widget_add_controller (GTK_WIDGET (self), GTK_EVENT_CONTROLLER (click));
 
   gtk_widget_set_focusable (GTK_WIDGET (self), TRUE);
   gtk_widget_set_cursor_from_name (GTK_WIDGET (self), "crosshair");

@@ -4,6 +4,7 @@
 #include <gtk/gtk.h>
 
 #include "efflux-cube.h"
+#include "efflux-document.h"
 
 G_BEGIN_DECLS
 
@@ -82,5 +83,48 @@ void        efflux_sky_view_point_at       (EffluxSkyView    *self,
 const char *efflux_sky_view_get_readout    (EffluxSkyView    *self);
 void        efflux_sky_view_get_readout_values (EffluxSkyView    *self,
                                                 EffluxSkyReadout *readout);
+
+/* ---- editing ----
+ *
+ * With a document (efflux_sky_view_set_document) the view draws its lobes (blue and red outlines
+ * with a translucent fill), its cuts (the line with its width band) and edits them through the
+ * document's undoable commands, by tool ("tool" property, string):
+ *   pan     drag to pan (every tool pans when a drag starts on nothing it edits)
+ *   lobe    click vertices; double click or Enter closes the outline into a new lobe of kind
+ *           "new-lobe-kind" (blue or red) on the cube "cube-id"; Escape drops it
+ *   edit    drag a vertex or a whole lobe (or a cut's vertex); press on an edge to insert a vertex
+ *           there; right click or Delete removes a vertex (Delete without one: the selected lobe)
+ *   source  click or drag to place the source marker
+ *   cut     click vertices; double click or Enter sets the cut (line or polyline, width
+ *           "cut-width" arcsec)
+ * "selected-lobe" (string, NULL: none) is the lobe clicked last.
+ * Actions (also for tests): sky.add-vertex "(dd)" widget coordinates (lobe and cut tools),
+ * sky.finish, sky.cancel, sky.delete, sky.tool "s". Keys: Enter, Escape, Delete; P, L, E, S, C
+ * choose the tool while the view has the focus. */
+
+typedef enum
+{
+  EFFLUX_SKY_TOOL_PAN,
+  EFFLUX_SKY_TOOL_LOBE,
+  EFFLUX_SKY_TOOL_EDIT,
+  EFFLUX_SKY_TOOL_SOURCE,
+  EFFLUX_SKY_TOOL_CUT,
+} EffluxSkyTool;
+
+void        efflux_sky_view_set_document   (EffluxSkyView    *self,
+                                            EffluxDocument   *document);
+/* The dossier id of the cube shown (new lobes and cuts are made on it). */
+void        efflux_sky_view_set_cube_id    (EffluxSkyView    *self,
+                                            const char       *cube_id);
+void        efflux_sky_view_set_tool       (EffluxSkyView    *self,
+                                            EffluxSkyTool     tool);
+EffluxSkyTool efflux_sky_view_get_tool     (EffluxSkyView    *self);
+const char *efflux_sky_view_get_selected_lobe (EffluxSkyView *self);
+void        efflux_sky_view_select_lobe    (EffluxSkyView    *self,
+                                            const char       *lobe);
+/* Vertices of the outline being drawn (lobe or cut tool). */
+guint       efflux_sky_view_get_n_draft    (EffluxSkyView    *self);
+/* The last edit the view could not make (the core's message), or NULL. */
+const char *efflux_sky_view_get_edit_error (EffluxSkyView    *self);
 
 G_END_DECLS
