@@ -22,6 +22,7 @@ static const Command commands[] = {
   { "pv", efflux_cmd_pv, "write a position-velocity diagram along a polyline" },
   { "synth", efflux_cmd_synth, "write synthetic outflow cubes, their truth and a dossier from a recipe" },
   { "measure", efflux_cmd_measure, "measure every lobe of dossiers: mass, momentum, energy, rates, errors" },
+  { "budget", efflux_cmd_budget, "outflow energy and momentum against the cloud's turbulence and binding" },
 };
 
 static void

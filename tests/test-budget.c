@@ -1,0 +1,202 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* Outflow feedback against the cloud (efflux-budget.h): the turbulence example and the unit checks
+ * of REFERENCES.md 4.9 (computed there, [C]), the binding energy and escape speed against astropy
+ * 5.2's constants (run with EFFLUX_PYTHON), and the command's usage errors. */
+
+#include <glib.h>
+
+#include "efflux-budget.h"
+#include "efflux-constants.h"
+
+#include <math.h>
+#include <string.h>
+
+#define ERG_PER_MSUN_KMS2 (EFFLUX_MSUN * EFFLUX_KM * EFFLUX_KM)
+
+static void
+assert_rel (double got,
+            double want,
+            double tol)
+{
+  if (!(fabs (got - want) <= tol * fabs (want)))
+    g_error ("got %.8g, want %.8g (relative tolerance %g)", got, want, tol);
+}
+
+/* REFERENCES.md 4.9, turbulence example: M = 80 Msun, FWHM = 2 km/s, R = 0.2 pc, t_diss = R/sigma_3D;
+ * Mac Low form with lambda_d = 2R, v_rms = sigma_3D (eta_v = 0.21/pi, Mac Low 1999 abstract). */
+static void
+test_turbulence_example (void)
+{
+  EffluxCloud cloud = { 80.0, 0.2, 2.0, NAN, NAN };
+  EffluxTurbulence t;
+  g_autoptr (GError) error = NULL;
+
+  g_assert_true (efflux_cloud_turbulence (&cloud, &t, &error));
+  g_assert_no_error (error);
+  assert_rel (t.sigma_1d_kms, 0.84932, 1e-4);
+  assert_rel (t.sigma_3d_kms, 1.47107, 1e-4);
+  assert_rel (t.e_turb_erg / ERG_PER_MSUN_KMS2, 86.5617, 1e-4);
+  assert_rel (t.e_turb_erg, 1.72120e45, 1e-4);
+  assert_rel (t.t_cross_yr, 1.32936e5, 1e-4);
+  assert_rel (t.l_turb_erg_s, 4.1028e32, 1e-4);
+  assert_rel (t.l_turb_maclow_erg_s, 1.7232e32, 1e-4);
+  /* 0.2705 M FWHM^2 (REFERENCES.md 1.11, [D]) to its four digits */
+  assert_rel (t.e_turb_erg / ERG_PER_MSUN_KMS2, 0.2705 * 80.0 * 4.0, 2e-4);
+  /* P_turb = M sigma_3D */
+  assert_rel (t.p_turb_msun_kms, 80.0 * 1.47107, 1e-4);
+  g_assert_cmpfloat (t.driving_scale_pc, ==, 0.4);
+
+  /* the coefficient and the driving scale are exposed: L scales as eta_v / lambda_d */
+  {
+    EffluxCloud c2 = { 80.0, 0.2, 2.0, 2.0 * EFFLUX_MACLOW_ETA_V, 0.8 };
+    EffluxTurbulence t2;
+    g_assert_true (efflux_cloud_turbulence (&c2, &t2, NULL));
+    assert_rel (t2.l_turb_maclow_erg_s, 1.7232e32, 1e-4);
+    g_assert_cmpfloat (t2.eta_v, ==, 2.0 * EFFLUX_MACLOW_ETA_V);
+  }
+}
+
+/* REFERENCES.md 4.9 unit checks: 64 Msun km^2/s^2 = 1.27258e45 erg (Nakamura et al. 2011's total
+ * outflow energy); 7e44 erg = 35.20 Msun km^2/s^2 (Plunkett et al. 2013). */
+static void
+test_unit_checks (void)
+{
+  assert_rel (64.0 * ERG_PER_MSUN_KMS2, 1.27258e45, 1e-5);
+  assert_rel (7e44 / ERG_PER_MSUN_KMS2, 35.20, 1e-3);
+}
+
+/* Serpens South as REFERENCES.md 5 quotes Nakamura et al. 2011 (80 Msun, 0.2 pc; outflows
+ * M = 0.6 Msun, P = 8 Msun km/s, E = 64 Msun km^2/s^2) with the 4.9 line width: the ratios are the
+ * quotients of the numbers above. */
+static void
+test_budget_ratios (void)
+{
+  EffluxCloud cloud = { 80.0, 0.2, 2.0, NAN, NAN };
+  EffluxBudget b;
+  double e_out = 64.0 * ERG_PER_MSUN_KMS2, l_out = 1e32;
+
+  g_assert_true (efflux_budget_compute (&cloud, 1, 0.6, 8.0, e_out, l_out, &b, NULL));
+  assert_rel (b.e_ratio, 64.0 / 86.5617, 1e-4);
+  assert_rel (b.l_ratio, 1e32 / 4.1028e32, 1e-4);
+  assert_rel (b.l_ratio_maclow, 1e32 / 1.7232e32, 1e-4);
+  assert_rel (b.p_ratio, 8.0 / (80.0 * 1.47107), 1e-4);
+  assert_rel (b.m_unbound_msun, 8.0 / b.cloud.v_esc_kms, 1e-12);
+  assert_rel (b.unbound_fraction, b.m_unbound_msun / 80.0, 1e-12);
+  assert_rel (b.grav_ratio, e_out / b.cloud.e_grav_erg, 1e-12);
+}
+
+/* E_grav = 3/5 G M^2 / R and v_esc = sqrt (2 G M / R) for the 4.9 cloud, against astropy 5.2
+ * (astropy.constants G, M_sun, pc: CODATA 2018 and IAU 2015). */
+static void
+test_gravity_astropy (void)
+{
+  const char *python = g_getenv ("EFFLUX_PYTHON");
+  const char *code =
+    "from astropy import constants as c, units as u\n"
+    "M = 80 * u.M_sun; R = 0.2 * u.pc\n"
+    "print((0.6 * c.G * M**2 / R).to(u.erg).value)\n"
+    "print(((2 * c.G * M / R) ** 0.5).to(u.km / u.s).value)\n";
+  const char *argv[] = { python, "-c", code, NULL };
+  g_autofree char *out = NULL;
+  g_autofree char *err = NULL;
+  g_autoptr (GError) error = NULL;
+  g_auto (GStrv) lines = NULL;
+  EffluxCloud cloud = { 80.0, 0.2, 2.0, NAN, NAN };
+  EffluxTurbulence t;
+  int status = 0;
+
+  if (python == NULL || *python == '\0')
+    {
+      g_test_message ("EFFLUX_PYTHON is not set: astropy cannot be run (run through meson test)");
+      g_test_fail ();
+      return;
+    }
+  if (!g_spawn_sync (NULL, (char **) argv, NULL, G_SPAWN_DEFAULT, NULL, NULL, &out, &err, &status, &error)
+      || !g_spawn_check_wait_status (status, &error))
+    {
+      g_test_message ("astropy failed: %s\n%s", error->message, err != NULL ? err : "");
+      g_test_fail ();
+      return;
+    }
+  lines = g_strsplit (out, "\n", -1);
+  g_assert_cmpuint (g_strv_length (lines), >=, 2);
+  g_assert_true (efflux_cloud_turbulence (&cloud, &t, NULL));
+  assert_rel (t.e_grav_erg, g_ascii_strtod (lines[0], NULL), 1e-6);
+  assert_rel (t.v_esc_kms, g_ascii_strtod (lines[1], NULL), 1e-6);
+}
+
+static void
+test_refused (void)
+{
+  EffluxCloud bad[] = { { 0.0, 0.2, 2.0, NAN, NAN }, { 80.0, -1.0, 2.0, NAN, NAN },
+                        { 80.0, 0.2, NAN, NAN, NAN } };
+  const char *opt[] = { "--cloud-mass", "--cloud-radius-pc", "--cloud-fwhm-kms" };
+
+  for (guint i = 0; i < G_N_ELEMENTS (bad); i++)
+    {
+      EffluxTurbulence t;
+      g_autoptr (GError) error = NULL;
+      g_assert_false (efflux_cloud_turbulence (&bad[i], &t, &error));
+      g_assert_error (error, EFFLUX_ERROR, EFFLUX_ERROR_USAGE);
+      g_assert_true (g_str_has_prefix (error->message, opt[i]));
+    }
+}
+
+static int
+run_cli (const char * const *tail,
+         char              **out,
+         char              **err)
+{
+  const char *cli = g_getenv ("EFFLUX_CLI");
+  g_autoptr (GPtrArray) argv = g_ptr_array_new ();
+  g_autoptr (GError) error = NULL;
+  int status = 0;
+
+  g_assert_nonnull (cli);
+  g_ptr_array_add (argv, (gpointer) cli);
+  for (guint i = 0; tail[i] != NULL; i++)
+    g_ptr_array_add (argv, (gpointer) tail[i]);
+  g_ptr_array_add (argv, NULL);
+  g_assert_true (g_spawn_sync (NULL, (char **) argv->pdata, NULL, G_SPAWN_DEFAULT, NULL, NULL, out, err,
+                               &status, &error));
+  return WIFEXITED (status) ? WEXITSTATUS (status) : -1;
+}
+
+static void
+test_cli_usage (void)
+{
+  const char *no_cloud[] = { "budget", "x.efflux", NULL };
+  const char *no_dossier[] = { "budget", "--cloud-mass", "80", "--cloud-radius-pc", "0.2",
+                               "--cloud-fwhm-kms", "2", NULL };
+  const char *zero_mass[] = { "budget", "--cloud-mass", "0", "--cloud-radius-pc", "0.2",
+                              "--cloud-fwhm-kms", "2", "x.efflux", NULL };
+  const char *missing[] = { "budget", "--cloud-mass", "80", "--cloud-radius-pc", "0.2",
+                            "--cloud-fwhm-kms", "2", "/nonexistent/x.efflux", NULL };
+  const char *help[] = { "budget", "--help", NULL };
+  g_autofree char *o1 = NULL, *e1 = NULL, *o2 = NULL, *e2 = NULL, *o3 = NULL, *e3 = NULL;
+  g_autofree char *o4 = NULL, *e4 = NULL, *o5 = NULL, *e5 = NULL;
+
+  g_assert_cmpint (run_cli (no_cloud, &o1, &e1), ==, 2);
+  g_assert_nonnull (strstr (e1, "efflux-cli: error: "));
+  g_assert_cmpint (run_cli (no_dossier, &o2, &e2), ==, 2);
+  g_assert_cmpint (run_cli (zero_mass, &o3, &e3), ==, 2);
+  g_assert_nonnull (strstr (e3, "--cloud-mass 0"));
+  g_assert_cmpint (run_cli (missing, &o4, &e4), ==, 1);
+  g_assert_nonnull (strstr (e4, "/nonexistent/x.efflux"));
+  g_assert_cmpint (run_cli (help, &o5, &e5), ==, 0);
+  g_assert_nonnull (strstr (o5, "--cloud-fwhm-kms"));
+}
+
+int
+main (int    argc,
+      char **argv)
+{
+  g_test_init (&argc, &argv, NULL);
+  g_test_add_func ("/budget/turbulence-example", test_turbulence_example);
+  g_test_add_func ("/budget/unit-checks", test_unit_checks);
+  g_test_add_func ("/budget/ratios", test_budget_ratios);
+  g_test_add_func ("/budget/gravity-astropy", test_gravity_astropy);
+  g_test_add_func ("/budget/refused", test_refused);
+  g_test_add_func ("/budget/cli-usage", test_cli_usage);
+  return g_test_run ();
+}
