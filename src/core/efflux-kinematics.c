@@ -1,0 +1,129 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+#include "config.h"
+
+#include <math.h>
+#include <stdlib.h>
+
+#include "efflux-constants.h"
+#include "efflux-kinematics.h"
+
+/* parsecs per arcsec at 1 pc: 1 au / 1 pc = pi / 648000 (IAU 2015 Resolution B2) */
+#define PC_PER_ARCSEC_AT_1PC (G_PI / 648000.0)
+
+double
+efflux_kinematics_slope_per_pc (double slope_kms_per_arcsec,
+                                double distance_pc)
+{
+  if (!isfinite (distance_pc) || distance_pc <= 0.0)
+    return NAN;
+  return slope_kms_per_arcsec / (distance_pc * PC_PER_ARCSEC_AT_1PC);
+}
+
+double
+efflux_kinematics_slope_per_arcsec (double slope_kms_per_pc,
+                                    double distance_pc)
+{
+  if (!isfinite (distance_pc) || distance_pc <= 0.0)
+    return NAN;
+  return slope_kms_per_pc * distance_pc * PC_PER_ARCSEC_AT_1PC;
+}
+
+static gboolean
+inclination_usable (double inclination_deg)
+{
+  return isfinite (inclination_deg) && inclination_deg > 0.0 && inclination_deg < 90.0;
+}
+
+double
+efflux_hubble_age_yr (double slope_kms_per_pc,
+                      double inclination_deg)
+{
+  double rate_per_s;
+
+  if (isnan (slope_kms_per_pc) || !inclination_usable (inclination_deg))
+    return NAN;
+  if (slope_kms_per_pc == 0.0)
+    return INFINITY;
+  /* km/s per pc -> 1/s: a pc is EFFLUX_PC / 1e5 km */
+  rate_per_s = fabs (slope_kms_per_pc) / (EFFLUX_PC / 1e5);
+  return 1.0 / (tan (inclination_deg * G_PI / 180.0) * rate_per_s) / EFFLUX_YR;
+}
+
+double
+efflux_hubble_slope_for_age (double age_yr,
+                             double inclination_deg)
+{
+  if (!isfinite (age_yr) || age_yr <= 0.0 || !inclination_usable (inclination_deg))
+    return NAN;
+  return (EFFLUX_PC / 1e5) / (tan (inclination_deg * G_PI / 180.0) * age_yr * EFFLUX_YR);
+}
+
+gboolean
+efflux_kinematics_offset_on_cut (const EffluxPv *pv,
+                                 double          px,
+                                 double          py,
+                                 double         *offset_arcsec,
+                                 double         *distance_arcsec)
+{
+  double best_d2 = INFINITY, best_s = 0.0;
+
+  g_return_val_if_fail (pv != NULL, FALSE);
+  if (pv->n_offsets == 0)
+    return FALSE;
+  if (pv->n_offsets == 1)
+    {
+      best_d2 = (px - pv->x[0]) * (px - pv->x[0]) + (py - pv->y[0]) * (py - pv->y[0]);
+      best_s = 0.0;
+    }
+  for (gsize i = 0; i + 1 < pv->n_offsets; i++)
+    {
+      double ax = pv->x[i], ay = pv->y[i];
+      double bx = pv->x[i + 1] - ax, by = pv->y[i + 1] - ay;
+      double len2 = bx * bx + by * by;
+      double t = len2 > 0.0 ? ((px - ax) * bx + (py - ay) * by) / len2 : 0.0;
+      double dx, dy, d2;
+
+      t = CLAMP (t, 0.0, 1.0);
+      dx = px - (ax + t * bx);
+      dy = py - (ay + t * by);
+      d2 = dx * dx + dy * dy;
+      if (d2 < best_d2)
+        {
+          best_d2 = d2;
+          best_s = i + t;
+        }
+    }
+  if (offset_arcsec != NULL)
+    *offset_arcsec = best_s * pv->offset_step_arcsec;
+  if (distance_arcsec != NULL)
+    *distance_arcsec = sqrt (best_d2) * pv->offset_step_arcsec;
+  return TRUE;
+}
+
+static int
+compare_double (const void *a,
+                const void *b)
+{
+  double x = *(const double *) a, y = *(const double *) b;
+
+  return (x > y) - (x < y);
+}
+
+double
+efflux_kinematics_pv_sigma (const EffluxCube *cube)
+{
+  g_autofree double *v = NULL;
+  gsize n = 0;
+
+  g_return_val_if_fail (cube != NULL, NAN);
+  if (cube->rms == NULL || cube->nchan == 0)
+    return NAN;
+  v = g_new (double, cube->nchan);
+  for (gsize k = 0; k < cube->nchan; k++)
+    if (isfinite (cube->rms[k]) && cube->rms[k] > 0.0f)
+      v[n++] = cube->rms[k];
+  if (n == 0)
+    return NAN;
+  qsort (v, n, sizeof (double), compare_double);
+  return (n % 2 == 1) ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
+}
