@@ -884,3 +884,64 @@ efflux_dossier_set_lobe_polygon (EffluxDossier *d,
   g_key_file_set_value (d->keyfile, group, "polygon", s->str);
   return TRUE;
 }
+
+/* ---------------------------------------------------------------------------------------------- */
+/* Lobe authors and notes (added for review). */
+
+static char *
+one_line (const char *text)
+{
+  char *s = g_strdup (text != NULL ? text : "");
+
+  for (char *p = s; *p != '\0'; p++)
+    if (*p == '\n' || *p == '\r')
+      *p = ' ';
+  return g_strstrip (s);
+}
+
+gboolean
+efflux_dossier_set_lobe_author (EffluxDossier *d,
+                                const char    *lobe,
+                                const char    *author,
+                                GError       **error)
+{
+  EffluxDossierLobe *l = efflux_dossier_find_lobe (d, lobe);
+  g_autofree char *group = g_strdup_printf ("Lobe %s", lobe);
+
+  if (l == NULL)
+    return fail (error, d->path, group, NULL, "no such lobe");
+  g_free (l->author);
+  l->author = one_line (author);
+  g_key_file_set_value (d->keyfile, group, "author", l->author);
+  return TRUE;
+}
+
+gboolean
+efflux_dossier_set_lobe_note (EffluxDossier *d,
+                              const char    *lobe,
+                              const char    *note,
+                              GError       **error)
+{
+  EffluxDossierLobe *l = efflux_dossier_find_lobe (d, lobe);
+  g_autofree char *group = g_strdup_printf ("Lobe %s", lobe);
+
+  if (l == NULL)
+    return fail (error, d->path, group, NULL, "no such lobe");
+  g_free (l->note);
+  l->note = one_line (note);
+  g_key_file_set_value (d->keyfile, group, "note", l->note);
+  return TRUE;
+}
+
+const char *
+efflux_dossier_author (const EffluxDossier *d)
+{
+  for (guint i = 0; i < d->lobes->len; i++)
+    {
+      const EffluxDossierLobe *l = g_ptr_array_index (d->lobes, i);
+
+      if (l->author != NULL && l->author[0] != '\0')
+        return l->author;
+    }
+  return NULL;
+}

@@ -183,6 +183,19 @@ const char    *efflux_inclination_mode_name (EffluxInclinationMode mode);
 const char    *efflux_opacity_method_name   (EffluxOpacityMethod   method);
 const char    *efflux_lobe_kind_name        (EffluxLobeKind        kind);
 
+/* Added for review (efflux-compare.h, efflux-review.h). Lobe note and author: the text is kept on
+ * one line (line breaks become spaces) and written as the raw key-file value the loader reads. */
+gboolean       efflux_dossier_set_lobe_author   (EffluxDossier *dossier,
+                                                 const char    *lobe,
+                                                 const char    *author,
+                                                 GError       **error);
+gboolean       efflux_dossier_set_lobe_note     (EffluxDossier *dossier,
+                                                 const char    *lobe,
+                                                 const char    *note,
+                                                 GError       **error);
+/* Who drew the dossier's lobes: the author of the first lobe that names one, or NULL. */
+const char    *efflux_dossier_author            (const EffluxDossier *dossier);
+
 G_DEFINE_AUTOPTR_CLEANUP_FUNC (EffluxDossier, efflux_dossier_free)
 
 G_END_DECLS

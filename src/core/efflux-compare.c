@@ -1,0 +1,302 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* Lobe-by-lobe comparison of two dossiers of one source (efflux-compare.h). */
+#include "config.h"
+
+#include "efflux-compare.h"
+
+#include <math.h>
+#include <string.h>
+
+#include "efflux-lobe.h"
+
+static void
+row_free (gpointer data)
+{
+  EffluxCompareRow *r = data;
+
+  g_free (r->mine);
+  g_free (r->theirs);
+  g_free (r);
+}
+
+void
+efflux_comparison_free (EffluxComparison *c)
+{
+  if (c == NULL)
+    return;
+  g_clear_pointer (&c->rows, g_ptr_array_unref);
+  g_free (c->mine_author);
+  g_free (c->theirs_author);
+  g_free (c);
+}
+
+const char *
+efflux_match_kind_name (EffluxMatchKind kind)
+{
+  switch (kind)
+    {
+    case EFFLUX_MATCH_NAME:
+      return "name";
+    case EFFLUX_MATCH_OVERLAP:
+      return "overlap";
+    case EFFLUX_MATCH_NONE:
+    default:
+      return "none";
+    }
+}
+
+static guint64
+count_both (const EffluxLobeMask *a,
+            const EffluxLobeMask *b)
+{
+  gsize i = 0, j = 0;
+  guint64 n = 0;
+
+  while (i < a->n_pixels && j < b->n_pixels)
+    {
+      if (a->index[i] < b->index[j])
+        i++;
+      else if (a->index[i] > b->index[j])
+        j++;
+      else
+        {
+          n++;
+          i++;
+          j++;
+        }
+    }
+  return n;
+}
+
+static const EffluxMeasureRow *
+find_row (const EffluxMeasureResult *res,
+          const char                *lobe)
+{
+  if (res == NULL)
+    return NULL;
+  for (guint i = 0; i < res->rows->len; i++)
+    {
+      const EffluxMeasureRow *r = g_ptr_array_index (res->rows, i);
+
+      if (!r->is_total && strcmp (r->lobe, lobe) == 0)
+        return r;
+    }
+  return NULL;
+}
+
+static double
+ratio (double theirs,
+       double mine)
+{
+  if (!isfinite (theirs) || !isfinite (mine) || mine == 0.0)
+    return NAN;
+  return theirs / mine;
+}
+
+/* Overlap of every pair on my lobe's grid: masks[i][j] for my lobe i and their lobe j. */
+typedef struct
+{
+  guint64 n_mine, n_theirs, n_both;
+} Overlap;
+
+EffluxComparison *
+efflux_compare (const EffluxDossier       *mine,
+                GHashTable                *mine_cubes,
+                const EffluxMeasureResult *mine_result,
+                const EffluxDossier       *theirs,
+                const EffluxMeasureResult *theirs_result,
+                GError                   **error)
+{
+  guint nm = mine->lobes->len, nt = theirs->lobes->len;
+  g_autofree Overlap *ov = g_new0 (Overlap, (gsize) MAX (nm, 1) * MAX (nt, 1));
+  g_autofree int *mate_of_mine = g_new (int, MAX (nm, 1));
+  g_autofree int *mate_of_theirs = g_new (int, MAX (nt, 1));
+  g_autofree EffluxMatchKind *how = g_new (EffluxMatchKind, MAX (nm, 1));
+  g_autoptr (EffluxComparison) c = g_new0 (EffluxComparison, 1);
+  const char *author;
+
+  for (guint i = 0; i < nm; i++)
+    {
+      mate_of_mine[i] = -1;
+      how[i] = EFFLUX_MATCH_NONE;
+    }
+  for (guint j = 0; j < nt; j++)
+    mate_of_theirs[j] = -1;
+
+  /* every pair's overlap on my lobe's grid */
+  for (guint i = 0; i < nm; i++)
+    {
+      const EffluxDossierLobe *a = g_ptr_array_index (mine->lobes, i);
+      const EffluxCube *cube = g_hash_table_lookup (mine_cubes, a->cube_id);
+      g_autofree char *what_a = g_strdup_printf ("%s: [Lobe %s] polygon", mine->path, a->name);
+      g_autoptr (EffluxLobeMask) ma = NULL;
+
+      if (cube == NULL)
+        {
+          g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                       "%s: [Lobe %s] cube: the cube '%s' is not loaded", mine->path, a->name, a->cube_id);
+          return NULL;
+        }
+      ma = efflux_lobe_mask_new (cube, a->ra_deg, a->dec_deg, a->n_vertices, what_a, error);
+      if (ma == NULL)
+        return NULL;
+      for (guint j = 0; j < nt; j++)
+        {
+          const EffluxDossierLobe *b = g_ptr_array_index (theirs->lobes, j);
+          g_autofree char *what_b = g_strdup_printf ("%s: [Lobe %s] polygon", theirs->path, b->name);
+          g_autoptr (EffluxLobeMask) mb = efflux_lobe_mask_new (cube, b->ra_deg, b->dec_deg, b->n_vertices,
+                                                                what_b, error);
+          Overlap *o = &ov[(gsize) i * nt + j];
+
+          if (mb == NULL)
+            return NULL;
+          o->n_mine = ma->n_pixels;
+          o->n_theirs = mb->n_pixels;
+          o->n_both = count_both (ma, mb);
+        }
+    }
+
+  /* by name */
+  for (guint i = 0; i < nm; i++)
+    {
+      const EffluxDossierLobe *a = g_ptr_array_index (mine->lobes, i);
+
+      for (guint j = 0; j < nt; j++)
+        {
+          const EffluxDossierLobe *b = g_ptr_array_index (theirs->lobes, j);
+
+          if (mate_of_theirs[j] < 0 && strcmp (a->name, b->name) == 0)
+            {
+              mate_of_mine[i] = (int) j;
+              mate_of_theirs[j] = (int) i;
+              how[i] = EFFLUX_MATCH_NAME;
+              break;
+            }
+        }
+    }
+
+  /* by the largest overlap, greedily */
+  for (;;)
+    {
+      double best = 0.0;
+      int bi = -1, bj = -1;
+
+      for (guint i = 0; i < nm; i++)
+        {
+          const EffluxDossierLobe *a = g_ptr_array_index (mine->lobes, i);
+
+          if (mate_of_mine[i] >= 0)
+            continue;
+          for (guint j = 0; j < nt; j++)
+            {
+              const EffluxDossierLobe *b = g_ptr_array_index (theirs->lobes, j);
+              const Overlap *o = &ov[(gsize) i * nt + j];
+              guint64 uni = o->n_mine + o->n_theirs - o->n_both;
+              double iou;
+
+              if (mate_of_theirs[j] >= 0 || a->kind != b->kind || o->n_both == 0 || uni == 0)
+                continue;
+              iou = (double) o->n_both / (double) uni;
+              if (iou > best)
+                {
+                  best = iou;
+                  bi = (int) i;
+                  bj = (int) j;
+                }
+            }
+        }
+      if (bi < 0)
+        break;
+      mate_of_mine[bi] = bj;
+      mate_of_theirs[bj] = bi;
+      how[bi] = EFFLUX_MATCH_OVERLAP;
+    }
+
+  c->rows = g_ptr_array_new_with_free_func (row_free);
+  for (guint i = 0; i < nm; i++)
+    {
+      const EffluxDossierLobe *a = g_ptr_array_index (mine->lobes, i);
+      EffluxCompareRow *r = g_new0 (EffluxCompareRow, 1);
+
+      r->mine = g_strdup (a->name);
+      r->kind = a->kind;
+      r->match = how[i];
+      r->iou = r->dv1_kms = r->dv2_kms = NAN;
+      for (int q = 0; q < EFFLUX_RATIO_N; q++)
+        r->ratio[q] = NAN;
+      if (mate_of_mine[i] >= 0)
+        {
+          guint j = (guint) mate_of_mine[i];
+          const EffluxDossierLobe *b = g_ptr_array_index (theirs->lobes, j);
+          const Overlap *o = &ov[(gsize) i * nt + j];
+          guint64 uni = o->n_mine + o->n_theirs - o->n_both;
+          const EffluxMeasureRow *rm = find_row (mine_result, a->name);
+          const EffluxMeasureRow *rt = find_row (theirs_result, b->name);
+
+          r->theirs = g_strdup (b->name);
+          r->n_mine = o->n_mine;
+          r->n_theirs = o->n_theirs;
+          r->n_both = o->n_both;
+          r->iou = uni > 0 ? (double) o->n_both / (double) uni : NAN;
+          r->dv1_kms = b->v1_kms - a->v1_kms;
+          r->dv2_kms = b->v2_kms - a->v2_kms;
+          if (rm != NULL && rt != NULL)
+            {
+              r->ratio[EFFLUX_RATIO_MASS] = ratio (rt->mass_msun, rm->mass_msun);
+              r->ratio[EFFLUX_RATIO_MOMENTUM] = ratio (rt->momentum_msun_kms, rm->momentum_msun_kms);
+              r->ratio[EFFLUX_RATIO_ENERGY] = ratio (rt->energy_erg, rm->energy_erg);
+              r->ratio[EFFLUX_RATIO_TDYN] = ratio (rt->tdyn_yr, rm->tdyn_yr);
+            }
+        }
+      else if (nt > 0)
+        r->n_mine = ov[(gsize) i * nt].n_mine;
+      g_ptr_array_add (c->rows, r);
+    }
+  for (guint j = 0; j < nt; j++)
+    {
+      const EffluxDossierLobe *b = g_ptr_array_index (theirs->lobes, j);
+      EffluxCompareRow *r;
+
+      if (mate_of_theirs[j] >= 0)
+        continue;
+      r = g_new0 (EffluxCompareRow, 1);
+      r->theirs = g_strdup (b->name);
+      r->kind = b->kind;
+      r->match = EFFLUX_MATCH_NONE;
+      r->iou = r->dv1_kms = r->dv2_kms = NAN;
+      for (int q = 0; q < EFFLUX_RATIO_N; q++)
+        r->ratio[q] = NAN;
+      g_ptr_array_add (c->rows, r);
+    }
+  author = efflux_dossier_author (mine);
+  c->mine_author = g_strdup (author);
+  author = efflux_dossier_author (theirs);
+  c->theirs_author = g_strdup (author);
+  return g_steal_pointer (&c);
+}
+
+EffluxComparison *
+efflux_compare_dossiers (const EffluxDossier *mine,
+                         const EffluxDossier *theirs,
+                         GCancellable        *cancellable,
+                         GError             **error)
+{
+  g_autoptr (GHashTable) cubes = NULL;
+  g_autoptr (EffluxMeasureResult) rm = NULL;
+  g_autoptr (EffluxMeasureResult) rt = NULL;
+  g_autoptr (EffluxMeasurePrep) prep = NULL;
+
+  cubes = efflux_measure_load_cubes (mine, cancellable, error);
+  if (cubes == NULL)
+    return NULL;
+  prep = efflux_measure_prepare (mine, cubes, cancellable, error);
+  if (prep == NULL)
+    return NULL;
+  rm = efflux_measure_finish (prep, mine, error);
+  if (rm == NULL)
+    return NULL;
+  rt = efflux_measure_dossier (theirs, cancellable, error);
+  if (rt == NULL)
+    return NULL;
+  return efflux_compare (mine, cubes, rm, theirs, rt, error);
+}
