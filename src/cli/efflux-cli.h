@@ -37,6 +37,8 @@ int efflux_cmd_synth   (int argc, char **argv);
 int efflux_cmd_measure (int argc, char **argv);
 int efflux_cmd_moment  (int argc, char **argv);
 int efflux_cmd_pv      (int argc, char **argv);
+int efflux_cmd_compare (int argc, char **argv);
+int efflux_cmd_export  (int argc, char **argv);
 int efflux_cmd_shellfit (int argc, char **argv);
 int efflux_cmd_knots  (int argc, char **argv);
 int efflux_cmd_budget (int argc, char **argv);
