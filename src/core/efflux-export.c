@@ -116,9 +116,9 @@ write_lobe_hdu (fitsfile                *f,
       fits_write_key_dbl (f, "CRPIX3", 1.0, -17, NULL, &status);
       fits_write_key_dbl (f, "CRVAL3", cube->velocity[0] * 1000.0, -17, "[m/s] first channel", &status);
       fits_write_key_dbl (f, "CDELT3", cube->dv * 1000.0, -17, "[m/s] channel step", &status);
-      fits_write_key_str (f, "SPECSYS", "LSRK", "velocities relative to the kinematic LSR", &status);
+      fits_update_key_str (f, "SPECSYS", "LSRK", "velocities relative to the kinematic LSR", &status);
       if (cube->restfreq_hz > 0.0)
-        fits_write_key_dbl (f, "RESTFRQ", cube->restfreq_hz, -17, "[Hz] rest frequency of the line", &status);
+        fits_update_key_dbl (f, "RESTFRQ", cube->restfreq_hz, -17, "[Hz] rest frequency of the line", &status);
     }
   fits_write_comment (f, "1 = inside the lobe, 0 = outside (written by Efflux)", &status);
 

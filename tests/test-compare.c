@@ -1,0 +1,450 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* Comparing two dossiers of one source (efflux-compare.h, efflux-cli compare) and review notes
+ * (efflux-review.h).
+ *
+ * The checks are analytic:
+ * - Two squares of 10 x 10 pixels offset by half their side share 50 pixels: intersection over
+ *   union = 50 / (100 + 100 - 50) = 1/3 exactly; offset by 2 pixels: 80 / 120 = 2/3.
+ * - Mass is proportional to the pixel area, distance^2 x pixel solid angle (CONTRACT.md 4), so a
+ *   dossier at twice the distance over the same number of pixels of the same brightness has 4 x
+ *   the mass, momentum and energy; rmax (au) doubles with vmax unchanged, so tdyn doubles. */
+#include "config.h"
+
+#include <glib.h>
+#include <glib/gstdio.h>
+#include <math.h>
+#include <string.h>
+
+#include "efflux-compare.h"
+#include "efflux-cube.h"
+#include "efflux-dossier.h"
+#include "efflux-fitsout.h"
+#include "efflux-review.h"
+
+#define REST_12CO21 230.538e9
+#define RA0 83.8
+#define DEC0 -5.4
+#define NX 35
+#define NY 40
+
+typedef struct
+{
+  char       *dir;
+  EffluxCube *cube;
+} Fixture;
+
+/* A cube of 1 K everywhere, channels -5.5 .. 5.5 km/s, 2" pixels, written to dir/co.fits. */
+static void
+fixture_set_up (Fixture      *f,
+                gconstpointer data)
+{
+  g_autoptr (GError) error = NULL;
+  g_autofree char *path = NULL;
+
+  f->dir = g_dir_make_tmp ("efflux-compare-XXXXXX", &error);
+  g_assert_no_error (error);
+  f->cube = efflux_cube_new_simple (NX, NY, 12, RA0, DEC0, 2.0, -5.5, 1.0, REST_12CO21);
+  g_assert_nonnull (f->cube);
+  for (gsize i = 0; i < (gsize) NX * NY * 12; i++)
+    f->cube->data[i] = 1.0f;
+  path = g_build_filename (f->dir, "co.fits", NULL);
+  g_assert_true (efflux_fits_write_cube (f->cube, path, NULL, &error));
+  g_assert_no_error (error);
+}
+
+static void
+fixture_tear_down (Fixture      *f,
+                   gconstpointer data)
+{
+  g_autoptr (GDir) d = g_dir_open (f->dir, 0, NULL);
+  const char *name;
+
+  while (d != NULL && (name = g_dir_read_name (d)) != NULL)
+    {
+      g_autofree char *p = g_build_filename (f->dir, name, NULL);
+      g_unlink (p);
+    }
+  g_rmdir (f->dir);
+  g_free (f->dir);
+  efflux_cube_free (f->cube);
+}
+
+/* "ra,dec;..." of the pixel square whose pixel centres x0..x1, y0..y1 (inclusive) are inside. */
+static char *
+square (const EffluxCube *cube,
+        int x0, int y0,
+        int x1, int y1)
+{
+  double xs[4] = { x0 - 0.5, x1 + 0.5, x1 + 0.5, x0 - 0.5 };
+  double ys[4] = { y0 - 0.5, y0 - 0.5, y1 + 0.5, y1 + 0.5 };
+  GString *s = g_string_new (NULL);
+
+  for (int i = 0; i < 4; i++)
+    {
+      double ra, dec;
+      char a[G_ASCII_DTOSTR_BUF_SIZE], b[G_ASCII_DTOSTR_BUF_SIZE];
+
+      g_assert_true (efflux_cube_pixel_to_icrs (cube, xs[i], ys[i], &ra, &dec));
+      g_string_append_printf (s, "%s%s,%s", i ? ";" : "", g_ascii_formatd (a, sizeof a, "%.12f", ra),
+                              g_ascii_formatd (b, sizeof b, "%.12f", dec));
+    }
+  return g_string_free (s, FALSE);
+}
+
+static char *
+write_dossier (Fixture    *f,
+               const char *file,
+               double      distance_pc,
+               const char *lobes)
+{
+  double ra, dec;
+  char a[G_ASCII_DTOSTR_BUF_SIZE], b[G_ASCII_DTOSTR_BUF_SIZE];
+  g_autofree char *text = NULL;
+  g_autoptr (GError) error = NULL;
+  char *path = g_build_filename (f->dir, file, NULL);
+
+  /* the source sits on the column of the reference pixel (x = 17): the squares at x 10..19 and
+   * 15..24 are mirror images about it, on the sky too (TAN is symmetric about that meridian) */
+  g_assert_true (efflux_cube_pixel_to_icrs (f->cube, 17.0, 5.0, &ra, &dec));
+  text = g_strdup_printf ("# a comment that must survive\n"
+                          "[Source]\nname=Compare test\nra-deg=%s\ndec-deg=%s\ndistance-pc=%g\nvsys-kms=0\n"
+                          "[Assumptions]\ntex-k=20\nco-abundance=1e-4\nmc-samples=0\n"
+                          "[Cube co]\npath=co.fits\nline=12CO 2-1\nrms-k=0.1\n%s",
+                          g_ascii_formatd (a, sizeof a, "%.12f", ra), g_ascii_formatd (b, sizeof b, "%.12f", dec),
+                          distance_pc, lobes);
+  g_assert_true (g_file_set_contents (path, text, -1, &error));
+  g_assert_no_error (error);
+  return path;
+}
+
+static char *
+lobe (const char *name,
+      const char *kind,
+      const char *polygon,
+      const char *velocity,
+      const char *author)
+{
+  return g_strdup_printf ("[Lobe %s]\nkind=%s\ncube=co\npolygon=%s\nvelocity-kms=%s\nauthor=%s\n",
+                          name, kind, polygon, velocity, author);
+}
+
+/* Mine: blue-1 (x 10..19, y 10..19) and red-1 (x 10..19, y 25..34), at 300 pc.
+ * Theirs, at 600 pc: blue-1 moved by half its side (x 15..24): matched by name, IoU 1/3;
+ * "R-north" = red-1 moved by 2 pixels in y: matched by overlap, IoU 2/3; "R-small" (x 18..22,
+ * y 25..29) overlaps red-1 less (IoU 10/115) and stays alone; "B-far" overlaps nothing. */
+static void
+make_pair (Fixture *f,
+           char   **mine_path,
+           char   **theirs_path)
+{
+  g_autofree char *a = square (f->cube, 10, 10, 19, 19);
+  g_autofree char *b = square (f->cube, 15, 10, 24, 19);
+  g_autofree char *c = square (f->cube, 10, 25, 19, 34);
+  g_autofree char *d = square (f->cube, 10, 27, 19, 36);
+  g_autofree char *e = square (f->cube, 18, 25, 22, 29);
+  g_autofree char *g = square (f->cube, 26, 2, 30, 6);
+  g_autofree char *m1 = lobe ("blue-1", "blue", a, "-5.5;-0.5", "Me");
+  g_autofree char *m2 = lobe ("red-1", "red", c, "0.5;5.5", "Me");
+  g_autofree char *t1 = lobe ("R-small", "red", e, "0.5;5.5", "A. Colleague");
+  g_autofree char *t2 = lobe ("blue-1", "blue", b, "-5.5;-0.5", "A. Colleague");
+  g_autofree char *t3 = lobe ("R-north", "red", d, "1.5;5.5", "A. Colleague");
+  g_autofree char *t4 = lobe ("B-far", "blue", g, "-5.5;-0.5", "A. Colleague");
+  g_autofree char *mine = g_strconcat (m1, m2, NULL);
+  g_autofree char *theirs = g_strconcat (t1, t2, t3, t4, NULL);
+
+  *mine_path = write_dossier (f, "mine.efflux", 300, mine);
+  *theirs_path = write_dossier (f, "theirs.efflux", 600, theirs);
+}
+
+static const EffluxCompareRow *
+find (const EffluxComparison *c,
+      const char             *mine,
+      const char             *theirs)
+{
+  for (guint i = 0; i < c->rows->len; i++)
+    {
+      const EffluxCompareRow *r = g_ptr_array_index (c->rows, i);
+
+      if (g_strcmp0 (r->mine, mine) == 0 && g_strcmp0 (r->theirs, theirs) == 0)
+        return r;
+    }
+  g_error ("no comparison row %s / %s", mine ? mine : "-", theirs ? theirs : "-");
+  return NULL;
+}
+
+static void
+test_compare_core (Fixture      *f,
+                   gconstpointer data)
+{
+  g_autofree char *mp = NULL, *tp = NULL;
+  g_autoptr (EffluxDossier) mine = NULL;
+  g_autoptr (EffluxDossier) theirs = NULL;
+  g_autoptr (EffluxComparison) c = NULL;
+  g_autoptr (GError) error = NULL;
+  const EffluxCompareRow *r;
+
+  make_pair (f, &mp, &tp);
+  mine = efflux_dossier_load (mp, &error);
+  g_assert_no_error (error);
+  theirs = efflux_dossier_load (tp, &error);
+  g_assert_no_error (error);
+  c = efflux_compare_dossiers (mine, theirs, NULL, &error);
+  g_assert_no_error (error);
+  g_assert_nonnull (c);
+  g_assert_cmpuint (c->rows->len, ==, 4);   /* blue-1, red-1, then R-small and B-far alone */
+  g_assert_cmpstr (c->mine_author, ==, "Me");
+  g_assert_cmpstr (c->theirs_author, ==, "A. Colleague");
+
+  /* by name; half-side offset: IoU 1/3 exactly (analytic, see the top) */
+  r = find (c, "blue-1", "blue-1");
+  g_assert_cmpint (r->match, ==, EFFLUX_MATCH_NAME);
+  g_assert_cmpuint (r->n_mine, ==, 100);
+  g_assert_cmpuint (r->n_theirs, ==, 100);
+  g_assert_cmpuint (r->n_both, ==, 50);
+  g_assert_cmpfloat (r->iou, ==, 1.0 / 3.0);
+  g_assert_cmpfloat (r->dv1_kms, ==, 0.0);
+  g_assert_cmpfloat (r->dv2_kms, ==, 0.0);
+  /* distance x 2: mass, momentum, energy x 4, tdyn x 2 (CONTRACT.md 4, pixel area ~ d^2) */
+  g_assert_cmpfloat_with_epsilon (r->ratio[EFFLUX_RATIO_MASS], 4.0, 4e-12);
+  g_assert_cmpfloat_with_epsilon (r->ratio[EFFLUX_RATIO_MOMENTUM], 4.0, 4e-12);
+  g_assert_cmpfloat_with_epsilon (r->ratio[EFFLUX_RATIO_ENERGY], 4.0, 4e-12);
+  g_assert_cmpfloat_with_epsilon (r->ratio[EFFLUX_RATIO_TDYN], 2.0, 2e-9);
+
+  /* by the largest overlap, not the first candidate: IoU 2/3 beats 10/115 */
+  r = find (c, "red-1", "R-north");
+  g_assert_cmpint (r->match, ==, EFFLUX_MATCH_OVERLAP);
+  g_assert_cmpuint (r->n_both, ==, 80);
+  g_assert_cmpfloat (r->iou, ==, 2.0 / 3.0);
+  g_assert_cmpfloat (r->dv1_kms, ==, 1.0);
+  g_assert_cmpfloat (r->dv2_kms, ==, 0.0);
+  /* both 100 pixels of 1 K; theirs has 5 channels (1.5 .. 5.5 km/s) of my 6 (0.5 .. 5.5): 4 x 5/6 */
+  g_assert_cmpfloat_with_epsilon (r->ratio[EFFLUX_RATIO_MASS], 4.0 * 5.0 / 6.0, 4e-12);
+
+  r = find (c, NULL, "R-small");
+  g_assert_cmpint (r->match, ==, EFFLUX_MATCH_NONE);
+  g_assert_true (isnan (r->iou));
+  r = find (c, NULL, "B-far");
+  g_assert_cmpint (r->match, ==, EFFLUX_MATCH_NONE);
+
+  /* without results: the matching and overlaps only (what the desktop overlay uses) */
+  {
+    g_autoptr (GHashTable) cubes = g_hash_table_new (g_str_hash, g_str_equal);
+    g_autoptr (EffluxComparison) c2 = NULL;
+
+    g_hash_table_insert (cubes, (gpointer) "co", f->cube);
+    c2 = efflux_compare (mine, cubes, NULL, theirs, NULL, &error);
+    g_assert_no_error (error);
+    g_assert_cmpfloat (find (c2, "blue-1", "blue-1")->iou, ==, 1.0 / 3.0);
+    g_assert_true (isnan (find (c2, "blue-1", "blue-1")->ratio[EFFLUX_RATIO_MASS]));
+    g_assert_cmpint (find (c2, "red-1", "R-north")->match, ==, EFFLUX_MATCH_OVERLAP);
+  }
+}
+
+static char *
+run_cli (const char * const *args,
+         int                *exit_status,
+         char              **err_out)
+{
+  const char *cli = g_getenv ("EFFLUX_CLI");
+  g_autoptr (GPtrArray) argv = g_ptr_array_new ();
+  g_autoptr (GError) error = NULL;
+  char *out = NULL;
+  int status = 0;
+
+  g_assert_nonnull (cli);
+  g_ptr_array_add (argv, (gpointer) cli);
+  for (gsize i = 0; args[i] != NULL; i++)
+    g_ptr_array_add (argv, (gpointer) args[i]);
+  g_ptr_array_add (argv, NULL);
+  g_assert_true (g_spawn_sync (NULL, (char **) argv->pdata, NULL, G_SPAWN_DEFAULT, NULL, NULL,
+                               &out, err_out, &status, &error));
+  g_assert_no_error (error);
+  *exit_status = WIFEXITED (status) ? WEXITSTATUS (status) : -1;
+  return out;
+}
+
+static void
+test_compare_cli (Fixture      *f,
+                  gconstpointer data)
+{
+  g_autofree char *mp = NULL, *tp = NULL;
+  int status = 0;
+
+  make_pair (f, &mp, &tp);
+  {
+    const char *args[] = { "compare", mp, tp, "--format", "csv", NULL };
+    g_autofree char *err = NULL;
+    g_autofree char *out = run_cli (args, &status, &err);
+    g_auto (GStrv) lines = g_strsplit (out, "\n", -1);
+    g_auto (GStrv) head = NULL;
+    g_auto (GStrv) blue = NULL;
+    g_auto (GStrv) red = NULL;
+
+    g_assert_cmpint (status, ==, 0);
+    g_assert_cmpuint (g_strv_length (lines), ==, 6);   /* header, 4 rows, "" */
+    g_assert_cmpstr (lines[0], ==, "lobe,theirs,kind,match,iou,dv1_kms,dv2_kms,mass_ratio,momentum_ratio,energy_ratio,tdyn_ratio");
+    head = g_strsplit (lines[0], ",", -1);
+    blue = g_strsplit (lines[1], ",", -1);
+    red = g_strsplit (lines[2], ",", -1);
+    g_assert_cmpuint (g_strv_length (blue), ==, 11);
+    g_assert_cmpstr (blue[0], ==, "blue-1");
+    g_assert_cmpstr (blue[1], ==, "blue-1");
+    g_assert_cmpstr (blue[3], ==, "name");
+    g_assert_cmpfloat (g_ascii_strtod (blue[4], NULL), ==, 1.0 / 3.0);   /* %.17g round-trips */
+    g_assert_cmpfloat_with_epsilon (g_ascii_strtod (blue[7], NULL), 4.0, 4e-12);
+    g_assert_cmpfloat_with_epsilon (g_ascii_strtod (blue[10], NULL), 2.0, 2e-9);
+    g_assert_cmpstr (red[0], ==, "red-1");
+    g_assert_cmpstr (red[1], ==, "R-north");
+    g_assert_cmpstr (red[3], ==, "overlap");
+    g_assert_cmpfloat (g_ascii_strtod (red[4], NULL), ==, 2.0 / 3.0);
+    g_assert_cmpfloat (g_ascii_strtod (red[5], NULL), ==, 1.0);
+    g_assert_true (g_str_has_prefix (lines[3], ",R-small,red,none,,"));
+    g_assert_true (g_str_has_prefix (lines[4], ",B-far,blue,none,,"));
+  }
+  {
+    /* text: aligned (every row as wide as the header, up to trailing blanks) and one line per lobe */
+    const char *args[] = { "compare", mp, tp, NULL };
+    g_autofree char *err = NULL;
+    g_autofree char *out = run_cli (args, &status, &err);
+    g_auto (GStrv) lines = g_strsplit (out, "\n", -1);
+    const char *header = NULL;
+    guint rows = 0;
+    const char *col;
+
+    g_assert_cmpint (status, ==, 0);
+    for (guint i = 0; lines[i] != NULL; i++)
+      {
+        if (lines[i][0] == '#' || lines[i][0] == '\0')
+          continue;
+        if (header == NULL)
+          {
+            header = lines[i];
+            continue;
+          }
+        rows++;
+        /* the ratio columns end where the header's last name ends */
+        g_assert_cmpuint (strlen (lines[i]), ==, strlen (header));
+      }
+    g_assert_cmpuint (rows, ==, 4);
+    g_assert_nonnull (strstr (out, "A. Colleague"));
+    col = strstr (header, "iou");
+    g_assert_nonnull (col);
+    g_assert_true (g_str_has_prefix (lines[4], "blue-1"));
+    g_assert_nonnull (strstr (lines[4], "0.3333"));
+    g_assert_nonnull (strstr (lines[5], "0.6667"));
+  }
+  {
+    const char *args[] = { "compare", mp, tp, "--format", "json", NULL };
+    g_autofree char *err = NULL;
+    g_autofree char *out = run_cli (args, &status, &err);
+
+    g_assert_cmpint (status, ==, 0);
+    g_assert_nonnull (strstr (out, "\"lobe\": \"blue-1\", \"theirs\": \"blue-1\", \"kind\": \"blue\", \"match\": \"name\", \"iou\": 0.33333333333333331"));
+    g_assert_nonnull (strstr (out, "\"lobe\": null, \"theirs\": \"B-far\""));
+  }
+  {
+    const char *args[] = { "compare", mp, "--format", "xml", tp, NULL };
+    g_autofree char *err = NULL;
+    g_autofree char *out = run_cli (args, &status, &err);
+
+    g_assert_cmpint (status, ==, 2);
+    g_assert_cmpstr (err, ==, "efflux-cli: error: compare: --format xml: expected text, csv or json (see 'efflux-cli compare --help')\n");
+  }
+  {
+    g_autofree char *missing = g_build_filename (f->dir, "nothing.efflux", NULL);
+    const char *args[] = { "compare", mp, missing, NULL };
+    g_autofree char *err = NULL;
+    g_autofree char *out = run_cli (args, &status, &err);
+
+    g_assert_cmpint (status, ==, 1);
+    g_assert_true (g_str_has_prefix (err, "efflux-cli: error: "));
+    g_assert_nonnull (strstr (err, "nothing.efflux"));
+    g_assert_nonnull (strchr (err, '\n'));
+    g_assert_cmpint (strchr (err, '\n')[1], ==, '\0');
+  }
+}
+
+/* Review notes: written, saved, read back; comments and other groups kept; bad status refused. */
+static void
+test_review_notes (Fixture      *f,
+                   gconstpointer data)
+{
+  g_autofree char *mp = NULL, *tp = NULL;
+  g_autoptr (EffluxDossier) mine = NULL;
+  g_autoptr (EffluxDossier) again = NULL;
+  g_autoptr (EffluxReview) rv = NULL;
+  g_autoptr (GError) error = NULL;
+  g_autofree char *text = NULL;
+  const EffluxReviewNote *n;
+
+  make_pair (f, &mp, &tp);
+  mine = efflux_dossier_load (mp, &error);
+  g_assert_no_error (error);
+  rv = efflux_review_read (mine, &error);
+  g_assert_no_error (error);
+  g_assert_cmpuint (rv->notes->len, ==, 0);
+  g_assert_null (rv->reviewer);
+  g_clear_pointer (&rv, efflux_review_free);
+
+  efflux_review_set_reviewer (mine, "B. Reviewer", tp);
+  efflux_review_set_note (mine, "blue-1", EFFLUX_REVIEW_QUESTIONED, "takes in the ambient\ncloud", "blue-1");
+  efflux_review_set_note (mine, "R-north", EFFLUX_REVIEW_AGREED, "", "red-1");
+  efflux_review_set_note (mine, "B-far", EFFLUX_REVIEW_CHANGED, "dropped", NULL);
+  efflux_review_set_note (mine, "R-small", EFFLUX_REVIEW_AGREED, "", NULL);
+  g_assert_true (efflux_review_remove_note (mine, "R-small"));
+  g_assert_false (efflux_review_remove_note (mine, "R-small"));
+  g_assert_true (efflux_dossier_set_lobe_author (mine, "red-1", "B. Reviewer", &error));
+  g_assert_no_error (error);
+  g_assert_false (efflux_dossier_set_lobe_note (mine, "nope", "x", &error));
+  g_assert_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT);
+  g_assert_nonnull (strstr (error->message, "[Lobe nope]"));
+  g_clear_error (&error);
+  g_assert_true (efflux_dossier_save (mine, mp, &error));
+  g_assert_no_error (error);
+
+  g_assert_true (g_file_get_contents (mp, &text, NULL, &error));
+  g_assert_nonnull (strstr (text, "# a comment that must survive"));
+  g_assert_nonnull (strstr (text, "[Review]\nreviewer=B. Reviewer\nreviewed=theirs.efflux\n"));
+  again = efflux_dossier_load (mp, &error);
+  g_assert_no_error (error);
+  g_assert_cmpstr (efflux_dossier_find_lobe (again, "red-1")->author, ==, "B. Reviewer");
+  rv = efflux_review_read (again, &error);
+  g_assert_no_error (error);
+  g_assert_cmpstr (rv->reviewer, ==, "B. Reviewer");
+  g_assert_cmpstr (rv->reviewed, ==, "theirs.efflux");
+  g_assert_cmpstr (rv->reviewed_abs, ==, tp);
+  g_assert_cmpuint (rv->notes->len, ==, 3);
+  n = efflux_review_find (rv, "blue-1");
+  g_assert_cmpint (n->status, ==, EFFLUX_REVIEW_QUESTIONED);
+  g_assert_cmpstr (n->note, ==, "takes in the ambient cloud");
+  g_assert_cmpstr (n->mine, ==, "blue-1");
+  g_assert_nonnull (n->date);
+  g_assert_cmpuint (strlen (n->date), ==, 20);
+  n = efflux_review_find (rv, "B-far");
+  g_assert_cmpint (n->status, ==, EFFLUX_REVIEW_CHANGED);
+  g_assert_null (n->mine);
+  g_assert_cmpint (efflux_review_find (rv, "R-north")->status, ==, EFFLUX_REVIEW_AGREED);
+  g_assert_null (efflux_review_find (rv, "R-small"));
+  g_clear_pointer (&rv, efflux_review_free);
+
+  /* a bad status names the file, the group and the key */
+  g_key_file_set_value (again->keyfile, "Review blue-1", "status", "maybe");
+  rv = efflux_review_read (again, &error);
+  g_assert_null (rv);
+  g_assert_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT);
+  {
+    g_autofree char *want = g_strdup_printf ("%s: [Review blue-1] status: expected agreed, questioned or changed, got 'maybe'", mp);
+    g_assert_cmpstr (error->message, ==, want);
+  }
+}
+
+int
+main (int    argc,
+      char **argv)
+{
+  g_test_init (&argc, &argv, NULL);
+  g_test_add ("/compare/core", Fixture, NULL, fixture_set_up, test_compare_core, fixture_tear_down);
+  g_test_add ("/compare/cli", Fixture, NULL, fixture_set_up, test_compare_cli, fixture_tear_down);
+  g_test_add ("/compare/review-notes", Fixture, NULL, fixture_set_up, test_review_notes, fixture_tear_down);
+  return g_test_run ();
+}
