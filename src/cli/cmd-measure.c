@@ -5,6 +5,8 @@
 #include "efflux-error.h"
 #include "efflux-io.h"
 #include "efflux-measure.h"
+#include "efflux-sample.h"
+#include "efflux-table.h"
 
 #include <errno.h>
 #include <math.h>
@@ -12,7 +14,13 @@
 #include <string.h>
 #include <unistd.h>
 
-/* efflux-cli measure DOSSIER... [--format csv|json] [-o FILE] [--spectrum FILE.csv] */
+/* efflux-cli measure DOSSIER|FOLDER... [--format csv|ecsv|votable|latex|markdown|json] [-o FILE]
+ *                    [--shard K/N] [--mark] [--spectrum FILE.csv]
+ *
+ * The sample is the list of arguments in the order given, a folder standing for its dossiers
+ * (*.efflux) sorted by file name. --shard K/N measures sources K, K + N, K + 2N, ... (1-based) of
+ * that list; the table keeps each source's place in the whole sample, so that `efflux-cli merge`
+ * puts the parts back in order. */
 
 typedef struct
 {
@@ -46,163 +54,6 @@ csv_field (GString    *s,
       g_string_append_c (s, *p);
     }
   g_string_append_c (s, '"');
-}
-
-static char *
-table_csv (GArray *all)
-{
-  const char * const *cols = efflux_measure_columns ();
-  GString *s = g_string_new (NULL);
-
-  for (guint c = 0; cols[c] != NULL; c++)
-    {
-      if (c)
-        g_string_append_c (s, ',');
-      g_string_append (s, cols[c]);
-    }
-  g_string_append_c (s, '\n');
-  for (guint i = 0; i < all->len; i++)
-    {
-      Measured *m = &g_array_index (all, Measured, i);
-
-      for (guint r = 0; r < m->result->rows->len; r++)
-        {
-          EffluxMeasureRow *row = g_ptr_array_index (m->result->rows, r);
-
-          for (guint c = 0; cols[c] != NULL; c++)
-            {
-              g_autofree char *cell = efflux_measure_cell (row, c);
-
-              if (c)
-                g_string_append_c (s, ',');
-              csv_field (s, cell);
-            }
-          g_string_append_c (s, '\n');
-        }
-    }
-  return g_string_free (s, FALSE);
-}
-
-static void
-json_pair (GString    *s,
-           const char *key,
-           double      value,
-           gboolean    comma)
-{
-  efflux_json_string (s, key);
-  g_string_append (s, ": ");
-  efflux_json_number (s, value);
-  if (comma)
-    g_string_append (s, ", ");
-}
-
-static void
-json_assumptions (GString             *s,
-                  const EffluxDossier *d)
-{
-  g_string_append (s, "{");
-  json_pair (s, "distance_pc", d->distance_pc, TRUE);
-  json_pair (s, "distance_err_pc", d->distance_err_pc, TRUE);
-  json_pair (s, "vsys_kms", d->vsys_kms, TRUE);
-  g_string_append (s, "\"inclination_mode\": ");
-  efflux_json_string (s, efflux_inclination_mode_name (d->inclination_mode));
-  g_string_append (s, ", ");
-  json_pair (s, "inclination_deg", d->inclination_deg, TRUE);
-  json_pair (s, "inclination_range_lo_deg", d->inclination_range_deg[0], TRUE);
-  json_pair (s, "inclination_range_hi_deg", d->inclination_range_deg[1], TRUE);
-  json_pair (s, "tex_k", d->tex_k, TRUE);
-  json_pair (s, "tbg_k", d->tbg_k, TRUE);
-  json_pair (s, "co_abundance", d->co_abundance, TRUE);
-  json_pair (s, "isotope_ratio", d->isotope_ratio, TRUE);
-  json_pair (s, "mass_per_h2", d->mass_per_h2, TRUE);
-  g_string_append (s, "\"opacity\": ");
-  efflux_json_string (s, efflux_opacity_method_name (d->opacity));
-  g_string_append (s, ", ");
-  json_pair (s, "tau", d->tau, TRUE);
-  json_pair (s, "clip_sigma", d->clip_sigma, TRUE);
-  json_pair (s, "tex_range_lo_k", d->tex_range_k[0], TRUE);
-  json_pair (s, "tex_range_hi_k", d->tex_range_k[1], TRUE);
-  json_pair (s, "co_abundance_range_lo", d->co_abundance_range[0], TRUE);
-  json_pair (s, "co_abundance_range_hi", d->co_abundance_range[1], TRUE);
-  json_pair (s, "isotope_ratio_range_lo", d->isotope_ratio_range[0], TRUE);
-  json_pair (s, "isotope_ratio_range_hi", d->isotope_ratio_range[1], TRUE);
-  json_pair (s, "o18_ratio", d->o18_ratio, TRUE);
-  json_pair (s, "sio_abundance", d->sio_abundance, TRUE);
-  json_pair (s, "mc_samples", d->mc_samples, TRUE);
-  json_pair (s, "mc_seed", (double) d->mc_seed, FALSE);
-  g_string_append (s, "}");
-}
-
-static char *
-table_json (GArray *all)
-{
-  const char * const *cols = efflux_measure_columns ();
-  GString *s = g_string_new ("{\n  \"columns\": [");
-  gboolean first = TRUE;
-
-  for (guint c = 0; cols[c] != NULL; c++)
-    {
-      if (c)
-        g_string_append (s, ", ");
-      efflux_json_string (s, cols[c]);
-    }
-  g_string_append (s, "],\n  \"rows\": [");
-  for (guint i = 0; i < all->len; i++)
-    {
-      Measured *m = &g_array_index (all, Measured, i);
-
-      for (guint r = 0; r < m->result->rows->len; r++)
-        {
-          EffluxMeasureRow *row = g_ptr_array_index (m->result->rows, r);
-
-          g_string_append (s, first ? "\n    [" : ",\n    [");
-          first = FALSE;
-          for (guint c = 0; cols[c] != NULL; c++)
-            {
-              gboolean is_text;
-              double v = efflux_measure_value (row, c, &is_text);
-
-              if (c)
-                g_string_append (s, ", ");
-              if (is_text)
-                {
-                  g_autofree char *cell = efflux_measure_cell (row, c);
-                  if (c == 2 && row->is_total)
-                    g_string_append (s, "null");
-                  else
-                    efflux_json_string (s, cell);
-                }
-              else
-                efflux_json_number (s, v);
-            }
-          g_string_append (s, "]");
-        }
-    }
-  g_string_append (s, "\n  ],\n  \"metadata\": {\n    \"efflux_version\": ");
-  efflux_json_string (s, PACKAGE_VERSION);
-  g_string_append (s, ",\n    \"sources\": [");
-  for (guint i = 0; i < all->len; i++)
-    {
-      Measured *m = &g_array_index (all, Measured, i);
-
-      g_string_append (s, i ? ",\n      {" : "\n      {");
-      g_string_append (s, "\"source\": ");
-      efflux_json_string (s, m->dossier->name);
-      g_string_append (s, ", \"dossier\": ");
-      efflux_json_string (s, m->dossier->path);
-      g_string_append (s, ", \"assumptions\": ");
-      json_assumptions (s, m->dossier);
-      g_string_append (s, ", \"notes\": [");
-      for (guint n = 0; n < m->result->notes->len; n++)
-        {
-          if (n)
-            g_string_append (s, ", ");
-          efflux_json_string (s, g_ptr_array_index (m->result->notes, n));
-        }
-      g_string_append (s, "]}");
-    }
-  g_string_append (s, "\n    ]\n  }\n}\n");
-  return g_string_free (s, FALSE);
 }
 
 /* The readable table for a terminal: the contract's columns with units, aligned. */
@@ -318,6 +169,58 @@ write_stdout (const char *text)
   return EFFLUX_EXIT_OK;
 }
 
+static gboolean
+parse_shard (const char *spec,
+             guint      *k,
+             guint      *n)
+{
+  g_auto (GStrv) parts = g_strsplit (spec, "/", -1);
+  guint64 a, b;
+
+  if (g_strv_length (parts) != 2
+      || !g_ascii_string_to_unsigned (parts[0], 10, 1, G_MAXUINT, &a, NULL)
+      || !g_ascii_string_to_unsigned (parts[1], 10, 1, G_MAXUINT, &b, NULL)
+      || a > b)
+    return FALSE;
+  *k = (guint) a;
+  *n = (guint) b;
+  return TRUE;
+}
+
+/* Refuse an output path that cannot be written before measuring for hours. */
+static gboolean
+output_writable (const char  *path,
+                 char       **why)
+{
+  g_autofree char *dir = g_path_get_dirname (path);
+
+  if (g_file_test (path, G_FILE_TEST_IS_DIR))
+    {
+      *why = g_strdup ("is a folder");
+      return FALSE;
+    }
+  if (!g_file_test (dir, G_FILE_TEST_IS_DIR))
+    {
+      *why = g_strdup_printf ("folder %s does not exist", dir);
+      return FALSE;
+    }
+  if (access (dir, W_OK) != 0)
+    {
+      int saved = errno;
+
+      *why = g_strdup_printf ("folder %s: %s", dir, g_strerror (saved));
+      return FALSE;
+    }
+  if (g_file_test (path, G_FILE_TEST_EXISTS) && access (path, W_OK) != 0)
+    {
+      int saved = errno;
+
+      *why = g_strdup (g_strerror (saved));
+      return FALSE;
+    }
+  return TRUE;
+}
+
 int
 efflux_cmd_measure (int    argc,
                     char **argv)
@@ -325,15 +228,27 @@ efflux_cmd_measure (int    argc,
   g_autofree char *format = NULL;
   g_autofree char *output = NULL;
   g_autofree char *spectrum = NULL;
+  g_autofree char *shard = NULL;
+  gboolean mark = FALSE;
   GOptionEntry entries[] = {
-    { "format", 'f', 0, G_OPTION_ARG_STRING, &format, "csv or json (default: a table on a terminal, csv otherwise)", "FORMAT" },
+    { "format", 'f', 0, G_OPTION_ARG_STRING, &format,
+      "csv, ecsv, votable, latex, markdown or json (default: from the -o extension; a table on a terminal; csv otherwise)", "FORMAT" },
     { "output", 'o', 0, G_OPTION_ARG_FILENAME, &output, "write the table to FILE (atomically) instead of standard output", "FILE" },
+    { "shard", 0, 0, G_OPTION_ARG_STRING, &shard,
+      "measure only sources K, K+N, K+2N, ... of the sample (1 <= K <= N), for a cluster job array", "K/N" },
+    { "mark", 0, 0, G_OPTION_ARG_NONE, &mark, "record in each measured dossier's [Status] group that it was measured", NULL },
     { "spectrum", 0, 0, G_OPTION_ARG_FILENAME, &spectrum, "also write the mass-velocity spectrum of every lobe to FILE.csv", "FILE.csv" },
     { NULL }
   };
-  g_autoptr (GOptionContext) ctx = g_option_context_new ("DOSSIER... - measure every lobe of one or more dossiers");
+  g_autoptr (GOptionContext) ctx = g_option_context_new ("DOSSIER|FOLDER... - measure every lobe of a sample of dossiers");
   g_autoptr (GArray) all = g_array_new (FALSE, TRUE, sizeof (Measured));
+  g_autoptr (GPtrArray) sample = g_ptr_array_new_with_free_func (g_free);
+  g_autoptr (EffluxTable) table = efflux_table_new ();
   g_autofree char *text = NULL;
+  g_autofree char *why = NULL;
+  EffluxTableFormat fmt = EFFLUX_TABLE_CSV;
+  gboolean terminal = FALSE;
+  guint shard_k = 1, shard_n = 1;
   GError *error = NULL;
   int status;
 
@@ -343,19 +258,49 @@ efflux_cmd_measure (int    argc,
   g_option_context_set_summary (ctx,
                                 "One row per lobe and a total row per source (CONTRACT.md columns first, then\n"
                                 "noise errors, P/M and its age, Monte Carlo percentiles, mass-velocity fits,\n"
-                                "the hidden low-velocity mass and the opacity method). Notes go to stderr.");
+                                "the hidden low-velocity mass and the opacity method). A FOLDER stands for its\n"
+                                "dossiers (*.efflux) sorted by name. Notes go to stderr.");
   if (!efflux_cli_parse (ctx, &argc, &argv, &status))
     return status;
   if (argc < 2)
-    return efflux_cli_usage ("measure", "no dossier given");
-  if (format != NULL && strcmp (format, "csv") != 0 && strcmp (format, "json") != 0)
-    return efflux_cli_usage ("measure", "unknown format '%s' (expected csv or json)", format);
+    return efflux_cli_usage ("measure", "no dossier or folder given");
+  if (format != NULL && !efflux_table_format_from_name (format, &fmt))
+    return efflux_cli_usage ("measure", "unknown format '%s' (expected csv, ecsv, votable, latex, markdown or json)", format);
+  if (format == NULL && output != NULL && !efflux_table_format_from_path (output, &fmt))
+    fmt = EFFLUX_TABLE_CSV;
+  if (format == NULL && output == NULL && isatty (STDOUT_FILENO))
+    terminal = TRUE;
+  if (shard != NULL && !parse_shard (shard, &shard_k, &shard_n))
+    return efflux_cli_usage ("measure", "--shard '%s': expected K/N with 1 <= K <= N (e.g. 3/10)", shard);
+  if (output != NULL && !output_writable (output, &why))
+    return efflux_cli_usage ("measure", "-o %s: cannot write there: %s", output, why);
+  if (spectrum != NULL && !output_writable (spectrum, &why))
+    return efflux_cli_usage ("measure", "--spectrum %s: cannot write there: %s", spectrum, why);
 
   for (int i = 1; i < argc; i++)
     {
+      if (g_file_test (argv[i], G_FILE_TEST_IS_DIR))
+        {
+          g_autoptr (GPtrArray) found = efflux_sample_list (argv[i], &error);
+
+          if (found == NULL)
+            return efflux_cli_fail (error);
+          if (found->len == 0)
+            return efflux_cli_fail (g_error_new (EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                                                 "%s: no dossier (*.efflux) in this folder", argv[i]));
+          for (guint k = 0; k < found->len; k++)
+            g_ptr_array_add (sample, g_strdup (g_ptr_array_index (found, k)));
+        }
+      else
+        g_ptr_array_add (sample, g_strdup (argv[i]));
+    }
+
+  for (guint i = shard_k - 1; i < sample->len; i += shard_n)
+    {
+      const char *path = g_ptr_array_index (sample, i);
       Measured m = { NULL, NULL };
 
-      m.dossier = efflux_dossier_load (argv[i], &error);
+      m.dossier = efflux_dossier_load (path, &error);
       if (m.dossier == NULL)
         return efflux_cli_fail (error);
       m.result = efflux_measure_dossier (m.dossier, NULL, &error);
@@ -366,15 +311,14 @@ efflux_cmd_measure (int    argc,
         }
       for (guint n = 0; n < m.result->notes->len; n++)
         fprintf (stderr, "efflux-cli: note: %s\n", (const char *) g_ptr_array_index (m.result->notes, n));
+      efflux_table_add_source (table, m.dossier, m.result, i + 1, sample->len);
       g_array_append_val (all, m);
     }
+  if (all->len == 0)
+    fprintf (stderr, "efflux-cli: note: shard %u/%u holds no source of the %u: the table has a header only\n",
+             shard_k, shard_n, sample->len);
 
-  if (format == NULL && output == NULL && isatty (STDOUT_FILENO))
-    text = table_text (all);
-  else if (format != NULL && strcmp (format, "json") == 0)
-    text = table_json (all);
-  else
-    text = table_csv (all);
+  text = terminal ? table_text (all) : efflux_table_to_string (table, fmt);
 
   if (spectrum != NULL)
     {
@@ -387,7 +331,16 @@ efflux_cmd_measure (int    argc,
     {
       if (!efflux_write_file_atomic (output, text, -1, &error))
         return efflux_cli_fail (error);
-      return EFFLUX_EXIT_OK;
     }
-  return write_stdout (text);
+  else if ((status = write_stdout (text)) != EFFLUX_EXIT_OK)
+    return status;
+  if (mark)
+    for (guint i = 0; i < all->len; i++)
+      {
+        Measured *m = &g_array_index (all, Measured, i);
+
+        if (!efflux_sample_mark_measured (m->dossier->path, NULL, &error))
+          return efflux_cli_fail (error);
+      }
+  return EFFLUX_EXIT_OK;
 }

@@ -35,6 +35,7 @@ void efflux_json_number (GString *s,
 int efflux_cmd_info    (int argc, char **argv);
 int efflux_cmd_synth   (int argc, char **argv);
 int efflux_cmd_measure (int argc, char **argv);
+int efflux_cmd_merge   (int argc, char **argv);
 int efflux_cmd_moment  (int argc, char **argv);
 int efflux_cmd_pv      (int argc, char **argv);
 int efflux_cmd_compare (int argc, char **argv);

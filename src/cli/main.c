@@ -22,6 +22,7 @@ static const Command commands[] = {
   { "pv", efflux_cmd_pv, "write a position-velocity diagram along a polyline" },
   { "synth", efflux_cmd_synth, "write synthetic outflow cubes, their truth and a dossier from a recipe" },
   { "measure", efflux_cmd_measure, "measure every lobe of dossiers: mass, momentum, energy, rates, errors" },
+  { "merge", efflux_cmd_merge, "join the csv parts of a sharded measurement (measure --shard K/N)" },
   { "compare", efflux_cmd_compare, "compare two dossiers of one source lobe by lobe: overlap, velocities, ratios" },
   { "export", efflux_cmd_export, "export the lobes as FITS masks (2-D, 3-D) or IVOA STC-S polygons" },
   { "budget", efflux_cmd_budget, "outflow energy and momentum against the cloud's turbulence and binding" },
