@@ -7,6 +7,11 @@
 #include "efflux-mvfit.h"
 #include "efflux-opacity.h"
 #include "efflux-sampling.h"
+#include "efflux-io.h"
+
+#include <fitsio.h>
+#include <glib/gstdio.h>
+#include <stdlib.h>
 
 #include <float.h>
 #include <math.h>
@@ -152,37 +157,6 @@ cube_rms (const EffluxDossierCube *dc,
   return rms;
 }
 
-/* Mean brightness over a mask per channel (T / eff) and the noise of that mean. */
-static void
-mask_means (const EffluxCube     *cube,
-            const EffluxLobeMask *mask,
-            const double         *rms,
-            double                eff,
-            double               *mean,
-            double               *sigma)
-{
-  gsize nchan = cube->nchan;
-  g_autofree double *sum = g_new0 (double, nchan);
-  g_autofree guint64 *n = g_new0 (guint64, nchan);
-
-  for (gsize p = 0; p < mask->n_pixels; p++)
-    {
-      const float *s = cube->data + (gsize) mask->index[p] * nchan;
-
-      for (gsize k = 0; k < nchan; k++)
-        if (isfinite (s[k]))
-          {
-            sum[k] += s[k];
-            n[k]++;
-          }
-    }
-  for (gsize k = 0; k < nchan; k++)
-    {
-      mean[k] = n[k] ? sum[k] / (double) n[k] / eff : NAN;
-      sigma[k] = n[k] ? rms[k] / eff / sqrt ((double) n[k]) : NAN;
-    }
-}
-
 /* Linear interpolation of y(x) at xi; x in either monotonic order; NaN outside. */
 static double
 interpolate (const double *x,
@@ -269,37 +243,98 @@ accumulate_clipped (const float *restrict s,
     }
 }
 
-static gboolean
-prepare_lobe (const EffluxDossier      *d,
-              const EffluxDossierLobe  *dl,
-              GHashTable               *cubes,
-              GHashTable               *lines,
-              GPtrArray                *notes,
-              PrepLobe                 *pl,
-              GCancellable             *cancellable,
-              GError                  **error)
+/* What one lobe's pass over its cube needs, between the setup and the sums (prepare_lobe_begin,
+ * a pass over the voxels in memory or streamed from the file, prepare_lobe_end). */
+typedef struct
+{
+  PrepLobe                *pl;
+  const EffluxDossierCube *dc;
+  EffluxCube              *cube;
+  gboolean                 clip;
+  double                   clip_sigma, det_sigma;
+  double                  *rms;       /* per channel, cube scale; NaN until estimated (streaming) */
+  double                  *dist;      /* per mask pixel: distance from the source, arcsec */
+  float                   *thr_clip, *thr_det;
+  double                  *sum_all, *n_all, *cnt;
+  /* opacity from the isotopologue */
+  const EffluxDossierCube *ic;
+  EffluxCube              *icube;
+  EffluxLobeMask          *imask;
+  double                  *irms;
+  double                  *isum;      /* per isotopologue channel: sum of finite values under imask */
+  guint64                 *in;        /* ... and their count */
+} LobeWork;
+
+static void
+lobe_work_free (LobeWork *w)
+{
+  if (w == NULL)
+    return;
+  g_free (w->rms);
+  g_free (w->dist);
+  g_free (w->thr_clip);
+  g_free (w->thr_det);
+  g_free (w->sum_all);
+  g_free (w->n_all);
+  g_free (w->cnt);
+  efflux_lobe_mask_free (w->imask);
+  g_free (w->irms);
+  g_free (w->isum);
+  g_free (w->in);
+  g_free (w);
+}
+
+G_DEFINE_AUTOPTR_CLEANUP_FUNC (LobeWork, lobe_work_free)
+
+/* Per-channel rms in the cube's scale without touching the voxels: the dossier's rms-k, else the
+ * cube's own estimate; NaN where neither is known yet (a streamed cube estimates it plane by plane). */
+static double *
+cube_rms_known (const EffluxDossierCube *dc,
+                const EffluxCube        *cube)
+{
+  double *rms = g_new (double, cube->nchan);
+
+  for (gsize k = 0; k < cube->nchan; k++)
+    rms[k] = isfinite (dc->rms_k) ? dc->rms_k : NAN;
+  return rms;
+}
+
+static void
+lobe_work_set_rms (LobeWork *w,
+                   gsize     k,
+                   double    rms)
+{
+  w->rms[k] = rms;
+  w->thr_clip[k] = (float) (w->clip_sigma * rms);
+  w->thr_det[k] = (float) (w->det_sigma * rms);
+}
+
+/* Line, mask, distances and thresholds; for opacity from the isotopologue, its mask too. */
+static LobeWork *
+prepare_lobe_begin (const EffluxDossier      *d,
+                    const EffluxDossierLobe  *dl,
+                    GHashTable               *cubes,
+                    GHashTable               *lines,
+                    GPtrArray                *notes,
+                    PrepLobe                 *pl,
+                    GError                  **error)
 {
   const EffluxDossierCube *dc = efflux_dossier_find_cube (d, dl->cube_id);
   g_autofree char *what = g_strdup_printf ("%s: [Lobe %s] polygon", d->path, dl->name);
-  g_autofree double *rms = NULL;
-  g_autofree double *dist = NULL;
-  g_autofree float *thr_clip = NULL;
-  g_autofree float *thr_det = NULL;
-  g_autofree double *sum_all = NULL;
-  g_autofree double *n_all = NULL;
-  g_autofree double *cnt = NULL;
-  double det_sigma = d->clip_sigma > 0 ? d->clip_sigma : 3.0;
-  gboolean clip = d->clip_sigma > 0;
+  g_autoptr (LobeWork) w = g_new0 (LobeWork, 1);
   EffluxCube *cube;
   gsize nchan;
 
+  w->pl = pl;
+  w->dc = dc;
   cube = g_hash_table_lookup (cubes, dl->cube_id);
   if (cube == NULL)
     {
       g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: [Lobe %s] cube: cube '%s' is not loaded",
                    d->path, dl->name, dl->cube_id);
-      return FALSE;
+      return NULL;
     }
+  w->cube = cube;
   pl->name = g_strdup (dl->name);
   pl->cube_id = g_strdup (dl->cube_id);
   pl->cube = cube;
@@ -309,37 +344,40 @@ prepare_lobe (const EffluxDossier      *d,
     {
       pl->line = cube_line (d, dc, cube, notes, error);
       if (pl->line == NULL)
-        return FALSE;
+        return NULL;
       g_hash_table_insert (lines, g_strdup (dc->id), (gpointer) pl->line);
     }
   pl->mask = efflux_lobe_mask_new (cube, dl->ra_deg, dl->dec_deg, dl->n_vertices, what, error);
   if (pl->mask == NULL)
-    return FALSE;
+    return NULL;
   if (pl->mask->n_pixels == 0)
     {
       g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
                    "%s: holds no pixel centre of the map of [Cube %s]", what, dc->id);
-      return FALSE;
+      return NULL;
     }
 
   nchan = pl->nchan = cube->nchan;
-  rms = cube_rms (dc, cube);
+  w->clip = d->clip_sigma > 0;
+  w->clip_sigma = d->clip_sigma;
+  w->det_sigma = d->clip_sigma > 0 ? d->clip_sigma : 3.0;
   pl->sum = g_new0 (double, nchan);
   pl->var = g_new0 (double, nchan);
   pl->nvox = g_new0 (guint64, nchan);
   pl->rdet = g_new (double, nchan);
-  sum_all = g_new0 (double, nchan);
-  n_all = g_new0 (double, nchan);
-  thr_clip = g_new (float, nchan);
-  thr_det = g_new (float, nchan);
+  w->sum_all = g_new0 (double, nchan);
+  w->n_all = g_new0 (double, nchan);
+  w->cnt = g_new0 (double, nchan);
+  w->thr_clip = g_new (float, nchan);
+  w->thr_det = g_new (float, nchan);
+  w->rms = cube->data != NULL ? cube_rms (dc, cube) : cube_rms_known (dc, cube);
   for (gsize k = 0; k < nchan; k++)
     {
       pl->rdet[k] = -1;
-      thr_clip[k] = (float) (d->clip_sigma * rms[k]);
-      thr_det[k] = (float) (det_sigma * rms[k]);
+      lobe_work_set_rms (w, k, w->rms[k]);
     }
 
-  dist = g_new (double, pl->mask->n_pixels);
+  w->dist = g_new (double, pl->mask->n_pixels);
   for (gsize p = 0; p < pl->mask->n_pixels; p++)
     {
       gsize x = pl->mask->index[p] % cube->nx, y = pl->mask->index[p] / cube->nx;
@@ -350,37 +388,9 @@ prepare_lobe (const EffluxDossier      *d,
           g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
                        "%s: pixel (%" G_GSIZE_FORMAT ", %" G_GSIZE_FORMAT ") of [Cube %s] has no sky position",
                        what, x, y, dc->id);
-          return FALSE;
+          return NULL;
         }
-      dist[p] = separation_arcsec (d->ra_deg, d->dec_deg, ra, dec);
-    }
-
-  /* The one pass over the voxels under the mask. */
-  cnt = g_new0 (double, nchan);
-  for (gsize p = 0; p < pl->mask->n_pixels; p++)
-    {
-      const float *s = cube->data + (gsize) pl->mask->index[p] * nchan;
-
-      if ((p & 1023) == 0 && g_cancellable_set_error_if_cancelled (cancellable, error))
-        return FALSE;
-      if (clip)
-        accumulate_clipped (s, nchan, dist[p], thr_clip, thr_det, sum_all, n_all, pl->sum, cnt, pl->rdet);
-      else
-        accumulate (s, nchan, dist[p], thr_det, pl->sum, cnt, pl->rdet);
-    }
-  for (gsize k = 0; k < nchan; k++)
-    {
-      pl->nvox[k] = (guint64) cnt[k];
-      if (!clip)
-        {
-          sum_all[k] = pl->sum[k];
-          n_all[k] = cnt[k];
-        }
-    }
-  for (gsize k = 0; k < nchan; k++)
-    {
-      pl->sum[k] /= pl->eff;
-      pl->var[k] = (double) pl->nvox[k] * (rms[k] / pl->eff) * (rms[k] / pl->eff);
+      w->dist[p] = separation_arcsec (d->ra_deg, d->dec_deg, ra, dec);
     }
 
   /* Opacity from the isotopologue: only for lobes on 12CO. */
@@ -390,23 +400,19 @@ prepare_lobe (const EffluxDossier      *d,
       EffluxCube *icube = g_hash_table_lookup (cubes, ic->id);
       const EffluxLine *iline;
       g_autofree char *iwhat = g_strdup_printf ("%s: [Lobe %s] polygon (on [Cube %s])", d->path, dl->name, ic->id);
-      g_autoptr (EffluxLobeMask) imask = NULL;
-      g_autofree double *irms = NULL;
-      g_autofree double *imean = NULL;
-      g_autofree double *isig = NULL;
 
       if (icube == NULL)
         {
           g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: [Cube %s]: the isotopologue cube is not loaded",
                        d->path, ic->id);
-          return FALSE;
+          return NULL;
         }
       iline = g_hash_table_lookup (lines, ic->id);
       if (iline == NULL)
         {
           iline = cube_line (d, ic, icube, notes, error);
           if (iline == NULL)
-            return FALSE;
+            return NULL;
           g_hash_table_insert (lines, g_strdup (ic->id), (gpointer) iline);
         }
       if (iline->species != EFFLUX_SPECIES_13CO && iline->species != EFFLUX_SPECIES_C18O)
@@ -414,33 +420,144 @@ prepare_lobe (const EffluxDossier      *d,
           g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
                        "%s: [Cube %s] line: the isotopologue must be 13CO or C18O for opacity=from-isotopologue, got '%s'",
                        d->path, ic->id, iline->name);
-          return FALSE;
+          return NULL;
         }
       pl->iso_ratio_kind = iline->species == EFFLUX_SPECIES_C18O ? 1 : 0;
-      imask = efflux_lobe_mask_new (icube, dl->ra_deg, dl->dec_deg, dl->n_vertices, iwhat, error);
-      if (imask == NULL)
-        return FALSE;
-      if (imask->n_pixels == 0)
+      w->imask = efflux_lobe_mask_new (icube, dl->ra_deg, dl->dec_deg, dl->n_vertices, iwhat, error);
+      if (w->imask == NULL)
+        return NULL;
+      if (w->imask->n_pixels == 0)
         {
           g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: holds no pixel centre of the map", iwhat);
-          return FALSE;
+          return NULL;
         }
-      irms = cube_rms (ic, icube);
-      imean = g_new (double, icube->nchan);
-      isig = g_new (double, icube->nchan);
-      mask_means (icube, imask, irms, ic->beam_efficiency, imean, isig);
+      w->ic = ic;
+      w->icube = icube;
+      w->irms = icube->data != NULL ? cube_rms (ic, icube) : cube_rms_known (ic, icube);
+      w->isum = g_new0 (double, icube->nchan);
+      w->in = g_new0 (guint64, icube->nchan);
+    }
+  return g_steal_pointer (&w);
+}
+
+/* The one pass over the voxels under the mask, for a cube in memory. */
+static gboolean
+prepare_lobe_pass (LobeWork      *w,
+                   GCancellable  *cancellable,
+                   GError       **error)
+{
+  PrepLobe *pl = w->pl;
+  gsize nchan = pl->nchan;
+
+  for (gsize p = 0; p < pl->mask->n_pixels; p++)
+    {
+      const float *s = w->cube->data + (gsize) pl->mask->index[p] * nchan;
+
+      if ((p & 1023) == 0 && g_cancellable_set_error_if_cancelled (cancellable, error))
+        return FALSE;
+      if (w->clip)
+        accumulate_clipped (s, nchan, w->dist[p], w->thr_clip, w->thr_det, w->sum_all, w->n_all, pl->sum,
+                            w->cnt, pl->rdet);
+      else
+        accumulate (s, nchan, w->dist[p], w->thr_det, pl->sum, w->cnt, pl->rdet);
+    }
+  if (w->imask != NULL)
+    {
+      gsize inchan = w->icube->nchan;
+
+      for (gsize p = 0; p < w->imask->n_pixels; p++)
+        {
+          const float *s = w->icube->data + (gsize) w->imask->index[p] * inchan;
+
+          for (gsize k = 0; k < inchan; k++)
+            if (isfinite (s[k]))
+              {
+                w->isum[k] += s[k];
+                w->in[k]++;
+              }
+        }
+    }
+  return TRUE;
+}
+
+/* From the pass's sums to the lobe's per-channel sums and the opacity inputs. */
+static void
+prepare_lobe_end (LobeWork *w)
+{
+  PrepLobe *pl = w->pl;
+  gsize nchan = pl->nchan;
+  double eff = pl->eff;
+
+  for (gsize k = 0; k < nchan; k++)
+    {
+      pl->nvox[k] = (guint64) w->cnt[k];
+      if (!w->clip)
+        {
+          w->sum_all[k] = pl->sum[k];
+          w->n_all[k] = w->cnt[k];
+        }
+    }
+  for (gsize k = 0; k < nchan; k++)
+    {
+      double rms = isfinite (w->rms[k]) ? w->rms[k] : 0.0;
+
+      pl->sum[k] /= eff;
+      pl->var[k] = (double) pl->nvox[k] * (rms / eff) * (rms / eff);
+    }
+  if (w->imask != NULL)
+    {
+      gsize inchan = w->icube->nchan;
+      double ieff = w->ic->beam_efficiency;
+      g_autofree double *imean = g_new (double, inchan);
+      g_autofree double *isig = g_new (double, inchan);
+
+      /* mean brightness over the mask per channel (T / eff) and the noise of that mean */
+      for (gsize k = 0; k < inchan; k++)
+        {
+          double irms = isfinite (w->irms[k]) ? w->irms[k] : 0.0;
+
+          imean[k] = w->in[k] ? w->isum[k] / (double) w->in[k] / ieff : NAN;
+          isig[k] = w->in[k] ? irms / ieff / sqrt ((double) w->in[k]) : NAN;
+        }
       pl->s12 = g_new (double, nchan);
       pl->sig12 = g_new (double, nchan);
       pl->s13 = g_new (double, nchan);
       pl->sig13 = g_new (double, nchan);
       for (gsize k = 0; k < nchan; k++)
         {
-          pl->s12[k] = n_all[k] > 0 ? sum_all[k] / n_all[k] / pl->eff : NAN;
-          pl->sig12[k] = n_all[k] > 0 ? rms[k] / pl->eff / sqrt (n_all[k]) : NAN;
-          pl->s13[k] = interpolate (icube->velocity, imean, icube->nchan, cube->velocity[k]);
-          pl->sig13[k] = interpolate (icube->velocity, isig, icube->nchan, cube->velocity[k]);
+          double rms = isfinite (w->rms[k]) ? w->rms[k] : 0.0;
+
+          pl->s12[k] = w->n_all[k] > 0 ? w->sum_all[k] / w->n_all[k] / eff : NAN;
+          pl->sig12[k] = w->n_all[k] > 0 ? rms / eff / sqrt (w->n_all[k]) : NAN;
+          pl->s13[k] = interpolate (w->icube->velocity, imean, inchan, w->cube->velocity[k]);
+          pl->sig13[k] = interpolate (w->icube->velocity, isig, inchan, w->cube->velocity[k]);
         }
     }
+}
+
+static gboolean
+prepare_lobe (const EffluxDossier      *d,
+              const EffluxDossierLobe  *dl,
+              GHashTable               *cubes,
+              GHashTable               *lines,
+              GPtrArray                *notes,
+              PrepLobe                 *pl,
+              GCancellable             *cancellable,
+              GError                  **error)
+{
+  g_autoptr (LobeWork) w = prepare_lobe_begin (d, dl, cubes, lines, notes, pl, error);
+
+  if (w == NULL)
+    return FALSE;
+  if (w->cube->data == NULL || (w->icube != NULL && w->icube->data == NULL))
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: [Lobe %s] cube: the cube is not in memory",
+                   d->path, dl->name);
+      return FALSE;
+    }
+  if (!prepare_lobe_pass (w, cancellable, error))
+    return FALSE;
+  prepare_lobe_end (w);
   return TRUE;
 }
 
@@ -1116,6 +1233,649 @@ out:
 
 /* ---------------------------------------------------------------------------------------------- */
 
+/* ---------------------------------------------------------------------------------------------- */
+/* streaming: cubes larger than memory                                                              */
+
+/* A cube whose voxels do not fit in memory is measured in one pass over its channel planes, read
+ * from the file row block by row block; only the rows holding a mask are read, unless the noise
+ * has to be estimated (no rms-k), which needs whole channel planes. Memory: the header, the
+ * masks, per-channel sums and one row block (STREAM_BLOCK_BYTES), whatever the size of the cube.
+ *
+ * The header is read by efflux_cube_load itself (one reader, one interpretation of the cards): it
+ * loads a copy of the HDU's header whose two sky axes are cut to one pixel (a few kilobytes of
+ * data), and the map size is then set back. The sums are those of the pass in memory, channel by
+ * channel over the same pixels in the same order, so the numbers are the same to the last bit. */
+
+#define STREAM_MAX_AXES 8
+#define STREAM_BLOCK_BYTES (64u * 1024u * 1024u)
+#define STREAM_PLANE_BYTES (512u * 1024u * 1024u)
+#define STREAM_NOISE_MAX_SAMPLES 65536     /* as efflux_cube_estimate_noise */
+
+typedef struct
+{
+  EffluxCube  *loaded;     /* what efflux_cube_load made of the cut header (one sky pixel) */
+  EffluxCube   hdr;        /* a shallow copy with the file's map size and no data: never freed */
+  char        *path;
+  int          hdu;        /* 1-based */
+  int          naxis;
+  long long    naxes[STREAM_MAX_AXES];
+  int          ilng, ilat, ispec;   /* 0-based file axes */
+} StreamCube;
+
+static void
+stream_cube_free (StreamCube *sc)
+{
+  if (sc == NULL)
+    return;
+  if (sc->loaded != NULL)
+    {
+      /* the copy borrowed everything but the map size and the data */
+      efflux_cube_free (sc->loaded);
+    }
+  g_free (sc->path);
+  g_free (sc);
+}
+
+G_DEFINE_AUTOPTR_CLEANUP_FUNC (StreamCube, stream_cube_free)
+
+/* The memory the measurement may use: MemAvailable, or less when EFFLUX_MEASURE_MEMORY_MIB says
+ * so (for shared nodes and for the tests); 0 when unknown. */
+static guint64
+measure_memory_budget (void)
+{
+  guint64 avail = efflux_memory_available ();
+  const char *env = g_getenv ("EFFLUX_MEASURE_MEMORY_MIB");
+
+  if (env != NULL && *env != '\0')
+    {
+      guint64 cap = g_ascii_strtoull (env, NULL, 10) * 1024u * 1024u;
+
+      if (cap > 0 && (avail == 0 || cap < avail))
+        avail = cap;
+    }
+  return avail;
+}
+
+static gboolean
+ctype_is (const char *ctype,
+          const char *what)
+{
+  /* RA--- / DEC-- / xLON / xLAT (GLON, ELON, SLON, HPLN ...) */
+  if (g_str_equal (what, "lng"))
+    return g_str_has_prefix (ctype, "RA") || (strlen (ctype) >= 4 && strncmp (ctype + 1, "LON", 3) == 0) ||
+           g_str_has_prefix (ctype, "HPLN");
+  return g_str_has_prefix (ctype, "DEC") || (strlen (ctype) >= 4 && strncmp (ctype + 1, "LAT", 3) == 0) ||
+         g_str_has_prefix (ctype, "HPLT");
+}
+
+/* Look at the file without reading its data: is it a plain FITS image cube too large for memory?
+ * FALSE (and no error) when it fits, or when it is anything else: efflux_cube_load then says what
+ * is wrong with it. */
+static gboolean
+stream_probe (const char  *path,
+              guint64      budget,
+              StreamCube  *sc,
+              GError     **error)
+{
+  fitsfile *f = NULL;
+  int status = 0, nhdu = 0, hdutype = 0, bitpix = 0;
+  gboolean wanted = FALSE;
+  guint64 voxels = 1;
+
+  if (budget == 0 || fits_open_diskfile (&f, path, READONLY, &status) != 0)
+    {
+      fits_clear_errmsg ();
+      return FALSE;
+    }
+  fits_get_num_hdus (f, &nhdu, &status);
+  for (int h = 1; h <= nhdu && status == 0; h++)
+    {
+      int nax = 0;
+
+      if (fits_movabs_hdu (f, h, &hdutype, &status) != 0 || hdutype != IMAGE_HDU)
+        continue;
+      fits_get_img_dim (f, &nax, &status);
+      if (status == 0 && nax >= 3 && nax <= STREAM_MAX_AXES)
+        {
+          LONGLONG naxes[STREAM_MAX_AXES] = { 0 };
+          int compressed;
+
+          sc->hdu = h;
+          sc->naxis = nax;
+          fits_get_img_type (f, &bitpix, &status);
+          fits_get_img_sizell (f, nax, naxes, &status);
+          compressed = fits_is_compressed_image (f, &status);
+          if (status != 0 || compressed)
+            break;
+          sc->ilng = sc->ilat = sc->ispec = -1;
+          for (int i = 0; i < nax; i++)
+            {
+              char key[FLEN_KEYWORD], ctype[FLEN_VALUE] = "";
+              int s = 0;
+
+              sc->naxes[i] = naxes[i];
+              if (naxes[i] <= 0 || (guint64) naxes[i] > G_MAXUINT64 / voxels / 8)
+                goto out;
+              voxels *= (guint64) naxes[i];
+              g_snprintf (key, sizeof key, "CTYPE%d", i + 1);
+              fits_read_key (f, TSTRING, key, ctype, NULL, &s);
+              if (sc->ilng < 0 && ctype_is (ctype, "lng"))
+                sc->ilng = i;
+              else if (sc->ilat < 0 && ctype_is (ctype, "lat"))
+                sc->ilat = i;
+            }
+          /* the spectral axis: the first other axis with more than one pixel, else the first other */
+          for (int i = 0; i < nax && sc->ispec < 0; i++)
+            if (i != sc->ilng && i != sc->ilat && naxes[i] > 1)
+              sc->ispec = i;
+          for (int i = 0; i < nax && sc->ispec < 0; i++)
+            if (i != sc->ilng && i != sc->ilat)
+              sc->ispec = i;
+          wanted = sc->ilng >= 0 && sc->ilat >= 0 && sc->ispec >= 0 &&
+                   voxels * sizeof (float) + 32u * 1024u * 1024u > budget &&
+                   (guint64) naxes[sc->ilng] * (guint64) naxes[sc->ilat] <= G_MAXUINT32;
+          for (int i = 0; i < nax && wanted; i++)
+            if (i != sc->ilng && i != sc->ilat && i != sc->ispec && naxes[i] != 1)
+              wanted = FALSE;   /* e.g. several Stokes planes: refused by the reader anyway */
+          break;
+        }
+    }
+out:
+  {
+    int s = 0;
+    fits_close_file (f, &s);
+    fits_clear_errmsg ();
+  }
+  (void) error;
+  return wanted;
+}
+
+/* Replace the temporary file's name by the cube's in a message from the reader. */
+static void
+stream_rename_error (GError     *err,
+                     const char *tmp,
+                     const char *path)
+{
+  g_auto (GStrv) parts = NULL;
+
+  if (err == NULL || strstr (err->message, tmp) == NULL)
+    return;
+  parts = g_strsplit (err->message, tmp, -1);
+  g_free (err->message);
+  err->message = g_strjoinv (path, parts);
+}
+
+/* The cube's header through efflux_cube_load, on a copy of the HDU's header cut to one sky pixel. */
+static StreamCube *
+stream_cube_open (const char    *path,
+                  guint64        budget,
+                  GCancellable  *cancellable,
+                  GError       **error)
+{
+  g_autoptr (StreamCube) sc = g_new0 (StreamCube, 1);
+  g_autofree char *dir = NULL;
+  g_autofree char *tmp = NULL;
+  g_autofree char *tmp_bang = NULL;
+  fitsfile *in = NULL, *out = NULL;
+  int status = 0, nkeys = 0, hdutype = 0, bitpix = 0;
+  LONGLONG cut[STREAM_MAX_AXES];
+  EffluxCubeLoadOptions options = { 0 };
+  GError *local = NULL;
+
+  if (!stream_probe (path, budget, sc, error))
+    return NULL;
+  sc->path = g_strdup (path);
+  dir = g_dir_make_tmp ("efflux-stream-XXXXXX", NULL);
+  if (dir == NULL)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_IO, "%s: no temporary folder to read the header in", path);
+      return NULL;
+    }
+  tmp = g_build_filename (dir, "header.fits", NULL);
+  tmp_bang = g_strconcat ("!", tmp, NULL);
+  for (int i = 0; i < sc->naxis; i++)
+    cut[i] = (i == sc->ilng || i == sc->ilat) ? 1 : sc->naxes[i];
+
+  if (fits_open_diskfile (&in, path, READONLY, &status) == 0 &&
+      fits_movabs_hdu (in, sc->hdu, &hdutype, &status) == 0 &&
+      fits_get_img_type (in, &bitpix, &status) == 0 &&
+      fits_create_file (&out, tmp_bang, &status) == 0 &&
+      fits_create_imgll (out, bitpix, sc->naxis, cut, &status) == 0)
+    {
+      static const char *const skip[] = {
+        "SIMPLE", "XTENSION", "BITPIX", "NAXIS", "EXTEND", "PCOUNT", "GCOUNT", "END", "CHECKSUM", "DATASUM",
+      };
+
+      fits_get_hdrspace (in, &nkeys, NULL, &status);
+      for (int i = 1; i <= nkeys && status == 0; i++)
+        {
+          char card[FLEN_CARD], name[FLEN_KEYWORD] = "";
+          int len = 0;
+          gboolean keep = TRUE;
+
+          fits_read_record (in, i, card, &status);
+          fits_get_keyname (card, name, &len, &status);
+          if (status != 0)
+            break;
+          for (guint j = 0; j < G_N_ELEMENTS (skip); j++)
+            if (g_str_has_prefix (name, skip[j]) &&
+                (strcmp (skip[j], "NAXIS") == 0 ? TRUE : strcmp (name, skip[j]) == 0))
+              keep = FALSE;
+          if (keep)
+            fits_write_record (out, card, &status);
+        }
+    }
+  if (out != NULL)
+    {
+      int s = 0;
+      fits_close_file (out, &s);   /* fills the small data unit with zeros */
+      if (status == 0)
+        status = s;
+    }
+  if (in != NULL)
+    {
+      int s = 0;
+      fits_close_file (in, &s);
+    }
+  if (status != 0)
+    {
+      char text[FLEN_STATUS] = "";
+
+      fits_get_errstatus (status, text);
+      fits_clear_errmsg ();
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_IO, "%s: cannot read the header to stream the cube: %s",
+                   path, text);
+      g_unlink (tmp);
+      g_rmdir (dir);
+      return NULL;
+    }
+
+  options.no_noise = TRUE;
+  sc->loaded = efflux_cube_load (tmp, &options, cancellable, NULL, NULL, &local);
+  g_unlink (tmp);
+  g_rmdir (dir);
+  if (sc->loaded == NULL)
+    {
+      stream_rename_error (local, tmp, path);
+      g_propagate_error (error, local);
+      return NULL;
+    }
+  sc->hdr = *sc->loaded;
+  sc->hdr.path = sc->path;
+  sc->hdr.hdu = sc->hdu;
+  sc->hdr.nx = (gsize) sc->naxes[sc->ilng];
+  sc->hdr.ny = (gsize) sc->naxes[sc->ilat];
+  sc->hdr.data = NULL;
+  sc->hdr.rms = NULL;
+  if (sc->hdr.nchan != (gsize) sc->naxes[sc->ispec])
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                   "%s: CTYPE%d: the spectral axis could not be told apart from the others for streaming",
+                   path, sc->ispec + 1);
+      return NULL;
+    }
+  return g_steal_pointer (&sc);
+}
+
+static int
+compare_float (const void *a,
+               const void *b)
+{
+  float x = *(const float *) a, y = *(const float *) b;
+
+  return (x > y) - (x < y);
+}
+
+static double
+median_sorted_copy (float *v,
+                    gsize  n)
+{
+  qsort (v, n, sizeof (float), compare_float);
+  return 0.5 * ((double) v[(n - 1) / 2] + (double) v[n / 2]);
+}
+
+/* The robust rms of one channel plane (y * nx + x order), as efflux_cube_estimate_noise does it:
+ * 1.4826 x the MAD of the finite values of every step-th pixel (Rousseeuw & Croux 1993). */
+static float
+plane_noise (const float *plane,
+             gsize        npix,
+             float       *buf)
+{
+  gsize step = (npix + STREAM_NOISE_MAX_SAMPLES - 1) / STREAM_NOISE_MAX_SAMPLES;
+  gsize n = 0;
+  double med;
+
+  for (gsize p = 0; p < npix; p += step)
+    if (isfinite (plane[p]))
+      buf[n++] = plane[p];
+  if (n == 0)
+    return NAN;
+  med = median_sorted_copy (buf, n);
+  for (gsize i = 0; i < n; i++)
+    buf[i] = fabsf (buf[i] - (float) med);
+  return (float) (1.4826 * median_sorted_copy (buf, n));
+}
+
+/* The one pass over a streamed cube: every LobeWork whose tracer (cube) or isotopologue (icube)
+ * it is gets its sums, channel by channel. */
+static gboolean
+stream_cube_pass (StreamCube    *sc,
+                  GPtrArray     *works,
+                  const EffluxDossierCube *dc,
+                  GCancellable  *cancellable,
+                  GError       **error)
+{
+  EffluxCube *cube = &sc->hdr;
+  gsize nx = cube->nx, ny = cube->ny, nchan = cube->nchan;
+  gboolean need_noise = !isfinite (dc->rms_k);
+  gsize y0 = ny, y1 = 0, rows, block_rows;
+  g_autofree float *plane = NULL;
+  g_autofree float *noise_buf = NULL;
+  fitsfile *f = NULL;
+  int status = 0, hdutype = 0;
+  gboolean ok = FALSE;
+
+  /* the rows that hold a mask pixel */
+  for (guint i = 0; i < works->len; i++)
+    {
+      LobeWork *w = g_ptr_array_index (works, i);
+      const EffluxLobeMask *m = w->cube == cube ? w->pl->mask : w->imask;
+
+      if (m == NULL || (w->cube != cube && w->icube != cube) || m->n_pixels == 0)
+        continue;
+      y0 = MIN (y0, (gsize) m->index[0] / nx);
+      y1 = MAX (y1, (gsize) m->index[m->n_pixels - 1] / nx);
+    }
+  if (y0 > y1)
+    return TRUE;
+  if (need_noise)
+    {
+      y0 = 0;
+      y1 = ny - 1;
+      if ((guint64) nx * ny * sizeof (float) > STREAM_PLANE_BYTES)
+        {
+          g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_MEMORY,
+                       "%s: [Cube %s] rms-k missing: a channel plane of %" G_GSIZE_FORMAT " x %" G_GSIZE_FORMAT
+                       " pixels is too large to estimate the noise of a cube that does not fit in memory; give rms-k",
+                       sc->path, dc->id, nx, ny);
+          return FALSE;
+        }
+    }
+  rows = y1 - y0 + 1;
+  block_rows = need_noise ? rows : MAX ((gsize) 1, MIN (rows, STREAM_BLOCK_BYTES / sizeof (float) / nx));
+  plane = g_try_new (float, block_rows * nx);
+  if (need_noise)
+    noise_buf = g_try_new (float, MIN ((gsize) STREAM_NOISE_MAX_SAMPLES + 1, nx * ny));
+  if (plane == NULL || (need_noise && noise_buf == NULL))
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_MEMORY, "%s: no memory for a block of %" G_GSIZE_FORMAT " rows",
+                   sc->path, block_rows);
+      return FALSE;
+    }
+
+  if (fits_open_diskfile (&f, sc->path, READONLY, &status) != 0 ||
+      fits_movabs_hdu (f, sc->hdu, &hdutype, &status) != 0)
+    {
+      char text[FLEN_STATUS] = "";
+
+      fits_get_errstatus (status, text);
+      fits_clear_errmsg ();
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_IO, "%s: cannot read the cube: %s", sc->path, text);
+      goto done;
+    }
+
+  for (gsize k = 0; k < nchan; k++)
+    {
+      double k_per_unit = cube->k_per_unit[k];
+      gboolean convert = cube->bunit_kind == EFFLUX_BUNIT_JY_BEAM;
+
+      if (g_cancellable_set_error_if_cancelled (cancellable, error))
+        goto done;
+      for (gsize b0 = y0; b0 <= y1; b0 += block_rows)
+        {
+          gsize b1 = MIN (y1, b0 + block_rows - 1), nb = b1 - b0 + 1;
+          long fpix[STREAM_MAX_AXES], lpix[STREAM_MAX_AXES], inc[STREAM_MAX_AXES];
+          float nulval = NAN;
+          int anynul = 0;
+          g_autofree float *tr = NULL;
+
+          for (int i = 0; i < sc->naxis; i++)
+            {
+              fpix[i] = lpix[i] = 1;
+              inc[i] = 1;
+            }
+          lpix[sc->ilng] = (long) nx;
+          fpix[sc->ilat] = (long) b0 + 1;
+          lpix[sc->ilat] = (long) b1 + 1;
+          fpix[sc->ispec] = lpix[sc->ispec] = (long) k + 1;
+          if (sc->ilat < sc->ilng)
+            tr = g_new (float, nb * nx);
+          if (fits_read_subset (f, TFLOAT, fpix, lpix, inc, &nulval, tr ? tr : plane, &anynul, &status) != 0)
+            {
+              char text[FLEN_STATUS] = "";
+
+              fits_get_errstatus (status, text);
+              fits_clear_errmsg ();
+              g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                           "%s: channel %" G_GSIZE_FORMAT ": the data cannot be read: %s (truncated file?)",
+                           sc->path, k + 1, text);
+              goto done;
+            }
+          if (tr != NULL)   /* latitude first in the file: rows are columns */
+            for (gsize x = 0; x < nx; x++)
+              for (gsize y = 0; y < nb; y++)
+                plane[y * nx + x] = tr[x * nb + y];
+          if (convert)
+            for (gsize i = 0; i < nb * nx; i++)
+              plane[i] = (float) (plane[i] * k_per_unit);
+
+          if (b0 == y0 && need_noise)
+            {
+              float rms = plane_noise (plane, nx * ny, noise_buf);
+              double r = isfinite (rms) ? (double) rms : 0.0;
+
+              for (guint i = 0; i < works->len; i++)
+                {
+                  LobeWork *w = g_ptr_array_index (works, i);
+
+                  if (w->cube == cube)
+                    lobe_work_set_rms (w, k, r);
+                  if (w->icube == cube)
+                    w->irms[k] = r;
+                }
+            }
+
+          /* the sums of this channel, pixel by pixel in mask order, as the pass in memory */
+          for (guint i = 0; i < works->len; i++)
+            {
+              LobeWork *w = g_ptr_array_index (works, i);
+
+              if (w->cube == cube)
+                {
+                  PrepLobe *pl = w->pl;
+                  const EffluxLobeMask *m = pl->mask;
+                  guint32 lo = (guint32) (b0 * nx), hi = (guint32) ((b1 + 1) * nx);
+
+                  for (gsize p = 0; p < m->n_pixels; p++)
+                    {
+                      float t;
+                      int fin, in, det;
+
+                      if (m->index[p] < lo || m->index[p] >= hi)
+                        continue;
+                      t = plane[m->index[p] - lo];
+                      fin = fabsf (t) <= FLT_MAX;
+                      in = w->clip ? fin & (t >= w->thr_clip[k]) : fin;
+                      det = in & (t > 0) & (t >= w->thr_det[k]);
+                      if (w->clip)
+                        {
+                          w->sum_all[k] += (double) (fin ? t : 0.0f);
+                          w->n_all[k] += (double) fin;
+                        }
+                      pl->sum[k] += (double) (in ? t : 0.0f);
+                      w->cnt[k] += (double) in;
+                      if (det && w->dist[p] > pl->rdet[k])
+                        pl->rdet[k] = w->dist[p];
+                    }
+                }
+              if (w->icube == cube)
+                {
+                  const EffluxLobeMask *m = w->imask;
+                  guint32 lo = (guint32) (b0 * nx), hi = (guint32) ((b1 + 1) * nx);
+
+                  for (gsize p = 0; p < m->n_pixels; p++)
+                    {
+                      float t;
+
+                      if (m->index[p] < lo || m->index[p] >= hi)
+                        continue;
+                      t = plane[m->index[p] - lo];
+                      if (isfinite (t))
+                        {
+                          w->isum[k] += t;
+                          w->in[k]++;
+                        }
+                    }
+                }
+            }
+        }
+    }
+  ok = TRUE;
+done:
+  if (f != NULL)
+    {
+      int s = 0;
+      fits_close_file (f, &s);
+    }
+  return ok;
+}
+
+/* efflux_measure_dossier when a cube does not fit: cubes that fit are loaded, the others streamed. */
+static EffluxMeasureResult *
+measure_streaming (const EffluxDossier *d,
+                   GHashTable          *streams,
+                   GCancellable        *cancellable,
+                   GError             **error)
+{
+  g_autoptr (GHashTable) cubes = g_hash_table_new_full (g_str_hash, g_str_equal, g_free, NULL);
+  g_autoptr (GHashTable) owned = g_hash_table_new_full (g_str_hash, g_str_equal, g_free,
+                                                        (GDestroyNotify) efflux_cube_free);
+  g_autoptr (GPtrArray) works = g_ptr_array_new_with_free_func ((GDestroyNotify) lobe_work_free);
+  g_autoptr (EffluxMeasurePrep) prep = g_new0 (EffluxMeasurePrep, 1);
+  GHashTableIter it;
+  gpointer key, value;
+
+  for (guint i = 0; i < d->cubes->len; i++)
+    {
+      const EffluxDossierCube *dc = g_ptr_array_index (d->cubes, i);
+      StreamCube *sc = g_hash_table_lookup (streams, dc->id);
+      gboolean needed = dc->role == EFFLUX_CUBE_ROLE_ISOTOPOLOGUE && d->opacity == EFFLUX_OPACITY_FROM_ISOTOPOLOGUE;
+      EffluxCubeLoadOptions options = { 0 };
+      EffluxCube *cube;
+
+      for (guint j = 0; j < d->lobes->len && !needed; j++)
+        if (strcmp (((EffluxDossierLobe *) g_ptr_array_index (d->lobes, j))->cube_id, dc->id) == 0)
+          needed = TRUE;
+      if (!needed)
+        continue;
+      if (sc != NULL)
+        {
+          g_hash_table_insert (cubes, g_strdup (dc->id), &sc->hdr);
+          continue;
+        }
+      options.no_noise = isfinite (dc->rms_k);
+      cube = efflux_cube_load (dc->abs_path, &options, cancellable, NULL, NULL, error);
+      if (cube == NULL)
+        return NULL;
+      g_hash_table_insert (owned, g_strdup (dc->id), cube);
+      g_hash_table_insert (cubes, g_strdup (dc->id), cube);
+    }
+
+  prep->lobes = g_ptr_array_new_with_free_func (prep_lobe_free);
+  prep->notes = g_ptr_array_new_with_free_func (g_free);
+  prep->cubes = g_hash_table_ref (cubes);
+  prep->lines = g_hash_table_new_full (g_str_hash, g_str_equal, g_free, NULL);
+  if (d->lobes->len == 0)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: [Lobe ...]: the dossier has no lobe to measure",
+                   d->path);
+      return NULL;
+    }
+  for (guint i = 0; i < d->lobes->len; i++)
+    {
+      PrepLobe *pl = g_new0 (PrepLobe, 1);
+      LobeWork *w;
+
+      g_ptr_array_add (prep->lobes, pl);
+      w = prepare_lobe_begin (d, g_ptr_array_index (d->lobes, i), prep->cubes, prep->lines, prep->notes, pl, error);
+      if (w == NULL)
+        return NULL;
+      g_ptr_array_add (works, w);
+    }
+  /* cubes in memory: the usual pass, for the parts they hold */
+  for (guint i = 0; i < works->len; i++)
+    {
+      LobeWork *w = g_ptr_array_index (works, i);
+      LobeWork part = *w;
+
+      if (w->cube->data != NULL && (w->icube == NULL || w->icube->data != NULL))
+        {
+          if (!prepare_lobe_pass (w, cancellable, error))
+            return NULL;
+          continue;
+        }
+      /* one of the two is streamed: run the in-memory half alone */
+      if (w->cube->data != NULL)
+        {
+          part.imask = NULL;
+          if (!prepare_lobe_pass (&part, cancellable, error))
+            return NULL;
+        }
+      else if (w->icube != NULL && w->icube->data != NULL)
+        {
+          gsize inchan = w->icube->nchan;
+
+          for (gsize p = 0; p < w->imask->n_pixels; p++)
+            {
+              const float *s = w->icube->data + (gsize) w->imask->index[p] * inchan;
+
+              for (gsize k = 0; k < inchan; k++)
+                if (isfinite (s[k]))
+                  {
+                    w->isum[k] += s[k];
+                    w->in[k]++;
+                  }
+            }
+        }
+    }
+  /* streamed cubes: one pass each over the file */
+  g_hash_table_iter_init (&it, streams);
+  while (g_hash_table_iter_next (&it, &key, &value))
+    {
+      StreamCube *sc = value;
+
+      if (g_hash_table_lookup (cubes, key) == NULL)
+        continue;
+      if (!stream_cube_pass (sc, works, efflux_dossier_find_cube (d, key), cancellable, error))
+        return NULL;
+    }
+  for (guint i = 0; i < works->len; i++)
+    prepare_lobe_end (g_ptr_array_index (works, i));
+  g_hash_table_iter_init (&it, streams);
+  while (g_hash_table_iter_next (&it, &key, &value))
+    {
+      StreamCube *sc = value;
+
+      if (g_hash_table_lookup (cubes, key) != NULL)
+        g_ptr_array_add (prep->notes,
+                         g_strdup_printf ("%s: [Cube %s] measured in one streaming pass over the file "
+                                          "(%" G_GSIZE_FORMAT " x %" G_GSIZE_FORMAT " x %" G_GSIZE_FORMAT
+                                          " voxels do not fit in memory)", d->path, (const char *) key,
+                                          sc->hdr.nx, sc->hdr.ny, sc->hdr.nchan));
+    }
+  return efflux_measure_finish (prep, d, error);
+}
+
 GHashTable *
 efflux_measure_load_cubes (const EffluxDossier *d,
                            GCancellable        *cancellable,
@@ -1152,9 +1912,31 @@ efflux_measure_dossier (const EffluxDossier *d,
                         GCancellable        *cancellable,
                         GError             **error)
 {
-  g_autoptr (GHashTable) cubes = efflux_measure_load_cubes (d, cancellable, error);
+  g_autoptr (GHashTable) cubes = NULL;
+  g_autoptr (GHashTable) streams = g_hash_table_new_full (g_str_hash, g_str_equal, g_free,
+                                                          (GDestroyNotify) stream_cube_free);
   g_autoptr (EffluxMeasurePrep) prep = NULL;
+  guint64 budget = measure_memory_budget ();
 
+  /* cubes larger than the memory are streamed (see above) */
+  for (guint i = 0; i < d->cubes->len; i++)
+    {
+      const EffluxDossierCube *dc = g_ptr_array_index (d->cubes, i);
+      GError *local = NULL;
+      StreamCube *sc = stream_cube_open (dc->abs_path, budget, cancellable, &local);
+
+      if (local != NULL)
+        {
+          g_propagate_error (error, local);
+          return NULL;
+        }
+      if (sc != NULL)
+        g_hash_table_insert (streams, g_strdup (dc->id), sc);
+    }
+  if (g_hash_table_size (streams) > 0)
+    return measure_streaming (d, streams, cancellable, error);
+
+  cubes = efflux_measure_load_cubes (d, cancellable, error);
   if (cubes == NULL)
     return NULL;
   prep = efflux_measure_prepare (d, cubes, cancellable, error);
