@@ -96,6 +96,11 @@ efflux_application_startup (GApplication *app)
     { "win.zoom-in", { "plus", "equal", "KP_Add", NULL } },
     { "win.zoom-out", { "minus", "KP_Subtract", NULL } },
     { "win.zoom-fit", { "f", NULL } },
+    { "win.save", { "<Control>s", NULL } },
+    { "win.save-as", { "<Shift><Control>s", NULL } },
+    { "win.undo", { "<Control>z", NULL } },
+    { "win.redo", { "<Shift><Control>z", "<Control>y", NULL } },
+    { "win.assumptions", { "F9", NULL } },
   };
 
   G_APPLICATION_CLASS (efflux_application_parent_class)->startup (app);

@@ -187,6 +187,8 @@ efflux_assumptions_dispose (GObject *object)
     g_signal_handlers_disconnect_by_func (self->document, document_changed, self);
   g_clear_object (&self->document);
   gtk_widget_dispose_template (GTK_WIDGET (self), EFFLUX_TYPE_ASSUMPTIONS);
+  for (GtkWidget *child; (child = gtk_widget_get_first_child (GTK_WIDGET (self))) != NULL;)
+    gtk_widget_unparent (child);
   G_OBJECT_CLASS (efflux_assumptions_parent_class)->dispose (object);
 }
 

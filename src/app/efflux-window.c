@@ -6,7 +6,9 @@
 #include <glib/gi18n.h>
 #include <math.h>
 
+#include "efflux-assumptions.h"
 #include "efflux-cube.h"
+#include "efflux-document.h"
 #include "efflux-dossier.h"
 #include "efflux-maps.h"
 #include "efflux-resources.h"
@@ -29,9 +31,27 @@ struct _EffluxWindow
   GtkWidget       *empty_box;
   EffluxSkyView   *sky_view;
   GtkListBox      *sources_list;
+  GtkWidget       *lobe_bar;
+  GtkLabel        *lobe_label;
+  GtkDropDown     *kind_dropdown;
+  GtkDropDown     *cube_dropdown;
+  GtkSpinButton   *v1_spin;
+  GtkSpinButton   *v2_spin;
+  GtkLabel        *edit_error_label;
+  GtkLabel        *ledger_label;
+  GtkWidget       *cut_box;
+  GtkWidget       *spectrum_box;
+  GtkWidget       *ledger_box;
+  GtkRevealer     *assumptions_revealer;
+  EffluxAssumptions *assumptions;
+  GMenu           *recent_menu;
 
   GCancellable    *cancellable;
-  EffluxDossier   *dossier;
+  GCancellable    *measure_cancellable;
+  EffluxDocument  *document;
+  gboolean         close_confirmed;
+  gboolean         show_assumptions;
+  gboolean         updating_lobe_bar;
   EffluxCube      *cube;
   char            *source_name;
   gboolean         has_range;
@@ -45,14 +65,26 @@ struct _EffluxWindow
 
 G_DEFINE_FINAL_TYPE (EffluxWindow, efflux_window, GTK_TYPE_APPLICATION_WINDOW)
 
+enum {
+  PROP_0,
+  PROP_SHOW_ASSUMPTIONS,
+  N_PROPS
+};
+
+static GParamSpec *properties[N_PROPS];
+
+static void fill_recent_menu (EffluxWindow *self);
+
 static void
 update_title (EffluxWindow *self)
 {
   g_autofree char *title = NULL;
 
+  gboolean modified = self->document != NULL && efflux_document_get_modified (self->document);
+
   if (self->source_name != NULL && *self->source_name != '\0')
-    /* Translators: the window title, "SOURCE - Efflux" */
-    title = g_strdup_printf (_("%s - Efflux"), self->source_name);
+    /* Translators: the window title, "SOURCE - Efflux", with a mark when there are unsaved changes */
+    title = g_strdup_printf (modified ? _("• %s - Efflux") : _("%s - Efflux"), self->source_name);
   else
     title = g_strdup (_("Efflux"));
   gtk_window_set_title (GTK_WINDOW (self), title);
@@ -95,6 +127,295 @@ load_progress (double   fraction,
     self->progress_idle = g_idle_add_full (G_PRIORITY_LOW, progress_idle_cb,
                                            g_object_ref (self), g_object_unref);
   g_mutex_unlock (&self->progress_lock);
+}
+
+/* ---- the document: title, actions, lobe bar, ledger ---- */
+
+static const EffluxDossier *
+window_dossier (EffluxWindow *self)
+{
+  return self->document ? efflux_document_get_dossier (self->document) : NULL;
+}
+
+static void
+update_actions (EffluxWindow *self)
+{
+  gboolean has = self->document != NULL;
+
+  gtk_widget_action_set_enabled (GTK_WIDGET (self), "win.save", has);
+  gtk_widget_action_set_enabled (GTK_WIDGET (self), "win.save-as", has);
+  gtk_widget_action_set_enabled (GTK_WIDGET (self), "win.undo",
+                                 has && efflux_document_can_undo (self->document));
+  gtk_widget_action_set_enabled (GTK_WIDGET (self), "win.redo",
+                                 has && efflux_document_can_redo (self->document));
+  gtk_widget_action_set_enabled (GTK_WIDGET (self), "win.delete-lobe",
+                                 has && efflux_sky_view_get_selected_lobe (self->sky_view) != NULL);
+}
+
+/* The ledger as text: one line per lobe and the total, the table's main columns. */
+static void
+update_ledger (EffluxWindow *self)
+{
+  static const char *shown[] = { "lobe", "kind", "voxels", "mass_msun", "momentum_msun_kms",
+                                 "energy_erg", "tdyn_yr", "mdot_msun_yr", "force_msun_kms_yr",
+                                 "lmech_lsun", "mv_gamma" };
+  const EffluxMeasureResult *result = self->document ? efflux_document_get_result (self->document) : NULL;
+  const char * const *columns = efflux_measure_columns ();
+  g_autoptr(GString) text = g_string_new (NULL);
+  int index[G_N_ELEMENTS (shown)];
+
+  if (result == NULL)
+    {
+      const char *msg = self->document ? efflux_document_get_measure_error (self->document) : NULL;
+
+      gtk_label_set_text (self->ledger_label, msg ? msg : "");
+      return;
+    }
+  for (guint c = 0; c < G_N_ELEMENTS (shown); c++)
+    {
+      index[c] = -1;
+      for (int i = 0; columns[i] != NULL; i++)
+        if (g_str_equal (columns[i], shown[c]))
+          index[c] = i;
+      g_string_append_printf (text, "%-*s", c < 2 ? 8 : 13, shown[c]);
+    }
+  g_string_append_c (text, '\n');
+  for (guint r = 0; r < result->rows->len; r++)
+    {
+      const EffluxMeasureRow *row = g_ptr_array_index (result->rows, r);
+
+      for (guint c = 0; c < G_N_ELEMENTS (shown); c++)
+        {
+          g_autofree char *cell = index[c] >= 0 ? efflux_measure_cell (row, (guint) index[c]) : g_strdup ("");
+
+          g_string_append_printf (text, "%-*s", c < 2 ? 8 : 13, cell);
+        }
+      g_string_append_c (text, '\n');
+    }
+  if (efflux_document_get_measure_error (self->document) != NULL)
+    g_string_append (text, efflux_document_get_measure_error (self->document));
+  gtk_label_set_text (self->ledger_label, text->str);
+}
+
+static void
+update_lobe_bar (EffluxWindow *self)
+{
+  const EffluxDossier *d = window_dossier (self);
+  const char *name = efflux_sky_view_get_selected_lobe (self->sky_view);
+  const EffluxDossierLobe *lobe = d && name ? efflux_dossier_find_lobe (d, name) : NULL;
+  g_autoptr(GtkStringList) cubes = gtk_string_list_new (NULL);
+  guint cube_index = GTK_INVALID_LIST_POSITION;
+
+  self->updating_lobe_bar = TRUE;
+  gtk_widget_set_sensitive (self->lobe_bar, lobe != NULL);
+  if (d != NULL)
+    for (guint i = 0; i < d->cubes->len; i++)
+      {
+        EffluxDossierCube *c = g_ptr_array_index (d->cubes, i);
+
+        gtk_string_list_append (cubes, c->id);
+        if (lobe != NULL && g_strcmp0 (c->id, lobe->cube_id) == 0)
+          cube_index = i;
+      }
+  gtk_drop_down_set_model (self->cube_dropdown, G_LIST_MODEL (cubes));
+  if (lobe != NULL)
+    {
+      g_autofree char *text = g_strdup_printf (_("Lobe %s"), lobe->name);
+
+      gtk_label_set_text (self->lobe_label, text);
+      gtk_drop_down_set_selected (self->kind_dropdown, lobe->kind == EFFLUX_LOBE_RED ? 1 : 0);
+      gtk_drop_down_set_selected (self->cube_dropdown, cube_index);
+      gtk_spin_button_set_value (self->v1_spin, lobe->v1_kms);
+      gtk_spin_button_set_value (self->v2_spin, lobe->v2_kms);
+    }
+  else
+    gtk_label_set_text (self->lobe_label, _("No lobe selected"));
+  self->updating_lobe_bar = FALSE;
+  update_actions (self);
+}
+
+static void
+show_edit_error (EffluxWindow *self,
+                 const GError *error)
+{
+  gtk_label_set_text (self->edit_error_label, error ? error->message : "");
+}
+
+static void
+velocity_changed (EffluxWindow *self)
+{
+  const char *name = efflux_sky_view_get_selected_lobe (self->sky_view);
+  g_autoptr(GError) error = NULL;
+
+  if (self->updating_lobe_bar || self->document == NULL || name == NULL)
+    return;
+  efflux_document_set_lobe_velocity (self->document, name,
+                                     gtk_spin_button_get_value (self->v1_spin),
+                                     gtk_spin_button_get_value (self->v2_spin), 0, &error);
+  show_edit_error (self, error);
+  if (error != NULL)
+    update_lobe_bar (self);
+}
+
+static void
+kind_changed (EffluxWindow *self)
+{
+  const char *name = efflux_sky_view_get_selected_lobe (self->sky_view);
+  const EffluxDossierLobe *lobe;
+  g_autoptr(GError) error = NULL;
+  EffluxLobeKind kind;
+
+  if (self->updating_lobe_bar || self->document == NULL || name == NULL)
+    return;
+  lobe = efflux_dossier_find_lobe (window_dossier (self), name);
+  kind = gtk_drop_down_get_selected (self->kind_dropdown) == 1 ? EFFLUX_LOBE_RED : EFFLUX_LOBE_BLUE;
+  if (lobe == NULL || lobe->kind == kind)
+    return;
+  efflux_document_set_lobe_kind (self->document, name, kind, &error);
+  show_edit_error (self, error);
+}
+
+static void
+cube_changed (EffluxWindow *self)
+{
+  const char *name = efflux_sky_view_get_selected_lobe (self->sky_view);
+  GtkStringObject *item;
+  const EffluxDossierLobe *lobe;
+  g_autoptr(GError) error = NULL;
+
+  if (self->updating_lobe_bar || self->document == NULL || name == NULL)
+    return;
+  item = gtk_drop_down_get_selected_item (self->cube_dropdown);
+  lobe = efflux_dossier_find_lobe (window_dossier (self), name);
+  if (item == NULL || lobe == NULL || g_strcmp0 (lobe->cube_id, gtk_string_object_get_string (item)) == 0)
+    return;
+  efflux_document_set_lobe_cube (self->document, name, gtk_string_object_get_string (item), &error);
+  show_edit_error (self, error);
+  if (error != NULL)
+    update_lobe_bar (self);
+}
+
+static void
+document_changed (EffluxDocument *document,
+                  const char     *group,
+                  EffluxWindow   *self)
+{
+  const EffluxDossier *d = efflux_document_get_dossier (document);
+
+  if (group == NULL || g_str_equal (group, "Source"))
+    efflux_sky_view_set_source (self->sky_view, d->ra_deg, d->dec_deg, d->distance_pc);
+  if (group == NULL || g_str_has_prefix (group, "Lobe "))
+    update_lobe_bar (self);
+  if (g_strcmp0 (self->source_name, d->name) != 0)
+    {
+      g_free (self->source_name);
+      self->source_name = g_strdup (d->name);
+      update_title (self);
+    }
+  show_edit_error (self, NULL);
+  update_actions (self);
+}
+
+static void
+document_state_changed (EffluxDocument *document,
+                        GParamSpec     *pspec,
+                        EffluxWindow   *self)
+{
+  update_title (self);
+  update_actions (self);
+}
+
+static void
+document_measured (EffluxDocument *document,
+                   EffluxWindow   *self)
+{
+  update_ledger (self);
+}
+
+static void
+selected_lobe_changed (EffluxSkyView *view,
+                       GParamSpec    *pspec,
+                       EffluxWindow  *self)
+{
+  update_lobe_bar (self);
+}
+
+static void
+cubes_loaded (GObject      *object,
+              GAsyncResult *res,
+              gpointer      user_data)
+{
+  g_autoptr(EffluxWindow) self = user_data;
+  g_autoptr(GError) error = NULL;
+
+  if (!efflux_document_load_cubes_finish (EFFLUX_DOCUMENT (object), res, &error)
+      && !g_error_matches (error, G_IO_ERROR, G_IO_ERROR_CANCELLED)
+      && !g_error_matches (error, EFFLUX_ERROR, EFFLUX_ERROR_CANCELLED)
+      && EFFLUX_DOCUMENT (object) == self->document)
+    gtk_label_set_text (self->ledger_label, error->message);
+}
+
+static void
+add_recent (const char *path)
+{
+  g_autoptr(GFile) file = g_file_new_for_path (path);
+  g_autofree char *uri = g_file_get_uri (file);
+
+  gtk_recent_manager_add_item (gtk_recent_manager_get_default (), uri);
+}
+
+static void
+set_document (EffluxWindow   *self,
+              EffluxDocument *document)
+{
+  if (self->document != NULL)
+    g_signal_handlers_disconnect_by_data (self->document, self);
+  if (self->measure_cancellable != NULL)
+    g_cancellable_cancel (self->measure_cancellable);
+  g_clear_object (&self->measure_cancellable);
+  g_set_object (&self->document, document);
+  efflux_sky_view_set_document (self->sky_view, document);
+  efflux_assumptions_set_document (self->assumptions, document);
+  if (document != NULL)
+    {
+      g_signal_connect (document, "changed", G_CALLBACK (document_changed), self);
+      g_signal_connect (document, "notify::modified", G_CALLBACK (document_state_changed), self);
+      g_signal_connect (document, "notify::can-undo", G_CALLBACK (document_state_changed), self);
+      g_signal_connect (document, "notify::can-redo", G_CALLBACK (document_state_changed), self);
+      g_signal_connect (document, "notify::path", G_CALLBACK (document_state_changed), self);
+      g_signal_connect (document, "measured", G_CALLBACK (document_measured), self);
+      self->measure_cancellable = g_cancellable_new ();
+      efflux_document_load_cubes_async (document, self->measure_cancellable, cubes_loaded,
+                                        g_object_ref (self));
+      /* Translators: shown in the ledger while the lobes are measured for the first time */
+      gtk_label_set_text (self->ledger_label, _("Measuring…"));
+    }
+  else
+    gtk_label_set_text (self->ledger_label, "");
+  update_lobe_bar (self);
+  update_title (self);
+  update_actions (self);
+}
+
+EffluxDocument *
+efflux_window_get_document (EffluxWindow *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_WINDOW (self), NULL);
+  return self->document;
+}
+
+const char *
+efflux_window_get_ledger_text (EffluxWindow *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_WINDOW (self), NULL);
+  return gtk_label_get_text (self->ledger_label);
+}
+
+EffluxAssumptions *
+efflux_window_get_assumptions (EffluxWindow *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_WINDOW (self), NULL);
+  return self->assumptions;
 }
 
 /* ---- loading a cube and its first map, off the UI thread ---- */
@@ -233,9 +554,9 @@ load_done (GObject      *object,
   g_clear_pointer (&old, efflux_cube_free);
   show_loading (self, FALSE);
 
-  if (self->dossier != NULL)
-    efflux_sky_view_set_source (self->sky_view, self->dossier->ra_deg, self->dossier->dec_deg,
-                                self->dossier->distance_pc);
+  if (window_dossier (self) != NULL)
+    efflux_sky_view_set_source (self->sky_view, window_dossier (self)->ra_deg,
+                                window_dossier (self)->dec_deg, window_dossier (self)->distance_pc);
   else
     efflux_sky_view_unset_source (self->sky_view);
 
@@ -250,7 +571,7 @@ load_done (GObject      *object,
     gtk_label_set_text (self->detail_label, text);
     set_subtitle (self, base);
   }
-  if (self->dossier == NULL)
+  if (self->document == NULL)
     {
       g_free (self->source_name);
       self->source_name = self->cube->object && *self->cube->object
@@ -379,18 +700,23 @@ open_dossier (EffluxWindow *self,
               const char   *path)
 {
   g_autoptr(GError) error = NULL;
-  EffluxDossier *dossier;
+  g_autoptr(EffluxDocument) document = NULL;
+  const EffluxDossier *dossier;
   EffluxDossierCube *shown = NULL;
   EffluxDossierLobe *lobe = NULL;
 
-  dossier = efflux_dossier_load (path, &error);
-  if (dossier == NULL)
+  document = efflux_document_load (path, &error);
+  if (document == NULL)
     {
       gtk_label_set_text (self->detail_label, error->message);
       return;
     }
-  g_clear_pointer (&self->dossier, efflux_dossier_free);
-  self->dossier = dossier;
+  dossier = efflux_document_get_dossier (document);
+  g_free (self->source_name);
+  self->source_name = g_strdup (dossier->name);
+  set_document (self, document);
+  add_recent (path);
+  fill_recent_menu (self);
   g_free (self->source_name);
   self->source_name = g_strdup (dossier->name);
   update_title (self);
@@ -416,6 +742,7 @@ open_dossier (EffluxWindow *self,
     }
   if (shown == NULL && dossier->cubes->len > 0)
     shown = g_ptr_array_index (dossier->cubes, 0);
+  efflux_sky_view_set_cube_id (self->sky_view, shown ? shown->id : NULL);
   if (shown == NULL)
     {
       g_autofree char *msg = g_strdup_printf (_("%s: the dossier names no cube"), path);
@@ -459,7 +786,8 @@ efflux_window_open (EffluxWindow *self,
       return;
     }
   /* a bare cube: no dossier, no source */
-  g_clear_pointer (&self->dossier, efflux_dossier_free);
+  set_document (self, NULL);
+  efflux_sky_view_set_cube_id (self->sky_view, NULL);
   {
     g_autofree char *base = g_path_get_basename (path);
 
@@ -549,6 +877,188 @@ open_action (GtkWidget  *widget,
 }
 
 static void
+save_response (GtkNativeDialog *dialog,
+               int              response,
+               gpointer         user_data)
+{
+  g_autoptr(EffluxWindow) self = user_data;
+
+  if (response == GTK_RESPONSE_ACCEPT && self->document != NULL)
+    {
+      g_autoptr(GFile) file = gtk_file_chooser_get_file (GTK_FILE_CHOOSER (dialog));
+      g_autofree char *path = file ? g_file_get_path (file) : NULL;
+      g_autoptr(GError) error = NULL;
+
+      if (path != NULL)
+        {
+          if (!efflux_document_save (self->document, path, &error))
+            gtk_label_set_text (self->detail_label, error->message);
+          else
+            add_recent (path);
+        }
+    }
+  gtk_native_dialog_destroy (dialog);
+  g_object_unref (dialog);
+}
+
+static void
+save_as (EffluxWindow *self)
+{
+  GtkFileChooserNative *chooser;
+  g_autoptr(GtkFileFilter) dossiers = gtk_file_filter_new ();
+  const char *path = efflux_document_get_path (self->document);
+
+  chooser = gtk_file_chooser_native_new (_("Save the Dossier"), GTK_WINDOW (self),
+                                         GTK_FILE_CHOOSER_ACTION_SAVE, _("_Save"), _("_Cancel"));
+  gtk_file_filter_set_name (dossiers, _("Dossiers (.efflux)"));
+  gtk_file_filter_add_pattern (dossiers, "*.efflux");
+  gtk_file_chooser_add_filter (GTK_FILE_CHOOSER (chooser), dossiers);
+  if (path != NULL)
+    {
+      g_autoptr(GFile) file = g_file_new_for_path (path);
+
+      gtk_file_chooser_set_file (GTK_FILE_CHOOSER (chooser), file, NULL);
+    }
+  gtk_native_dialog_set_modal (GTK_NATIVE_DIALOG (chooser), TRUE);
+  g_signal_connect (chooser, "response", G_CALLBACK (save_response), g_object_ref (self));
+  gtk_native_dialog_show (GTK_NATIVE_DIALOG (chooser));
+}
+
+static gboolean
+save_now (EffluxWindow *self)
+{
+  g_autoptr(GError) error = NULL;
+
+  if (self->document == NULL)
+    return FALSE;
+  if (!efflux_document_save (self->document, NULL, &error))
+    {
+      gtk_label_set_text (self->detail_label, error->message);
+      return FALSE;
+    }
+  add_recent (efflux_document_get_path (self->document));
+  {
+    g_autofree char *base = g_path_get_basename (efflux_document_get_path (self->document));
+    g_autofree char *text = g_strdup_printf (_("Saved %s."), base);
+
+    gtk_label_set_text (self->detail_label, text);
+  }
+  return TRUE;
+}
+
+static void
+document_action (GtkWidget  *widget,
+                 const char *action_name,
+                 GVariant   *parameter)
+{
+  EffluxWindow *self = EFFLUX_WINDOW (widget);
+
+  if (self->document == NULL)
+    return;
+  if (g_str_equal (action_name, "win.save"))
+    save_now (self);
+  else if (g_str_equal (action_name, "win.save-as"))
+    save_as (self);
+  else if (g_str_equal (action_name, "win.undo"))
+    efflux_document_undo (self->document);
+  else if (g_str_equal (action_name, "win.redo"))
+    efflux_document_redo (self->document);
+  else if (g_str_equal (action_name, "win.delete-lobe"))
+    {
+      g_autofree char *name = g_strdup (efflux_sky_view_get_selected_lobe (self->sky_view));
+      g_autoptr(GError) error = NULL;
+
+      if (name != NULL)
+        efflux_document_remove_lobe (self->document, name, &error);
+      show_edit_error (self, error);
+    }
+}
+
+static void
+open_recent_action (GtkWidget  *widget,
+                    const char *action_name,
+                    GVariant   *parameter)
+{
+  g_autoptr(GFile) file = g_file_new_for_path (g_variant_get_string (parameter, NULL));
+
+  efflux_window_open (EFFLUX_WINDOW (widget), file);
+}
+
+/* The dossiers opened or saved lately (GtkRecentManager), newest first. */
+static void
+fill_recent_menu (EffluxWindow *self)
+{
+  GList *items = gtk_recent_manager_get_items (gtk_recent_manager_get_default ());
+  guint n = 0;
+
+  g_menu_remove_all (self->recent_menu);
+  for (GList *l = items; l != NULL && n < 8; l = l->next)
+    {
+      GtkRecentInfo *info = l->data;
+      const char *uri = gtk_recent_info_get_uri (info);
+      g_autoptr(GFile) file = g_file_new_for_uri (uri);
+      g_autofree char *path = g_file_get_path (file);
+      g_autofree char *base = NULL;
+      g_autoptr(GMenuItem) item = NULL;
+
+      if (path == NULL || !g_str_has_suffix (path, ".efflux") || !gtk_recent_info_exists (info))
+        continue;
+      base = g_path_get_basename (path);
+      item = g_menu_item_new (base, NULL);
+      g_menu_item_set_action_and_target_value (item, "win.open-recent", g_variant_new_string (path));
+      g_menu_append_item (self->recent_menu, item);
+      n++;
+    }
+  g_list_free_full (items, (GDestroyNotify) gtk_recent_info_unref);
+}
+
+static void
+close_response (GtkDialog *dialog,
+                int        response,
+                gpointer   user_data)
+{
+  g_autoptr(EffluxWindow) self = user_data;
+
+  gtk_window_destroy (GTK_WINDOW (dialog));
+  if (response == GTK_RESPONSE_ACCEPT)
+    {
+      if (efflux_document_get_path (self->document) == NULL || !save_now (self))
+        return;
+    }
+  else if (response != GTK_RESPONSE_REJECT)
+    return;
+  self->close_confirmed = TRUE;
+  gtk_window_close (GTK_WINDOW (self));
+}
+
+/* Unsaved changes: ask before the window goes. */
+static gboolean
+efflux_window_close_request (GtkWindow *window)
+{
+  EffluxWindow *self = EFFLUX_WINDOW (window);
+  GtkWidget *dialog;
+
+  if (self->close_confirmed || self->document == NULL
+      || !efflux_document_get_modified (self->document))
+    return GTK_WINDOW_CLASS (efflux_window_parent_class)->close_request (window);
+  dialog = gtk_message_dialog_new (window, GTK_DIALOG_MODAL | GTK_DIALOG_DESTROY_WITH_PARENT,
+                                   GTK_MESSAGE_QUESTION, GTK_BUTTONS_NONE,
+                                   _("Save the changes to “%s”?"),
+                                   self->source_name ? self->source_name : "");
+  gtk_message_dialog_format_secondary_text (GTK_MESSAGE_DIALOG (dialog), "%s",
+                                            _("The lobes and assumptions changed since the dossier was last saved."));
+  gtk_dialog_add_buttons (GTK_DIALOG (dialog),
+                          _("Close _without Saving"), GTK_RESPONSE_REJECT,
+                          _("_Cancel"), GTK_RESPONSE_CANCEL,
+                          _("_Save"), GTK_RESPONSE_ACCEPT,
+                          NULL);
+  gtk_dialog_set_default_response (GTK_DIALOG (dialog), GTK_RESPONSE_ACCEPT);
+  g_signal_connect (dialog, "response", G_CALLBACK (close_response), g_object_ref (self));
+  gtk_window_present (GTK_WINDOW (dialog));
+  return TRUE;
+}
+
+static void
 zoom_action (GtkWidget  *widget,
              const char *action_name,
              GVariant   *parameter)
@@ -610,6 +1120,48 @@ readout_changed (EffluxSkyView *view,
 }
 
 static void
+efflux_window_get_property (GObject    *object,
+                            guint       prop_id,
+                            GValue     *value,
+                            GParamSpec *pspec)
+{
+  EffluxWindow *self = EFFLUX_WINDOW (object);
+
+  switch (prop_id)
+    {
+    case PROP_SHOW_ASSUMPTIONS:
+      g_value_set_boolean (value, self->show_assumptions);
+      break;
+    default:
+      G_OBJECT_WARN_INVALID_PROPERTY_ID (object, prop_id, pspec);
+    }
+}
+
+static void
+efflux_window_set_property (GObject      *object,
+                            guint         prop_id,
+                            const GValue *value,
+                            GParamSpec   *pspec)
+{
+  EffluxWindow *self = EFFLUX_WINDOW (object);
+
+  switch (prop_id)
+    {
+    case PROP_SHOW_ASSUMPTIONS:
+      if (g_value_get_boolean (value) != self->show_assumptions)
+        {
+          self->show_assumptions = g_value_get_boolean (value);
+          if (self->assumptions_revealer != NULL)
+            gtk_revealer_set_reveal_child (self->assumptions_revealer, self->show_assumptions);
+          g_object_notify_by_pspec (object, pspec);
+        }
+      break;
+    default:
+      G_OBJECT_WARN_INVALID_PROPERTY_ID (object, prop_id, pspec);
+    }
+}
+
+static void
 efflux_window_dispose (GObject *object)
 {
   EffluxWindow *self = EFFLUX_WINDOW (object);
@@ -617,6 +1169,18 @@ efflux_window_dispose (GObject *object)
   if (self->cancellable != NULL)
     g_cancellable_cancel (self->cancellable);
   g_clear_object (&self->cancellable);
+  if (self->measure_cancellable != NULL)
+    g_cancellable_cancel (self->measure_cancellable);
+  g_clear_object (&self->measure_cancellable);
+  if (self->document != NULL)
+    {
+      g_signal_handlers_disconnect_by_data (self->document, self);
+      if (self->sky_view != NULL)
+        efflux_sky_view_set_document (self->sky_view, NULL);
+      if (self->assumptions != NULL)
+        efflux_assumptions_set_document (self->assumptions, NULL);
+      g_clear_object (&self->document);
+    }
   if (self->sky_view != NULL)
     efflux_sky_view_clear (self->sky_view);
   gtk_widget_dispose_template (GTK_WIDGET (self), EFFLUX_TYPE_WINDOW);
@@ -629,7 +1193,6 @@ efflux_window_finalize (GObject *object)
   EffluxWindow *self = EFFLUX_WINDOW (object);
 
   g_clear_pointer (&self->cube, efflux_cube_free);
-  g_clear_pointer (&self->dossier, efflux_dossier_free);
   g_free (self->source_name);
   g_mutex_clear (&self->progress_lock);
   G_OBJECT_CLASS (efflux_window_parent_class)->finalize (object);
@@ -643,11 +1206,20 @@ efflux_window_class_init (EffluxWindowClass *klass)
 
   object_class->dispose = efflux_window_dispose;
   object_class->finalize = efflux_window_finalize;
+  object_class->get_property = efflux_window_get_property;
+  object_class->set_property = efflux_window_set_property;
+  GTK_WINDOW_CLASS (klass)->close_request = efflux_window_close_request;
+
+  properties[PROP_SHOW_ASSUMPTIONS] =
+    g_param_spec_boolean ("show-assumptions", NULL, NULL, FALSE,
+                          G_PARAM_READWRITE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
+  g_object_class_install_properties (object_class, N_PROPS, properties);
 
   /* Referencing the generated resource keeps its object (and the constructor that registers it)
    * when the app is linked from the static library, as the UI tests do. */
   g_assert (efflux_get_resource () != NULL);
   g_type_ensure (EFFLUX_TYPE_SKY_VIEW);
+  g_type_ensure (EFFLUX_TYPE_ASSUMPTIONS);
   gtk_widget_class_set_template_from_resource (widget_class, "/org/effluxproject/Efflux/efflux-window.ui");
   gtk_widget_class_bind_template_child (widget_class, EffluxWindow, source_label);
   gtk_widget_class_bind_template_child (widget_class, EffluxWindow, subtitle_label);
@@ -662,6 +1234,28 @@ efflux_window_class_init (EffluxWindowClass *klass)
   gtk_widget_class_bind_template_child (widget_class, EffluxWindow, sources_list);
   gtk_widget_class_bind_template_callback (widget_class, source_activated);
   gtk_widget_class_bind_template_callback (widget_class, cancel_clicked);
+  gtk_widget_class_bind_template_child (widget_class, EffluxWindow, lobe_bar);
+  gtk_widget_class_bind_template_child (widget_class, EffluxWindow, lobe_label);
+  gtk_widget_class_bind_template_child (widget_class, EffluxWindow, kind_dropdown);
+  gtk_widget_class_bind_template_child (widget_class, EffluxWindow, cube_dropdown);
+  gtk_widget_class_bind_template_child (widget_class, EffluxWindow, v1_spin);
+  gtk_widget_class_bind_template_child (widget_class, EffluxWindow, v2_spin);
+  gtk_widget_class_bind_template_child (widget_class, EffluxWindow, edit_error_label);
+  gtk_widget_class_bind_template_child (widget_class, EffluxWindow, ledger_label);
+  gtk_widget_class_bind_template_child (widget_class, EffluxWindow, cut_box);
+  gtk_widget_class_bind_template_child (widget_class, EffluxWindow, spectrum_box);
+  gtk_widget_class_bind_template_child (widget_class, EffluxWindow, ledger_box);
+  gtk_widget_class_bind_template_child (widget_class, EffluxWindow, assumptions_revealer);
+  gtk_widget_class_bind_template_child (widget_class, EffluxWindow, assumptions);
+  gtk_widget_class_bind_template_child (widget_class, EffluxWindow, recent_menu);
+
+  gtk_widget_class_install_action (widget_class, "win.save", NULL, document_action);
+  gtk_widget_class_install_action (widget_class, "win.save-as", NULL, document_action);
+  gtk_widget_class_install_action (widget_class, "win.undo", NULL, document_action);
+  gtk_widget_class_install_action (widget_class, "win.redo", NULL, document_action);
+  gtk_widget_class_install_action (widget_class, "win.delete-lobe", NULL, document_action);
+  gtk_widget_class_install_action (widget_class, "win.open-recent", "s", open_recent_action);
+  gtk_widget_class_install_property_action (widget_class, "win.assumptions", "show-assumptions");
 
   gtk_widget_class_install_action (widget_class, "win.open", NULL, open_action);
   gtk_widget_class_install_action (widget_class, "win.zoom-in", NULL, zoom_action);
@@ -696,7 +1290,7 @@ static void
 efflux_window_init (EffluxWindow *self)
 {
   g_autoptr(GSimpleActionGroup) group = g_simple_action_group_new ();
-  const char *view_props[] = { "colormap", "stretch", "limits", "grid" };
+  const char *view_props[] = { "colormap", "stretch", "limits", "grid", "tool", "new-lobe-kind" };
   GtkDropTarget *drop;
 
   ensure_style ();
@@ -714,6 +1308,14 @@ efflux_window_init (EffluxWindow *self)
   gtk_widget_insert_action_group (GTK_WIDGET (self), "view", G_ACTION_GROUP (group));
 
   g_signal_connect_object (self->sky_view, "notify::readout", G_CALLBACK (readout_changed), self, 0);
+  g_signal_connect_object (self->sky_view, "notify::selected-lobe",
+                           G_CALLBACK (selected_lobe_changed), self, 0);
+  g_signal_connect_swapped (self->v1_spin, "value-changed", G_CALLBACK (velocity_changed), self);
+  g_signal_connect_swapped (self->v2_spin, "value-changed", G_CALLBACK (velocity_changed), self);
+  g_signal_connect_swapped (self->kind_dropdown, "notify::selected", G_CALLBACK (kind_changed), self);
+  g_signal_connect_swapped (self->cube_dropdown, "notify::selected", G_CALLBACK (cube_changed), self);
+  fill_recent_menu (self);
+  update_actions (self);
 
   drop = gtk_drop_target_new (GDK_TYPE_FILE_LIST, GDK_ACTION_COPY);
   g_signal_connect (drop, "drop", G_CALLBACK (drop_cb), self);

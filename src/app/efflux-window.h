@@ -4,7 +4,9 @@
 #include <gtk/gtk.h>
 
 #include "efflux-application.h"
+#include "efflux-assumptions.h"
 #include "efflux-cube.h"
+#include "efflux-document.h"
 #include "efflux-sky-view.h"
 
 G_BEGIN_DECLS
@@ -25,5 +27,10 @@ EffluxSkyView *efflux_window_get_sky_view (EffluxWindow *self);
 guint         efflux_window_get_n_sources (EffluxWindow *self);
 /* The cube shown, or NULL before one is read. Owned by the window. */
 const EffluxCube *efflux_window_get_cube (EffluxWindow *self);
+/* The open dossier as a document (NULL for a bare cube or nothing). */
+EffluxDocument *efflux_window_get_document (EffluxWindow *self);
+/* The Ledger's text: a header line, then one line per lobe and the total. */
+const char   *efflux_window_get_ledger_text (EffluxWindow *self);
+EffluxAssumptions *efflux_window_get_assumptions (EffluxWindow *self);
 
 G_END_DECLS
