@@ -43,5 +43,7 @@ int efflux_cmd_export  (int argc, char **argv);
 int efflux_cmd_shellfit (int argc, char **argv);
 int efflux_cmd_knots  (int argc, char **argv);
 int efflux_cmd_budget (int argc, char **argv);
+int efflux_cmd_figure (int argc, char **argv);
+int efflux_cmd_report (int argc, char **argv);
 
 G_END_DECLS

@@ -22,6 +22,8 @@ static const Command commands[] = {
   { "pv", efflux_cmd_pv, "write a position-velocity diagram along a polyline" },
   { "synth", efflux_cmd_synth, "write synthetic outflow cubes, their truth and a dossier from a recipe" },
   { "measure", efflux_cmd_measure, "measure every lobe of dossiers: mass, momentum, energy, rates, errors" },
+  { "figure", efflux_cmd_figure, "draw a publication figure of a dossier (PNG, PDF or SVG)" },
+  { "report", efflux_cmd_report, "write the per-source report with a reviewer's sign-off page (PDF)" },
   { "merge", efflux_cmd_merge, "join the csv parts of a sharded measurement (measure --shard K/N)" },
   { "compare", efflux_cmd_compare, "compare two dossiers of one source lobe by lobe: overlap, velocities, ratios" },
   { "export", efflux_cmd_export, "export the lobes as FITS masks (2-D, 3-D) or IVOA STC-S polygons" },

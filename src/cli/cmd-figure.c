@@ -1,0 +1,136 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+#include "config.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+
+#include "efflux-cli.h"
+#include "efflux-dossier.h"
+#include "efflux-figure.h"
+
+/* "NxM" (columns x rows), 1..12 each. */
+static gboolean
+parse_grid (const char *text,
+            guint      *nx,
+            guint      *ny)
+{
+  guint64 a, b;
+  char *end = NULL;
+
+  if (text == NULL || !g_ascii_isdigit (*text))
+    return FALSE;
+  a = g_ascii_strtoull (text, &end, 10);
+  if (end == NULL || (*end != 'x' && *end != 'X') || !g_ascii_isdigit (end[1]))
+    return FALSE;
+  b = g_ascii_strtoull (end + 1, &end, 10);
+  if (end == NULL || *end != '\0' || a < 1 || b < 1 || a > 12 || b > 12)
+    return FALSE;
+  *nx = (guint) a;
+  *ny = (guint) b;
+  return TRUE;
+}
+
+int
+efflux_cmd_figure (int    argc,
+                   char **argv)
+{
+  g_autofree char *view_text = NULL;
+  g_autofree char *output = NULL;
+  g_autofree char *cut = NULL;
+  g_autofree char *lobe = NULL;
+  g_autofree char *grid = NULL;
+  g_autofree char *colormap = NULL;
+  g_autofree char *stretch = NULL;
+  g_autofree char *coords = NULL;
+  g_auto (GStrv) rest = NULL;
+  EffluxFigureOptions o;
+  double width_mm = 120.0, height_mm = 0.0, dpi = 300.0;
+  GOptionEntry entries[] = {
+    { "view", 0, 0, G_OPTION_ARG_STRING, &view_text,
+      "What to draw: sky, cut, spectrum, mass-velocity or channels", "VIEW" },
+    { "output", 'o', 0, G_OPTION_ARG_FILENAME, &output,
+      "The file to write; its name gives the format (.png, .pdf, .svg)", "OUT" },
+    { "width-mm", 0, 0, G_OPTION_ARG_DOUBLE, &width_mm, "Width in millimetres (default 120)", "W" },
+    { "height-mm", 0, 0, G_OPTION_ARG_DOUBLE, &height_mm,
+      "Height in millimetres (default: as the layout needs)", "H" },
+    { "dpi", 0, 0, G_OPTION_ARG_DOUBLE, &dpi, "Resolution of PNG output (default 300)", "D" },
+    { "cut", 0, 0, G_OPTION_ARG_STRING, &cut, "The cut of the cut view (default: the first)", "NAME" },
+    { "lobe", 0, 0, G_OPTION_ARG_STRING, &lobe, "Show only this lobe (default: all)", "NAME" },
+    { "grid", 0, 0, G_OPTION_ARG_STRING, &grid, "Channel maps: columns x rows (default 3x3)", "NxM" },
+    { "colormap", 0, 0, G_OPTION_ARG_STRING, &colormap,
+      "cubehelix (default), grey or velocity", "MAP" },
+    { "stretch", 0, 0, G_OPTION_ARG_STRING, &stretch,
+      "linear (default), sqrt, log or asinh", "STRETCH" },
+    { "coords", 0, 0, G_OPTION_ARG_STRING, &coords,
+      "Sky axes: sexagesimal (default) or offsets from the source", "STYLE" },
+    { G_OPTION_REMAINING, 0, 0, G_OPTION_ARG_FILENAME_ARRAY, &rest, NULL, "DOSSIER" },
+    { NULL }
+  };
+  g_autoptr (GOptionContext) context = g_option_context_new ("- draw a publication figure of a dossier");
+  g_autoptr (EffluxDossier) dossier = NULL;
+  g_autoptr (EffluxFigure) figure = NULL;
+  EffluxFigureFormat format;
+  GError *error = NULL;
+  int status = EFFLUX_EXIT_OK;
+
+  g_option_context_set_summary (context,
+                                "Draw one view of a dossier for a paper: PNG at a resolution, or PDF and SVG "
+                                "as vector graphics. The caption (contour levels, ranges, units) is printed "
+                                "on standard output and drawn under the figure.");
+  g_option_context_add_main_entries (context, entries, NULL);
+  if (!efflux_cli_parse (context, &argc, &argv, &status))
+    return status;
+
+  efflux_figure_options_init (&o);
+  if (rest == NULL || g_strv_length (rest) != 1)
+    return efflux_cli_usage ("figure", "expected exactly one DOSSIER");
+  if (view_text == NULL)
+    return efflux_cli_usage ("figure", "--view is required");
+  if (!efflux_figure_view_from_string (view_text, &o.view))
+    return efflux_cli_usage ("figure", "--view '%s': expected sky, cut, spectrum, mass-velocity or channels",
+                             view_text);
+  if (output == NULL)
+    return efflux_cli_usage ("figure", "-o OUT.png|OUT.pdf|OUT.svg is required");
+  if (!efflux_figure_format_from_path (output, &format))
+    return efflux_cli_usage ("figure", "-o %s: the name must end in .png, .pdf or .svg", output);
+  if (!isfinite (width_mm) || width_mm <= 0 || width_mm > 2000)
+    return efflux_cli_usage ("figure", "--width-mm %g: expected 0 < W <= 2000", width_mm);
+  if (!isfinite (height_mm) || height_mm < 0 || height_mm > 2000)
+    return efflux_cli_usage ("figure", "--height-mm %g: expected 0 (automatic) to 2000", height_mm);
+  if (!isfinite (dpi) || dpi < 10 || dpi > 2400)
+    return efflux_cli_usage ("figure", "--dpi %g: expected 10 to 2400", dpi);
+  if (grid != NULL && !parse_grid (grid, &o.grid_nx, &o.grid_ny))
+    return efflux_cli_usage ("figure", "--grid '%s': expected NxM, 1 to 12 each", grid);
+  if (colormap != NULL && !efflux_colormap_kind_from_string (colormap, &o.colormap))
+    return efflux_cli_usage ("figure", "--colormap '%s': expected cubehelix, grey or velocity", colormap);
+  if (stretch != NULL && !efflux_stretch_kind_from_string (stretch, &o.stretch))
+    return efflux_cli_usage ("figure", "--stretch '%s': expected linear, sqrt, log or asinh", stretch);
+  if (coords != NULL)
+    {
+      if (strcmp (coords, "sexagesimal") == 0)
+        o.coords = EFFLUX_SKYGRID_SEXAGESIMAL;
+      else if (strcmp (coords, "offsets") == 0)
+        o.coords = EFFLUX_SKYGRID_OFFSETS;
+      else
+        return efflux_cli_usage ("figure", "--coords '%s': expected sexagesimal or offsets", coords);
+    }
+  o.width_mm = width_mm;
+  o.height_mm = height_mm;
+  o.dpi = dpi;
+  o.cut = cut;
+  o.lobe = lobe;
+
+  dossier = efflux_dossier_load (rest[0], &error);
+  if (dossier == NULL)
+    return efflux_cli_fail (error);
+  figure = efflux_figure_new (dossier, &error);
+  if (figure == NULL)
+    return efflux_cli_fail (error);
+  if (!efflux_figure_write (figure, &o, output, &error))
+    return efflux_cli_fail (error);
+  printf ("%s\n", efflux_figure_caption (figure));
+  if (fflush (stdout) != 0 || ferror (stdout))
+    return efflux_cli_fail (g_error_new (EFFLUX_ERROR, EFFLUX_ERROR_IO, "standard output: write failed"));
+  return EFFLUX_EXIT_OK;
+}
