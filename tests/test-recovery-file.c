@@ -7,9 +7,11 @@
 
 #include <glib.h>
 #include <glib/gstdio.h>
+#include <fcntl.h>
 #include <math.h>
 #include <signal.h>
 #include <string.h>
+#include <sys/stat.h>
 #include <sys/types.h>
 #include <sys/wait.h>
 #include <unistd.h>
@@ -77,6 +79,14 @@ test_round_trip (void)
   g_assert_no_error (error);
   g_assert_true (efflux_recovery_exists (path, &mtime));
   g_assert_cmpint (mtime, >, 0);
+  g_assert_false (efflux_recovery_older_than_dossier (path));
+  {
+    /* the dossier saved elsewhere 10 s after the recovery file: reported */
+    struct timespec ts[2] = { { mtime / G_USEC_PER_SEC + 10, 0 }, { mtime / G_USEC_PER_SEC + 10, 0 } };
+
+    g_assert_cmpint (utimensat (AT_FDCWD, path, ts, 0), ==, 0);
+    g_assert_true (efflux_recovery_older_than_dossier (path));
+  }
 
   /* the dossier is untouched; the recovery holds the edits and the user's comment */
   g_assert_true (g_file_get_contents (path, &text, NULL, NULL));

@@ -48,6 +48,17 @@ efflux_recovery_exists (const char *dossier_path,
   return TRUE;
 }
 
+gboolean
+efflux_recovery_older_than_dossier (const char *dossier_path)
+{
+  gint64 recovery_us;
+  GStatBuf st;
+
+  if (!efflux_recovery_exists (dossier_path, &recovery_us) || g_stat (dossier_path, &st) != 0)
+    return FALSE;
+  return (gint64) st.st_mtim.tv_sec * G_USEC_PER_SEC + st.st_mtim.tv_nsec / 1000 > recovery_us;
+}
+
 EffluxDossier *
 efflux_recovery_load (const char  *dossier_path,
                       GError     **error)

@@ -40,6 +40,11 @@ gboolean       efflux_recovery_write  (EffluxDossier  *dossier,
 gboolean       efflux_recovery_exists (const char *dossier_path,
                                        gint64     *mtime_us);
 
+/* TRUE when the recovery file exists and the dossier was modified after it (saved by another
+ * program or by hand since the crash): the program should still offer the edits, but say that
+ * recovering them replaces newer work in the dossier. */
+gboolean       efflux_recovery_older_than_dossier (const char *dossier_path);
+
 /* The dossier as the recovery file holds it, with path = dossier_path (messages name the
  * recovery file). The recovery file stays until removed. */
 EffluxDossier *efflux_recovery_load   (const char  *dossier_path,
