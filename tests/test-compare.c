@@ -244,6 +244,65 @@ test_compare_core (Fixture      *f,
   }
 }
 
+/* Replace every `from` by `to` in a file. */
+static void
+edit_file (const char *path,
+           const char *from,
+           const char *to)
+{
+  g_autofree char *text = NULL;
+  g_auto (GStrv) parts = NULL;
+  g_autofree char *joined = NULL;
+
+  g_assert_true (g_file_get_contents (path, &text, NULL, NULL));
+  parts = g_strsplit (text, from, -1);
+  g_assert_cmpuint (g_strv_length (parts), >, 1);
+  joined = g_strjoinv (to, parts);
+  g_assert_true (g_file_set_contents (path, joined, -1, NULL));
+}
+
+/* Their dossier names a cube file that is not here (it came from another machine): measured on my
+ * cube of the same id, with a note; the same numbers as above. Without a cube of the same id or
+ * line, refused with their [Cube ID] named. */
+static void
+test_compare_their_cube_missing (Fixture      *f,
+                                 gconstpointer data)
+{
+  g_autofree char *mp = NULL, *tp = NULL;
+  g_autoptr (EffluxDossier) mine = NULL;
+  g_autoptr (EffluxDossier) theirs = NULL;
+  g_autoptr (EffluxDossier) other = NULL;
+  g_autoptr (EffluxComparison) c = NULL;
+  g_autoptr (EffluxComparison) none = NULL;
+  g_autoptr (GError) error = NULL;
+  const EffluxCompareRow *r;
+
+  make_pair (f, &mp, &tp);
+  edit_file (tp, "path=co.fits", "path=../far-away/co.fits");
+  mine = efflux_dossier_load (mp, &error);
+  g_assert_no_error (error);
+  theirs = efflux_dossier_load (tp, &error);
+  g_assert_no_error (error);
+  c = efflux_compare_dossiers (mine, theirs, NULL, &error);
+  g_assert_no_error (error);
+  g_assert_cmpuint (c->notes->len, ==, 1);
+  g_assert_nonnull (strstr (g_ptr_array_index (c->notes, 0), "[Cube co] ../far-away/co.fits does not exist here: measured on my cube co"));
+  r = find (c, "blue-1", "blue-1");
+  g_assert_cmpfloat_with_epsilon (r->ratio[EFFLUX_RATIO_MASS], 4.0, 1e-12);
+  g_assert_cmpfloat_with_epsilon (r->ratio[EFFLUX_RATIO_TDYN], 2.0, 1e-12);
+
+  edit_file (tp, "[Cube co]", "[Cube theirs-co]");
+  edit_file (tp, "cube=co\n", "cube=theirs-co\n");
+  edit_file (tp, "line=12CO 2-1", "line=13CO 2-1");
+  other = efflux_dossier_load (tp, &error);
+  g_assert_no_error (error);
+  none = efflux_compare_dossiers (mine, other, NULL, &error);
+  g_assert_null (none);
+  g_assert_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT);
+  g_assert_true (g_str_has_prefix (error->message, tp));
+  g_assert_nonnull (strstr (error->message, ": [Cube theirs-co] path: "));
+}
+
 static char *
 run_cli (const char * const *args,
          int                *exit_status,
@@ -449,6 +508,7 @@ main (int    argc,
 {
   g_test_init (&argc, &argv, NULL);
   g_test_add ("/compare/core", Fixture, NULL, fixture_set_up, test_compare_core, fixture_tear_down);
+  g_test_add ("/compare/their-cube-missing", Fixture, NULL, fixture_set_up, test_compare_their_cube_missing, fixture_tear_down);
   g_test_add ("/compare/cli", Fixture, NULL, fixture_set_up, test_compare_cli, fixture_tear_down);
   g_test_add ("/compare/review-notes", Fixture, NULL, fixture_set_up, test_review_notes, fixture_tear_down);
   return g_test_run ();

@@ -169,7 +169,13 @@ format_json (GString          *s,
   json_side (s, mine, c->mine_author);
   g_string_append (s, ",\n  \"theirs\": ");
   json_side (s, theirs, c->theirs_author);
-  g_string_append (s, ",\n  \"lobes\": [");
+  g_string_append (s, ",\n  \"notes\": [");
+  for (guint i = 0; i < c->notes->len; i++)
+    {
+      g_string_append (s, i ? ", " : "");
+      efflux_json_string (s, g_ptr_array_index (c->notes, i));
+    }
+  g_string_append (s, "],\n  \"lobes\": [");
   for (guint i = 0; i < c->rows->len; i++)
     {
       const EffluxCompareRow *r = g_ptr_array_index (c->rows, i);
@@ -254,6 +260,8 @@ efflux_cmd_compare (int    argc,
   if (c == NULL)
     return efflux_cli_fail (error);
 
+  for (guint i = 0; i < c->notes->len; i++)
+    fprintf (stderr, "efflux-cli: note: %s\n", (const char *) g_ptr_array_index (c->notes, i));
   if (strcmp (format, "csv") == 0)
     format_csv (s, c);
   else if (strcmp (format, "json") == 0)

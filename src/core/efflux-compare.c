@@ -4,6 +4,7 @@
 
 #include "efflux-compare.h"
 
+#include <glib/gstdio.h>
 #include <math.h>
 #include <string.h>
 
@@ -25,6 +26,7 @@ efflux_comparison_free (EffluxComparison *c)
   if (c == NULL)
     return;
   g_clear_pointer (&c->rows, g_ptr_array_unref);
+  g_clear_pointer (&c->notes, g_ptr_array_unref);
   g_free (c->mine_author);
   g_free (c->theirs_author);
   g_free (c);
@@ -213,6 +215,7 @@ efflux_compare (const EffluxDossier       *mine,
     }
 
   c->rows = g_ptr_array_new_with_free_func (row_free);
+  c->notes = g_ptr_array_new_with_free_func (g_free);
   for (guint i = 0; i < nm; i++)
     {
       const EffluxDossierLobe *a = g_ptr_array_index (mine->lobes, i);
@@ -275,6 +278,92 @@ efflux_compare (const EffluxDossier       *mine,
   return g_steal_pointer (&c);
 }
 
+static gboolean
+same_file (const char *a,
+           const char *b)
+{
+  GStatBuf sa, sb;
+
+  if (g_strcmp0 (a, b) == 0)
+    return TRUE;
+  return g_stat (a, &sa) == 0 && g_stat (b, &sb) == 0 && sa.st_dev == sb.st_dev && sa.st_ino == sb.st_ino;
+}
+
+/* Their cubes (id -> EffluxCube *, not owning) for their lobes and isotopologue; cubes loaded
+ * here go to `owned`. */
+static GHashTable *
+their_cubes (const EffluxDossier *mine,
+             GHashTable          *mine_cubes,
+             const EffluxDossier *theirs,
+             GHashTable          *owned,
+             GPtrArray           *notes,
+             GCancellable        *cancellable,
+             GError             **error)
+{
+  g_autoptr (GHashTable) t = g_hash_table_new_full (g_str_hash, g_str_equal, g_free, NULL);
+
+  for (guint i = 0; i < theirs->cubes->len; i++)
+    {
+      const EffluxDossierCube *tc = g_ptr_array_index (theirs->cubes, i);
+      EffluxCube *cube = NULL;
+      gboolean needed = tc->role == EFFLUX_CUBE_ROLE_ISOTOPOLOGUE &&
+                        theirs->opacity == EFFLUX_OPACITY_FROM_ISOTOPOLOGUE;
+
+      for (guint j = 0; j < theirs->lobes->len && !needed; j++)
+        if (strcmp (((EffluxDossierLobe *) g_ptr_array_index (theirs->lobes, j))->cube_id, tc->id) == 0)
+          needed = TRUE;
+      if (!needed)
+        continue;
+      /* the same file as one of mine: share it */
+      for (guint j = 0; j < mine->cubes->len && cube == NULL; j++)
+        {
+          const EffluxDossierCube *mc = g_ptr_array_index (mine->cubes, j);
+          EffluxCube *loaded = g_hash_table_lookup (mine_cubes, mc->id);
+
+          if (loaded != NULL && same_file (mc->abs_path, tc->abs_path))
+            cube = loaded;
+        }
+      if (cube == NULL && g_file_test (tc->abs_path, G_FILE_TEST_EXISTS))
+        {
+          EffluxCubeLoadOptions options = { 0 };
+
+          options.no_noise = isfinite (tc->rms_k);
+          cube = efflux_cube_load (tc->abs_path, &options, cancellable, NULL, NULL, error);
+          if (cube == NULL)
+            return NULL;
+          g_hash_table_insert (owned, g_strdup (tc->id), cube);
+        }
+      if (cube == NULL)
+        {
+          /* not here: my cube of the same id, else of the same line */
+          const EffluxDossierCube *by_id = efflux_dossier_find_cube (mine, tc->id);
+          const EffluxDossierCube *use = NULL;
+
+          if (by_id != NULL && g_hash_table_lookup (mine_cubes, by_id->id) != NULL)
+            use = by_id;
+          for (guint j = 0; j < mine->cubes->len && use == NULL; j++)
+            {
+              const EffluxDossierCube *mc = g_ptr_array_index (mine->cubes, j);
+
+              if (tc->line != NULL && mc->line == tc->line && g_hash_table_lookup (mine_cubes, mc->id) != NULL)
+                use = mc;
+            }
+          if (use == NULL)
+            {
+              g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                           "%s: [Cube %s] path: %s does not exist here, and %s has no loaded cube of the "
+                           "same id or line to measure it on", theirs->path, tc->id, tc->abs_path, mine->path);
+              return NULL;
+            }
+          cube = g_hash_table_lookup (mine_cubes, use->id);
+          g_ptr_array_add (notes, g_strdup_printf ("%s: [Cube %s] %s does not exist here: measured on my cube %s (%s)",
+                                                   theirs->path, tc->id, tc->path, use->id, use->path));
+        }
+      g_hash_table_insert (t, g_strdup (tc->id), cube);
+    }
+  return g_steal_pointer (&t);
+}
+
 EffluxComparison *
 efflux_compare_dossiers (const EffluxDossier *mine,
                          const EffluxDossier *theirs,
@@ -282,9 +371,15 @@ efflux_compare_dossiers (const EffluxDossier *mine,
                          GError             **error)
 {
   g_autoptr (GHashTable) cubes = NULL;
+  g_autoptr (GHashTable) owned = g_hash_table_new_full (g_str_hash, g_str_equal, g_free,
+                                                        (GDestroyNotify) efflux_cube_free);
+  g_autoptr (GHashTable) tcubes = NULL;
+  g_autoptr (GPtrArray) notes = g_ptr_array_new_with_free_func (g_free);
   g_autoptr (EffluxMeasureResult) rm = NULL;
   g_autoptr (EffluxMeasureResult) rt = NULL;
   g_autoptr (EffluxMeasurePrep) prep = NULL;
+  g_autoptr (EffluxMeasurePrep) tprep = NULL;
+  EffluxComparison *c;
 
   cubes = efflux_measure_load_cubes (mine, cancellable, error);
   if (cubes == NULL)
@@ -295,8 +390,18 @@ efflux_compare_dossiers (const EffluxDossier *mine,
   rm = efflux_measure_finish (prep, mine, error);
   if (rm == NULL)
     return NULL;
-  rt = efflux_measure_dossier (theirs, cancellable, error);
+  tcubes = their_cubes (mine, cubes, theirs, owned, notes, cancellable, error);
+  if (tcubes == NULL)
+    return NULL;
+  tprep = efflux_measure_prepare (theirs, tcubes, cancellable, error);
+  if (tprep == NULL)
+    return NULL;
+  rt = efflux_measure_finish (tprep, theirs, error);
   if (rt == NULL)
     return NULL;
-  return efflux_compare (mine, cubes, rm, theirs, rt, error);
+  c = efflux_compare (mine, cubes, rm, theirs, rt, error);
+  if (c != NULL)
+    for (guint i = 0; i < notes->len; i++)
+      g_ptr_array_add (c->notes, g_strdup (g_ptr_array_index (notes, i)));
+  return c;
 }

@@ -59,6 +59,7 @@ typedef struct
   GPtrArray *rows;               /* EffluxCompareRow *: my lobes in my order, then theirs alone */
   char      *mine_author;        /* efflux_dossier_author of each, NULL when none */
   char      *theirs_author;
+  GPtrArray *notes;              /* char *: remarks, e.g. a cube of theirs measured on mine */
 } EffluxComparison;
 
 /* mine_cubes: id -> EffluxCube * for my lobes' cubes (the grids). The results may be NULL. */
@@ -69,7 +70,11 @@ EffluxComparison *efflux_compare (const EffluxDossier       *mine,
                                   const EffluxMeasureResult *theirs_result,
                                   GError                   **error);
 
-/* All in one: load my cubes, measure both dossiers, compare. */
+/* All in one: load my cubes, measure both dossiers, compare.
+ * Their cubes: a cube file of theirs that is the same file as one of mine is loaded once; a cube
+ * file of theirs that does not exist here (their dossier came from another machine) is replaced
+ * by my cube of the same id, else of the same line, and a note says so; with neither, the
+ * comparison is refused with an error naming their [Cube ID] path. */
 EffluxComparison *efflux_compare_dossiers (const EffluxDossier *mine,
                                            const EffluxDossier *theirs,
                                            GCancellable        *cancellable,
