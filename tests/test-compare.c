@@ -20,6 +20,7 @@
 #include "efflux-dossier.h"
 #include "efflux-fitsout.h"
 #include "efflux-review.h"
+#include "efflux-sample.h"
 
 #define REST_12CO21 230.538e9
 #define RA0 83.8
@@ -490,6 +491,9 @@ test_review_notes (Fixture      *f,
   g_assert_cmpint (efflux_review_find (rv, "R-north")->status, ==, EFFLUX_REVIEW_AGREED);
   g_assert_null (efflux_review_find (rv, "R-small"));
   g_clear_pointer (&rv, efflux_review_free);
+  /* the sample's Sources list sees the reviewer's dossier as reviewed (efflux-sample.h) */
+  g_assert_cmpint (efflux_sample_state (again->keyfile), ==, EFFLUX_SOURCE_REVIEWED);
+  g_assert_nonnull (strstr (text, "[Status]\nreviewed-by=B. Reviewer\n"));
 
   /* a bad status names the file, the group and the key */
   g_key_file_set_value (again->keyfile, "Review blue-1", "status", "maybe");

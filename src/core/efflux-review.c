@@ -6,6 +6,8 @@
 
 #include <string.h>
 
+#include "efflux-sample.h"
+
 #define REVIEW_GROUP "Review"
 #define NOTE_PREFIX "Review "
 
@@ -185,6 +187,12 @@ efflux_review_set_note (EffluxDossier      *dossier,
   else
     g_key_file_remove_key (dossier->keyfile, group, "mine", NULL);
   g_key_file_set_value (dossier->keyfile, group, "date", date);
+  {
+    g_autofree char *reviewer = get (dossier->keyfile, REVIEW_GROUP, "reviewer");
+
+    if (reviewer != NULL)
+      efflux_sample_set_reviewed (dossier->keyfile, reviewer, now);
+  }
 }
 
 gboolean

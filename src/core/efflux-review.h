@@ -26,8 +26,10 @@ G_BEGIN_DECLS
  *   # when the note was last set, ISO 8601 UTC
  *   date=2026-12-02T01:00:00Z
  *
- * A dossier is "reviewed" when it holds a [Review] group with at least one note. Other groups and
- * comments are untouched; efflux_dossier_save writes the notes with the rest. */
+ * Setting a note, once the reviewer is known, also records [Status] reviewed-by and reviewed
+ * (efflux_sample_set_reviewed, efflux-sample.h), so that a sample's Sources list shows the
+ * reviewer's dossier as reviewed. Other groups and comments are untouched; efflux_dossier_save
+ * writes the notes with the rest. */
 
 typedef enum
 {
@@ -65,7 +67,8 @@ void          efflux_review_free        (EffluxReview *review);
 void          efflux_review_set_reviewer (EffluxDossier *dossier,
                                           const char    *reviewer,
                                           const char    *reviewed_path);
-/* Set (add or replace) the note on a colleague's lobe; mine may be NULL; date now (UTC). */
+/* Set (add or replace) the note on a colleague's lobe; mine may be NULL; date now (UTC). With
+ * [Review] reviewer set, [Status] reviewed-by and reviewed are set too (see above). */
 void          efflux_review_set_note    (EffluxDossier      *dossier,
                                          const char         *lobe,
                                          EffluxReviewStatus  status,
