@@ -336,6 +336,15 @@ test_compare_cli (Fixture      *f,
 
   make_pair (f, &mp, &tp);
   {
+    /* my review note on their R-north shows in the last column */
+    g_autofree char *text = NULL;
+    g_autofree char *more = NULL;
+
+    g_assert_true (g_file_get_contents (mp, &text, NULL, NULL));
+    more = g_strconcat (text, "[Review]\nreviewer=Me\n[Review R-north]\nstatus=questioned\nnote=why 1.5?\n", NULL);
+    g_assert_true (g_file_set_contents (mp, more, -1, NULL));
+  }
+  {
     const char *args[] = { "compare", mp, tp, "--format", "csv", NULL };
     g_autofree char *err = NULL;
     g_autofree char *out = run_cli (args, &status, &err);
@@ -347,11 +356,13 @@ test_compare_cli (Fixture      *f,
     g_test_message ("%s", out);
     g_assert_cmpint (status, ==, 0);
     g_assert_cmpuint (g_strv_length (lines), ==, 6);   /* header, 4 rows, "" */
-    g_assert_cmpstr (lines[0], ==, "lobe,theirs,kind,match,iou,dv1_kms,dv2_kms,mass_ratio,momentum_ratio,energy_ratio,tdyn_ratio");
+    g_assert_cmpstr (lines[0], ==, "lobe,theirs,kind,match,iou,dv1_kms,dv2_kms,mass_ratio,momentum_ratio,energy_ratio,tdyn_ratio,review");
     head = g_strsplit (lines[0], ",", -1);
     blue = g_strsplit (lines[1], ",", -1);
     red = g_strsplit (lines[2], ",", -1);
-    g_assert_cmpuint (g_strv_length (blue), ==, 11);
+    g_assert_cmpuint (g_strv_length (blue), ==, 12);
+    g_assert_cmpstr (blue[11], ==, "");
+    g_assert_cmpstr (red[11], ==, "questioned");
     g_assert_cmpstr (blue[0], ==, "blue-1");
     g_assert_cmpstr (blue[1], ==, "blue-1");
     g_assert_cmpstr (blue[3], ==, "name");
@@ -375,7 +386,9 @@ test_compare_cli (Fixture      *f,
     const char *header = NULL;
     guint rows = 0;
     const char *col;
+    gsize end = 0;
 
+    g_test_message ("%s", out);
     g_assert_cmpint (status, ==, 0);
     for (guint i = 0; lines[i] != NULL; i++)
       {
@@ -384,11 +397,15 @@ test_compare_cli (Fixture      *f,
         if (header == NULL)
           {
             header = lines[i];
+            g_assert_nonnull (strstr (header, "tdyn_ratio"));
+            end = (gsize) (strstr (header, "tdyn_ratio") - header) + strlen ("tdyn_ratio");
             continue;
           }
         rows++;
-        /* the ratio columns end where the header's last name ends */
-        g_assert_cmpuint (strlen (lines[i]), ==, strlen (header));
+        /* numbers right-aligned: every row's tdyn_ratio cell ends where the header's name ends */
+        g_assert_cmpuint (strlen (lines[i]), >=, end);
+        g_assert_cmpint (lines[i][end - 1], !=, ' ');
+        g_assert_cmpint (lines[i][end], ==, ' ');
       }
     g_assert_cmpuint (rows, ==, 4);
     g_assert_nonnull (strstr (out, "A. Colleague"));
@@ -397,6 +414,7 @@ test_compare_cli (Fixture      *f,
     g_assert_true (g_str_has_prefix (lines[4], "blue-1"));
     g_assert_nonnull (strstr (lines[4], "0.3333"));
     g_assert_nonnull (strstr (lines[5], "0.6667"));
+    g_assert_true (g_str_has_suffix (lines[5], "  questioned"));
   }
   {
     const char *args[] = { "compare", mp, tp, "--format", "json", NULL };
@@ -406,6 +424,8 @@ test_compare_cli (Fixture      *f,
     g_assert_cmpint (status, ==, 0);
     g_assert_nonnull (strstr (out, "\"lobe\": \"blue-1\", \"theirs\": \"blue-1\", \"kind\": \"blue\", \"match\": \"name\", \"iou\": 0.33333333333333331"));
     g_assert_nonnull (strstr (out, "\"lobe\": null, \"theirs\": \"B-far\""));
+    g_assert_nonnull (strstr (out, "\"tdyn_ratio\": null, \"review\": null"));
+    g_assert_nonnull (strstr (out, "\"review\": \"questioned\""));
   }
   {
     const char *args[] = { "compare", mp, "--format", "xml", tp, NULL };

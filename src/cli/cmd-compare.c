@@ -9,18 +9,22 @@
 #include "efflux-cli.h"
 #include "efflux-compare.h"
 #include "efflux-io.h"
+#include "efflux-review.h"
 
 static const char * const columns[] = {
   "lobe", "theirs", "kind", "match", "iou", "dv1_kms", "dv2_kms",
-  "mass_ratio", "momentum_ratio", "energy_ratio", "tdyn_ratio", NULL
+  "mass_ratio", "momentum_ratio", "energy_ratio", "tdyn_ratio", "review", NULL
 };
-#define N_COLUMNS 11
+#define N_COLUMNS 12
+#define COLUMN_REVIEW 11
 
-/* Cell text; precise: %.17g (csv), else %.4g (text). Empty for missing values. */
+/* Cell text; precise: %.17g (csv), else %.4g (text). Empty for missing values. The review
+ * column: the status of my review note on their lobe (efflux-review.h), empty when none. */
 static char *
 cell (const EffluxCompareRow *r,
       guint                   c,
-      gboolean                precise)
+      gboolean                precise,
+      const EffluxReview     *review)
 {
   double v;
   char buf[G_ASCII_DTOSTR_BUF_SIZE];
@@ -44,6 +48,12 @@ cell (const EffluxCompareRow *r,
     case 6:
       v = r->dv2_kms;
       break;
+    case COLUMN_REVIEW:
+      {
+        const EffluxReviewNote *n = r->theirs != NULL ? efflux_review_find (review, r->theirs) : NULL;
+
+        return g_strdup (n != NULL ? efflux_review_status_name (n->status) : "");
+      }
     default:
       v = r->ratio[c - 7];
       break;
@@ -75,6 +85,7 @@ csv_field (GString    *s,
 static void
 format_text (GString          *s,
              EffluxComparison *c,
+             EffluxReview     *review,
              const char       *mine,
              const char       *theirs)
 {
@@ -87,7 +98,7 @@ format_text (GString          *s,
   for (guint i = 0; i < n; i++)
     for (guint k = 0; k < N_COLUMNS; k++)
       {
-        char *t = cell (g_ptr_array_index (c->rows, i), k, FALSE);
+        char *t = cell (g_ptr_array_index (c->rows, i), k, FALSE, review);
 
         if (*t == '\0')
           {
@@ -99,9 +110,12 @@ format_text (GString          *s,
       }
   g_string_append_printf (s, "# mine:   %s (%s)\n", mine, c->mine_author != NULL ? c->mine_author : "no author");
   g_string_append_printf (s, "# theirs: %s (%s)\n", theirs, c->theirs_author != NULL ? c->theirs_author : "no author");
-  g_string_append (s, "# iou: intersection over union on my lobe's pixel grid; dv: theirs - mine (km/s); ratios: theirs / mine\n");
+  g_string_append (s, "# iou: intersection over union on my lobe's pixel grid; dv: theirs - mine (km/s); ratios: theirs / mine; "
+                     "review: my note on their lobe\n");
   for (guint k = 0; k < N_COLUMNS; k++)
     g_string_append_printf (s, "%s%-*s", k ? "  " : "", (int) width[k], columns[k]);
+  g_strchomp (s->str);
+  g_string_set_size (s, strlen (s->str));
   g_string_append_c (s, '\n');
   for (guint i = 0; i < n; i++)
     {
@@ -112,7 +126,7 @@ format_text (GString          *s,
 
           if (k)
             g_string_append (s, "  ");
-          if (k >= 4)   /* numbers right-aligned */
+          if (k >= 4 && k != COLUMN_REVIEW)   /* numbers right-aligned */
             g_string_append_printf (s, "%*s%s", (int) pad, "", t);
           else
             g_string_append_printf (s, "%s%*s", t, (int) pad, "");
@@ -125,7 +139,8 @@ format_text (GString          *s,
 
 static void
 format_csv (GString          *s,
-            EffluxComparison *c)
+            EffluxComparison *c,
+            EffluxReview     *review)
 {
   for (guint k = 0; k < N_COLUMNS; k++)
     g_string_append_printf (s, "%s%s", k ? "," : "", columns[k]);
@@ -134,7 +149,7 @@ format_csv (GString          *s,
     {
       for (guint k = 0; k < N_COLUMNS; k++)
         {
-          g_autofree char *t = cell (g_ptr_array_index (c->rows, i), k, TRUE);
+          g_autofree char *t = cell (g_ptr_array_index (c->rows, i), k, TRUE, review);
 
           if (k)
             g_string_append_c (s, ',');
@@ -162,6 +177,7 @@ json_side (GString    *s,
 static void
 format_json (GString          *s,
              EffluxComparison *c,
+             EffluxReview     *review,
              const char       *mine,
              const char       *theirs)
 {
@@ -195,9 +211,18 @@ format_json (GString          *s,
             }
           else if (k == 2 || k == 3)
             {
-              g_autofree char *t = cell (r, k, TRUE);
+              g_autofree char *t = cell (r, k, TRUE, review);
 
               efflux_json_string (s, t);
+            }
+          else if (k == COLUMN_REVIEW)
+            {
+              g_autofree char *t = cell (r, k, TRUE, review);
+
+              if (*t != '\0')
+                efflux_json_string (s, t);
+              else
+                g_string_append (s, "null");
             }
           else
             {
@@ -230,6 +255,7 @@ efflux_cmd_compare (int    argc,
   g_autoptr (EffluxDossier) mine = NULL;
   g_autoptr (EffluxDossier) theirs = NULL;
   g_autoptr (EffluxComparison) c = NULL;
+  g_autoptr (EffluxReview) review = NULL;
   g_autoptr (GString) s = g_string_new (NULL);
   GError *error = NULL;
   int status = EFFLUX_EXIT_OK;
@@ -239,7 +265,8 @@ efflux_cmd_compare (int    argc,
                                 "lobe: lobes matched by name, else by the largest overlap; the overlap "
                                 "(intersection over union on the pixel grid of your lobe's cube), the "
                                 "differences of the velocity ranges (theirs - mine) and the ratios "
-                                "theirs / mine of mass, momentum, energy and tdyn.");
+                                "theirs / mine of mass, momentum, energy and tdyn; last, the status of your "
+                                "review note on their lobe ([Review LOBE] in MINE, see efflux-review.h).");
   g_option_context_add_main_entries (context, entries, NULL);
   if (!efflux_cli_parse (context, &argc, &argv, &status))
     return status;
@@ -262,12 +289,15 @@ efflux_cmd_compare (int    argc,
 
   for (guint i = 0; i < c->notes->len; i++)
     fprintf (stderr, "efflux-cli: note: %s\n", (const char *) g_ptr_array_index (c->notes, i));
+  review = efflux_review_read (mine, &error);
+  if (review == NULL)
+    return efflux_cli_fail (error);
   if (strcmp (format, "csv") == 0)
-    format_csv (s, c);
+    format_csv (s, c, review);
   else if (strcmp (format, "json") == 0)
-    format_json (s, c, rest[0], rest[1]);
+    format_json (s, c, review, rest[0], rest[1]);
   else
-    format_text (s, c, rest[0], rest[1]);
+    format_text (s, c, review, rest[0], rest[1]);
 
   if (output != NULL)
     {
