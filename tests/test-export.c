@@ -267,6 +267,22 @@ test_errors (Fixture      *f,
 
     g_assert_cmpint (status, ==, 2);
   }
+  {
+    const char *args[] = { "export", "--help", NULL };
+    g_autofree char *err = NULL;
+    g_autofree char *o = run (g_getenv ("EFFLUX_CLI"), args, &status, &err);
+
+    g_assert_cmpint (status, ==, 0);
+    g_assert_nonnull (strstr (o, "--masks"));
+  }
+  {
+    const char *args[] = { "compare", "--help", NULL };
+    g_autofree char *err = NULL;
+    g_autofree char *o = run (g_getenv ("EFFLUX_CLI"), args, &status, &err);
+
+    g_assert_cmpint (status, ==, 0);
+    g_assert_nonnull (strstr (o, "--format"));
+  }
   g_assert_true (g_file_set_contents (empty, "[Source]\nname=E\nra-deg=1\ndec-deg=2\ndistance-pc=100\nvsys-kms=0\n"
                                              "[Assumptions]\ntex-k=20\nco-abundance=1e-4\n", -1, NULL));
   {

@@ -114,6 +114,7 @@ efflux_compare (const EffluxDossier       *mine,
   g_autofree int *mate_of_mine = g_new (int, MAX (nm, 1));
   g_autofree int *mate_of_theirs = g_new (int, MAX (nt, 1));
   g_autofree EffluxMatchKind *how = g_new (EffluxMatchKind, MAX (nm, 1));
+  g_autofree guint64 *n_mine = g_new0 (guint64, MAX (nm, 1));
   g_autoptr (EffluxComparison) c = g_new0 (EffluxComparison, 1);
   const char *author;
 
@@ -142,6 +143,7 @@ efflux_compare (const EffluxDossier       *mine,
       ma = efflux_lobe_mask_new (cube, a->ra_deg, a->dec_deg, a->n_vertices, what_a, error);
       if (ma == NULL)
         return NULL;
+      n_mine[i] = ma->n_pixels;
       for (guint j = 0; j < nt; j++)
         {
           const EffluxDossierLobe *b = g_ptr_array_index (theirs->lobes, j);
@@ -251,8 +253,8 @@ efflux_compare (const EffluxDossier       *mine,
               r->ratio[EFFLUX_RATIO_TDYN] = ratio (rt->tdyn_yr, rm->tdyn_yr);
             }
         }
-      else if (nt > 0)
-        r->n_mine = ov[(gsize) i * nt].n_mine;
+      else
+        r->n_mine = n_mine[i];
       g_ptr_array_add (c->rows, r);
     }
   for (guint j = 0; j < nt; j++)
