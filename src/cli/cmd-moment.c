@@ -102,6 +102,10 @@ efflux_cmd_moment (int    argc,
     }
 
   load.no_noise = clip_sigma <= 0.0;
+  /* read only the channels of the range (and estimate the noise of those alone) */
+  load.channel_subset = TRUE;
+  load.v1_kms = v1;
+  load.v2_kms = v2;
   cube = efflux_cube_load (rest[0], &load, NULL, NULL, NULL, &error);
   if (cube == NULL)
     return efflux_cli_fail (error);

@@ -764,6 +764,7 @@ copy_run (guint32       *dst,
 #define TILE 64
 #define TILE_K 32
 
+
 static void
 transpose_chunk (const guint32 *in,
                  guint32       *out,
@@ -838,22 +839,32 @@ transpose_chunk (const guint32 *in,
 #endif
 }
 
-/* The fast path for uncompressed, unscaled BITPIX = -32 data: pread() the big-endian words and
- * swap them while transposing, on two threads. */
+/* The fast path for uncompressed, unscaled BITPIX = -32 data: pread () the big-endian words and
+ * swap them while transposing, on two threads. A unit of work is a block of chunk_n = 16 slices
+ * of the slowest file axis by `rows` rows of the middle one: chunk_n short preads of
+ * rows x n_fast words, about 512 KiB in all, small enough to stay in a core's L2 cache between
+ * the read and the transpose. 16 slices give each spectrum whole 64-byte lines per unit, written
+ * with non-temporal stores (4 slices per chunk, as before, wrote 16-byte pieces of lines and took
+ * 1.7x the CPU time: 0.25 s against 0.14 s for 256 MiB, measured on a loaded machine). */
 typedef struct
 {
   int            fd;
   guint64        offset;       /* file offset of the first data byte */
   gsize          plane;        /* words per slice of the slowest axis */
-  gsize          chunk_n;      /* slices per chunk */
+  gsize          n_fast;       /* words per row (the fastest file axis) */
+  gsize          n_mid;        /* rows per slice (the middle file axis) */
+  gsize          rows;         /* rows per unit of work */
+  gsize          row_blocks;   /* units per chunk of slices */
+  gsize          chunk_n;      /* slices per unit of work */
   gsize          n_slow;
-  gsize          n_chunks;
-  Loop           loops[3];     /* loops[2].n set per chunk */
+  gsize          n_chunks;     /* units of work in all */
+  Loop           loops[3];     /* loops[1].n and loops[2].n set per unit */
   gsize          slow_stride_out;
+  gsize          mid_stride_out;
   guint32       *out;
   GCancellable  *cancellable;
-  gint           next;         /* atomic: next chunk to take */
-  gint           done;         /* atomic: chunks finished */
+  gint           next;         /* atomic: next unit to take */
+  gint           done;         /* atomic: units finished */
   gint           failed;       /* atomic: 1 read error, 2 cancelled, 3 no memory */
   int            err_no;
 } RawRead;
@@ -862,7 +873,7 @@ static gpointer
 raw_read_worker (gpointer data)
 {
   RawRead *r = data;
-  g_autofree guint32 *buf = g_try_malloc (r->plane * r->chunk_n * sizeof (guint32));
+  g_autofree guint32 *buf = g_try_malloc (r->n_fast * r->rows * r->chunk_n * sizeof (guint32));
 
   if (buf == NULL)
     {
@@ -872,7 +883,7 @@ raw_read_worker (gpointer data)
   for (;;)
     {
       gsize c = (gsize) g_atomic_int_add (&r->next, 1);
-      gsize j0, cn, want, got = 0;
+      gsize j0, cn, y0, yn, run;
       Loop loops[3];
 
       if (c >= r->n_chunks || g_atomic_int_get (&r->failed) != 0)
@@ -882,27 +893,37 @@ raw_read_worker (gpointer data)
           g_atomic_int_set (&r->failed, 2);
           break;
         }
-      j0 = c * r->chunk_n;
+      j0 = c / r->row_blocks * r->chunk_n;
       cn = MIN (r->chunk_n, r->n_slow - j0);
-      want = r->plane * cn * sizeof (guint32);
-      while (got < want)
+      y0 = c % r->row_blocks * r->rows;
+      yn = MIN (r->rows, r->n_mid - y0);
+      run = yn * r->n_fast * sizeof (guint32);
+      for (gsize j = 0; j < cn; j++)
         {
-          ssize_t n = pread (r->fd, (char *) buf + got, want - got,
-                             (off_t) (r->offset + (guint64) j0 * r->plane * sizeof (guint32) + got));
+          char *dst = (char *) (buf + j * yn * r->n_fast);
+          guint64 at = r->offset + ((guint64) (j0 + j) * r->plane + (guint64) y0 * r->n_fast) * sizeof (guint32);
+          gsize got = 0;
 
-          if (n < 0 && errno == EINTR)
-            continue;
-          if (n <= 0)
+          while (got < run)
             {
-              r->err_no = n < 0 ? errno : EIO;
-              g_atomic_int_set (&r->failed, 1);
-              return NULL;
+              ssize_t n = pread (r->fd, dst + got, run - got, (off_t) (at + got));
+
+              if (n < 0 && errno == EINTR)
+                continue;
+              if (n <= 0)
+                {
+                  r->err_no = n < 0 ? errno : EIO;
+                  g_atomic_int_set (&r->failed, 1);
+                  return NULL;
+                }
+              got += (gsize) n;
             }
-          got += (gsize) n;
         }
       memcpy (loops, r->loops, sizeof loops);
+      loops[1].n = yn;
       loops[2].n = cn;
-      transpose_chunk (buf, r->out + j0 * r->slow_stride_out, loops, TRUE);
+      loops[2].s_in = yn * r->n_fast;
+      transpose_chunk (buf, r->out + j0 * r->slow_stride_out + y0 * r->mid_stride_out, loops, TRUE);
       g_atomic_int_inc (&r->done);
     }
   return NULL;
@@ -924,6 +945,30 @@ alloc_voxels (gsize bytes)
   madvise (p, bytes - bytes % huge, MADV_HUGEPAGE);
 #endif
   return p;
+}
+
+/* The WCS cards whose value must be a finite number (wcspih skips a card it cannot parse, so
+ * CDELT3 = 'fast' or CRVAL3 = NAN would silently become the default). */
+static gboolean
+wcs_number_card (const char *key)
+{
+  static const char *const words[] = { "CRVAL", "CDELT", "CRPIX", "CROTA", "CD", "PC" };
+  static const char *const exact[] = { "RESTFRQ", "RESTFREQ", "RESTWAV", "EQUINOX", "EPOCH" };
+
+  for (guint w = 0; w < G_N_ELEMENTS (exact); w++)
+    if (strcmp (key, exact[w]) == 0)
+      return TRUE;
+  for (guint w = 0; w < G_N_ELEMENTS (words); w++)
+    if (g_str_has_prefix (key, words[w]) && g_ascii_isdigit (key[strlen (words[w])]))
+      {
+        const char *r = key + strlen (words[w]);
+
+        while (g_ascii_isdigit (*r) || *r == '_')
+          r++;
+        /* an alternate description's letter may follow */
+        return *r == '\0' || (g_ascii_isupper (r[0]) && r[1] == '\0');
+      }
+  return FALSE;
 }
 
 /* Make the header text safe for wcspih, whose parser trusts its input: control and non-ASCII
@@ -949,6 +994,28 @@ check_header_cards (char        *header,
         continue;
       while (i < 80 && card[i] == ' ')
         i++;
+      {
+        g_autofree char *key = g_strstrip (g_strndup (card, 8));
+
+        if (wcs_number_card (key))
+          {
+            g_autofree char *value = g_strndup (card + i, (gsize) (80 - i));
+            char *slash = strchr (value, '/'), *end = NULL;
+            double v;
+
+            if (slash != NULL)
+              *slash = '\0';
+            g_strstrip (value);
+            g_strdelimit (value, "Dd", 'E');
+            v = g_ascii_strtod (value, &end);
+            if (value[0] == '\0' || end == value || *end != '\0' || !isfinite (v))
+              {
+                g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: %s = %s: not a finite number", path, key,
+                             value[0] ? value : "(no value)");
+                return FALSE;
+              }
+          }
+      }
       if (i < 80 && card[i] == '\'')
         {
           gboolean closed = FALSE;
@@ -1030,6 +1097,7 @@ efflux_cube_load (const char                  *path,
   g_autofree double *nu_sky = NULL;
   long stokes_plane[MAX_AXES];
   int pol_index = 0;
+  gsize k_first = 0;   /* first file channel kept (options->channel_subset) */
 
   wcserr_enable (1);
 
@@ -1755,6 +1823,22 @@ efflux_cube_load (const char                  *path,
       }
   }
 
+  /* --- channels asked for (the spectral axis slowest in the file) ------------------------ */
+  if (options != NULL && options->channel_subset && ispec > ilng && ispec > ilat)
+    {
+      gsize kb = 0, ke = 0;
+
+      if (efflux_cube_channel_range (cube, options->v1_kms, options->v2_kms, &kb, &ke) && ke - kb < nchan)
+        {
+          memmove (cube->velocity, cube->velocity + kb, (ke - kb) * sizeof (double));
+          memmove (cube->k_per_unit, cube->k_per_unit + kb, (ke - kb) * sizeof (double));
+          k_first = kb;
+          nchan = ke - kb;
+          cube->nchan = nchan;
+          bytes = nx * ny * nchan * sizeof (float);
+        }
+    }
+
   /* --- memory ---------------------------------------------------------------------------- */
   {
     guint64 avail = efflux_memory_available ();
@@ -1811,7 +1895,7 @@ efflux_cube_load (const char                  *path,
       if (i != a0 && i != a1 && naxes[i] != 1)
         contiguous = FALSE;
     plane = (gsize) naxes[a0] * (gsize) naxes[a1];
-    n_slow = (gsize) naxes[a2];
+    n_slow = a2 == ispec ? nchan : (gsize) naxes[a2];
     /* about 4 MiB per chunk, at most 32 slices of the slowest axis */
     chunk_n = MAX ((gsize) 1, (4u * 1024u * 1024u / sizeof (float)) / plane);
     chunk_n = MIN (chunk_n, (gsize) 32);
@@ -1852,13 +1936,21 @@ efflux_cube_load (const char                  *path,
                          status != 0 ? "no data address" : g_strerror (e));
             goto out;
           }
-        r.offset = (guint64) datastart;
+        r.offset = (guint64) datastart + (guint64) k_first * plane * sizeof (guint32);
         r.plane = plane;
-        r.chunk_n = chunk_n;
+        r.n_fast = (gsize) naxes[a0];
+        r.n_mid = (gsize) naxes[a1];
+        /* 16 slices: each spectrum gets whole 64-byte lines of 16 channels (non-temporal stores
+         * of whole lines); rows to make about 512 KiB */
+        r.chunk_n = MIN ((gsize) 16, n_slow);
+        r.rows = MAX ((gsize) 1, (512u * 1024u / sizeof (guint32)) / (r.chunk_n * r.n_fast));
+        r.rows = MIN (r.rows, r.n_mid);
+        r.row_blocks = (r.n_mid + r.rows - 1) / r.rows;
         r.n_slow = n_slow;
-        r.n_chunks = (n_slow + chunk_n - 1) / chunk_n;
+        r.n_chunks = (n_slow + r.chunk_n - 1) / r.chunk_n * r.row_blocks;
         memcpy (r.loops, loops, sizeof loops);
         r.slow_stride_out = out_stride[a2];
+        r.mid_stride_out = out_stride[a1];
         r.out = (guint32 *) cube->data;
         r.cancellable = cancellable;
         if (progress != NULL)
@@ -1935,7 +2027,7 @@ efflux_cube_load (const char                  *path,
 
                 for (int i = 0; i < naxis; i++)
                   first[i] = 1;
-                first[a2] = (LONGLONG) j0 + 1;
+                first[a2] = (LONGLONG) (j0 + k_first) + 1;
                 fits_read_pixll (f, TFLOAT, first, (LONGLONG) (plane * cn), &nulval, buf, &anynul, &status);
               }
             else
@@ -1952,8 +2044,8 @@ efflux_cube_load (const char                  *path,
                 lpix[a0] = (long) naxes[a0];
                 fpix[a1] = 1;
                 lpix[a1] = (long) naxes[a1];
-                fpix[a2] = (long) j0 + 1;
-                lpix[a2] = (long) (j0 + cn);
+                fpix[a2] = (long) (j0 + k_first) + 1;
+                lpix[a2] = (long) (j0 + k_first + cn);
                 fits_read_subset (f, TFLOAT, fpix, lpix, inc, &nulval, buf, &anynul, &status);
               }
             if (status != 0)
@@ -1981,6 +2073,20 @@ efflux_cube_load (const char                  *path,
             spec[k] = (float) (spec[k] * cube->k_per_unit[k]);
         }
     }
+
+  /* a cube without a single finite value can show and measure nothing */
+  {
+    gsize n = nx * ny * nchan, i = 0;
+
+    while (i < n && !isfinite (cube->data[i]))
+      i++;
+    if (i == n)
+      {
+        g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                     "%s: no finite value in the data: every voxel is NaN, infinite or BLANK", path);
+        goto out;
+      }
+  }
 
   if (g_cancellable_set_error_if_cancelled (cancellable, error))
     goto out;

@@ -74,6 +74,14 @@ typedef struct
 {
   int  hdu;          /* 0: the primary HDU or the first image extension holding a cube */
   gboolean no_noise; /* skip the noise estimate */
+  /* Optional: keep only the channels whose centre velocity lies in [v1_kms, v2_kms] (inclusive,
+   * either order, as efflux_cube_channel_range), and read only those from the file; the noise
+   * estimate then covers only them. FALSE (zero): all channels. Honoured when the spectral axis
+   * is the slowest of the three data axes (the usual order); otherwise, and when no channel lies
+   * in the range, all channels are kept. Callers find their channels with
+   * efflux_cube_channel_range on the loaded cube either way. */
+  gboolean channel_subset;
+  double   v1_kms, v2_kms;
 } EffluxCubeLoadOptions;
 
 /* Read a FITS cube. Errors are EFFLUX_ERROR_* with one line naming the file and the header card. */
