@@ -1786,7 +1786,10 @@ measure_streaming (const EffluxDossier *d,
       options.no_noise = isfinite (dc->rms_k);
       cube = efflux_cube_load (dc->abs_path, &options, cancellable, NULL, NULL, error);
       if (cube == NULL)
-        return NULL;
+        {
+          g_prefix_error (error, "%s: [Cube %s] path: ", d->path, dc->id);
+          return NULL;
+        }
       g_hash_table_insert (owned, g_strdup (dc->id), cube);
       g_hash_table_insert (cubes, g_strdup (dc->id), cube);
     }
@@ -1901,7 +1904,11 @@ efflux_measure_load_cubes (const EffluxDossier *d,
       options.no_noise = isfinite (dc->rms_k);
       cube = efflux_cube_load (dc->abs_path, &options, cancellable, NULL, NULL, error);
       if (cube == NULL)
-        return NULL;
+        {
+          /* name the dossier key that points at the file too */
+          g_prefix_error (error, "%s: [Cube %s] path: ", d->path, dc->id);
+          return NULL;
+        }
       g_hash_table_insert (cubes, g_strdup (dc->id), cube);
     }
   return g_steal_pointer (&cubes);
@@ -1922,12 +1929,20 @@ efflux_measure_dossier (const EffluxDossier *d,
   for (guint i = 0; i < d->cubes->len; i++)
     {
       const EffluxDossierCube *dc = g_ptr_array_index (d->cubes, i);
+      gboolean needed = dc->role == EFFLUX_CUBE_ROLE_ISOTOPOLOGUE && d->opacity == EFFLUX_OPACITY_FROM_ISOTOPOLOGUE;
       GError *local = NULL;
-      StreamCube *sc = stream_cube_open (dc->abs_path, budget, cancellable, &local);
+      StreamCube *sc;
+
+      for (guint j = 0; j < d->lobes->len && !needed; j++)
+        if (strcmp (((EffluxDossierLobe *) g_ptr_array_index (d->lobes, j))->cube_id, dc->id) == 0)
+          needed = TRUE;
+      if (!needed)
+        continue;
+      sc = stream_cube_open (dc->abs_path, budget, cancellable, &local);
 
       if (local != NULL)
         {
-          g_propagate_error (error, local);
+          g_propagate_prefixed_error (error, local, "%s: [Cube %s] path: ", d->path, dc->id);
           return NULL;
         }
       if (sc != NULL)
