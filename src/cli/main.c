@@ -27,6 +27,7 @@ static const Command commands[] = {
   { "merge", efflux_cmd_merge, "join the csv parts of a sharded measurement (measure --shard K/N)" },
   { "compare", efflux_cmd_compare, "compare two dossiers of one source lobe by lobe: overlap, velocities, ratios" },
   { "export", efflux_cmd_export, "export the lobes as FITS masks (2-D, 3-D) or IVOA STC-S polygons" },
+  { "shellfit", efflux_cmd_shellfit, "fit a wind-driven shell to a cut's PV emission: inclination, age" },
   { "budget", efflux_cmd_budget, "outflow energy and momentum against the cloud's turbulence and binding" },
 };
 

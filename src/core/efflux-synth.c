@@ -62,6 +62,8 @@ typedef struct
   double   vmin_kms, vmax_kms;  /* true speeds along the axis */
   double   gamma;
   double   half_opening_deg;
+  gboolean shell;           /* shape=shell: a wind-driven shell (see build_shell) */
+  double   shell_c;         /* z = C R^2, C in 1/arcsec (lengths in arcsec at the distance) */
 } SynthLobe;
 
 typedef struct
@@ -366,7 +368,8 @@ static const char * const physics_keys[] = { "tex-k", "tbg-k", "co-abundance", "
 static const char * const ambient_keys[] = { "mass-msun", "fwhm-kms", "size-fwhm-arcsec",
                                              "exclude-kms", NULL };
 static const char * const lobe_keys[] = { "kind", "mass-msun", "length-au", "vmin-kms", "vmax-kms",
-                                          "gamma", "half-opening-deg", NULL };
+                                          "gamma", "half-opening-deg", "shape", "shell-c-per-arcsec",
+                                          NULL };
 static const char * const jet_keys[] = { "speed-kms", "sio-abundance", "width-arcsec",
                                          "knot-length-arcsec", "knot-fwhm-kms", "knot-mass-msun",
                                          "blue-knot-ages-yr", "red-knot-ages-yr", NULL };
@@ -494,8 +497,28 @@ parse_recipe (Reader            *r,
       lobe->vmax_kms = get_ranged (r, g, "vmax-kms", TRUE, 0, 0, TRUE, INFINITY, FALSE);
       if (!r->failed && !(lobe->vmax_kms > lobe->vmin_kms))
         fail (r, g, "vmax-kms", "must exceed vmin-kms (%g)", lobe->vmin_kms);
-      lobe->gamma = get_ranged (r, g, "gamma", TRUE, 0, -10, FALSE, 20, FALSE);
-      lobe->half_opening_deg = get_ranged (r, g, "half-opening-deg", TRUE, 0, 0, TRUE, 60, FALSE);
+      {
+        g_autofree char *shape = get_string (r, g, "shape", FALSE, "cone");
+        if (shape != NULL && strcmp (shape, "cone") != 0 && strcmp (shape, "shell") != 0)
+          fail (r, g, "shape", "'%s' is neither cone nor shell", shape);
+        lobe->shell = shape != NULL && strcmp (shape, "shell") == 0;
+      }
+      if (lobe->shell)
+        {
+          /* a shell has no power-law spectrum nor cone: those keys would be ignored, so refuse them */
+          if (g_key_file_has_key (r->kf, g, "gamma", NULL))
+            fail (r, g, "gamma", "not used by shape=shell (the mass is uniform along the axis)");
+          if (g_key_file_has_key (r->kf, g, "half-opening-deg", NULL))
+            fail (r, g, "half-opening-deg", "not used by shape=shell (shell-c-per-arcsec gives its width)");
+          lobe->shell_c = get_ranged (r, g, "shell-c-per-arcsec", TRUE, 0, 0, TRUE, INFINITY, FALSE);
+        }
+      else
+        {
+          if (g_key_file_has_key (r->kf, g, "shell-c-per-arcsec", NULL))
+            fail (r, g, "shell-c-per-arcsec", "only for shape=shell");
+          lobe->gamma = get_ranged (r, g, "gamma", TRUE, 0, -10, FALSE, 20, FALSE);
+          lobe->half_opening_deg = get_ranged (r, g, "half-opening-deg", TRUE, 0, 0, TRUE, 60, FALSE);
+        }
     }
 
   if (g_key_file_has_group (r->kf, "Jet") && !r->failed)
@@ -948,6 +971,101 @@ build_lobe (const EffluxSynthRecipe *rc,
   return TRUE;
 }
 
+/* A wind-driven shell (Lee et al. 2000, ApJ 542, 925): the parabolic surface z = C R^2 around the
+ * axis, from z = vmin t0 to z = length (true lengths, in arcsec at the distance), in a Hubble flow
+ * v = r / t0 with t0 = length-au / vmax-kms (so the tip moves at vmax along the axis). The mass is
+ * uniform per unit z and in azimuth phi: SHELL_NZ x SHELL_NPHI samples at the midpoints of equal
+ * cells. A sample at (z, R = sqrt (z / C), phi) lies at rho = R cos phi in the plane holding the
+ * axis and the line of sight, t = R sin phi across; it is seen at the projected offset
+ * s = z sin i + rho cos i along the lobe's direction and has the line-of-sight position
+ * l = z cos i - rho sin i away from the observer for the red lobe (its mirror for the blue one),
+ * hence the velocity vsys +- l / t0. In the cut plane this is REFERENCES.md 1.10 item 2 with
+ * a = 90 - i. Each sample's mass goes to the channel holding its velocity and, bilinearly, to the
+ * four pixels around its position; the truth per channel is the sum of what was put there. */
+#define SHELL_NZ 600
+#define SHELL_NPHI 360
+
+static gboolean
+build_shell (const EffluxSynthRecipe *rc,
+             const Geometry          *geo,
+             const SynthLobe         *lobe,
+             double                   h2_per_gram,
+             double                  *h2,
+             LobeTruth               *lt,
+             GError                 **error)
+{
+  double sg = sign_of_lobe (lobe), vs = lobe->red ? 1.0 : -1.0;
+  double t0_s = lobe->length_au * EFFLUX_AU / (lobe->vmax_kms * EFFLUX_KM);
+  double z_max = lobe->length_au / rc->distance_pc;                 /* arcsec */
+  double z_min = lobe->vmin_kms / lobe->vmax_kms * z_max;
+  double kms_per_arcsec = rc->distance_pc * EFFLUX_AU / t0_s / EFFLUX_KM;
+  double dm_g = lobe->mass_msun * EFFLUX_MSUN / ((double) SHELL_NZ * SHELL_NPHI);
+  double v0 = channel_velocity (rc, 0);
+  g_autofree double *chan_mass = g_new0 (double, rc->nchan);
+  double s_max = 0.0, w_max = 0.0;
+
+  lt->t0_yr = t0_s / EFFLUX_YR;
+  lt->v = g_array_new (FALSE, FALSE, sizeof (double));
+  lt->m = g_array_new (FALSE, FALSE, sizeof (double));
+  for (int iz = 0; iz < SHELL_NZ; iz++)
+    {
+      double z = z_min + (z_max - z_min) * (iz + 0.5) / SHELL_NZ;
+      double rr = sqrt (z / lobe->shell_c);
+
+      for (int ip = 0; ip < SHELL_NPHI; ip++)
+        {
+          double phi = 2.0 * G_PI * (ip + 0.5) / SHELL_NPHI;
+          double rho = rr * cos (phi), t = rr * sin (phi);
+          double s = z * geo->sin_i + rho * geo->cos_i;
+          double l = z * geo->cos_i - rho * geo->sin_i;
+          double v = rc->vsys_kms + vs * l * kms_per_arcsec;
+          double kf = (v - v0) / rc->dv_kms, x, y, fx, fy;
+          gssize k = (gssize) floor (kf + 0.5), ix, iy;
+
+          geometry_st_to_pixel (geo, sg * s, sg * t, &x, &y);
+          if (k < 0 || k >= (gssize) rc->nchan)
+            {
+              g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                           "%s: [Lobe %s] vmax-kms: the shell's line-of-sight velocity %.3f km/s runs "
+                           "off the spectral axis", rc->path, lobe->name, v);
+              return FALSE;
+            }
+          if (x < 0.0 || y < 0.0 || x > (double) rc->nx - 1 || y > (double) rc->ny - 1)
+            {
+              g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                           "%s: [Lobe %s] length-au: the shell (%.2f arcsec projected) runs off the map",
+                           rc->path, lobe->name, s);
+              return FALSE;
+            }
+          s_max = MAX (s_max, s);
+          w_max = MAX (w_max, fabs (t));
+          ix = (gssize) floor (x);
+          iy = (gssize) floor (y);
+          fx = x - (double) ix;
+          fy = y - (double) iy;
+          for (int b = 0; b < 2; b++)
+            for (int a = 0; a < 2; a++)
+              {
+                double w = (a ? fx : 1.0 - fx) * (b ? fy : 1.0 - fy);
+                gssize px = MIN (ix + a, (gssize) rc->nx - 1), py = MIN (iy + b, (gssize) rc->ny - 1);
+                if (w > 0.0)
+                  h2[((gsize) py * rc->nx + (gsize) px) * rc->nchan + (gsize) k] += dm_g * w * h2_per_gram;
+              }
+          chan_mass[k] += dm_g / EFFLUX_MSUN;
+        }
+    }
+  for (gsize k = 0; k < rc->nchan; k++)
+    if (chan_mass[k] > 0.0)
+      {
+        double vc = channel_velocity (rc, k);
+        g_array_append_val (lt->v, vc);
+        g_array_append_val (lt->m, chan_mass[k]);
+      }
+  lt->s_max = s_max;
+  lt->w_max = w_max;
+  return TRUE;
+}
+
 static void
 build_ambient (const EffluxSynthRecipe *rc,
                const Geometry          *geo,
@@ -1122,9 +1240,12 @@ model_build (const EffluxSynthRecipe *rc,
   model->grid->bpa_deg = rc->bpa;
 
   for (guint l = 0; l < rc->lobes->len; l++)
-    if (!build_lobe (rc, &geo, g_ptr_array_index (rc->lobes, l), h2_per_gram, model->lobe_h2,
-                     &truths[l], error))
-      return NULL;
+    {
+      const SynthLobe *lobe = g_ptr_array_index (rc->lobes, l);
+      if (!(lobe->shell ? build_shell : build_lobe) (rc, &geo, lobe, h2_per_gram, model->lobe_h2,
+                                                     &truths[l], error))
+        return NULL;
+    }
   build_ambient (rc, &geo, h2_per_gram, model->ambient_h2);
   if (rc->has_jet && !build_jet (rc, &geo, h2_per_gram, model->jet_h2, error))
     return NULL;
@@ -1454,6 +1575,20 @@ truth_text (const EffluxSynthRecipe *rc,
       g_key_file_set_double (kf, g, "half-opening-deg", lobe->half_opening_deg);
       g_key_file_set_double (kf, g, "half-width-arcsec", lt->w_max);
       g_key_file_set_double (kf, g, "t0-yr", lt->t0_yr);
+      if (lobe->shell)
+        {
+          /* the shell's own truth (only for shape=shell: cone lobes keep their exact files) */
+          static const char * const not_for_shells[] = {
+            "momentum-true-msun-kms", "energy-true-erg", "momentum-true-in-range-msun-kms",
+            "energy-true-in-range-erg", "gamma", "half-opening-deg", NULL };
+          /* the speeds are not along the axis and there is no power law nor cone */
+          for (guint q = 0; not_for_shells[q] != NULL; q++)
+            g_key_file_remove_key (kf, g, not_for_shells[q], NULL);
+          g_key_file_set_double (kf, g, "rmax-obs-au", lt->s_max * rc->distance_pc);
+          g_key_file_set_string (kf, g, "shape", "shell");
+          g_key_file_set_double (kf, g, "shell-c-per-arcsec", lobe->shell_c);
+          g_key_file_set_double (kf, g, "inclination-deg", rc->incl_deg);
+        }
       {
         /* the densest voxel of lobe gas on this lobe's side of vsys, and its optical depth in
          * each CO cube (for the opacity-correction recovery tests) */
