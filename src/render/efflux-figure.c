@@ -863,9 +863,11 @@ sky_axes (cairo_t                   *cr,
           gboolean                   labels)
 {
   const EffluxCube *cube = b->cube;
+  /* About one labelled line per 45 pt of axis (labels are up to ~40 pt wide at 6 pt). */
+  int max_lines = CLAMP ((int) (cube->nx * b->s / 45.0), 2, 6);
   g_autoptr (EffluxSkyGrid) grid = efflux_skygrid_new (cube, -0.5, -0.5, cube->nx - 0.5,
                                                        cube->ny - 0.5, o->coords, d->ra_deg,
-                                                       d->dec_deg, 5);
+                                                       d->dec_deg, max_lines);
   double w = cube->nx * b->s, h = cube->ny * b->s, max_w = 0.0;
 
   set_ink (cr);
@@ -1787,18 +1789,56 @@ draw_channels (EffluxFigure              *figure,
                    d->path, cube->path, vlo, vhi);
       return -1;
     }
-  n_in = k1 - k0;
-  n_panels = MIN ((gsize) cols * rows, n_in);
-  npix = cube->nx * cube->ny;
-  chans = g_new (gsize, n_panels);
-  planes = g_new (float, npix * n_panels);
+  /* The candidate channels, in increasing velocity: those inside a shown lobe's range (all of
+   * [vlo, vhi] without lobes), so the ambient channels between the lobes are left out. */
+  {
+    g_autoptr (GArray) cand = g_array_new (FALSE, FALSE, sizeof (gsize));
+    gboolean any_lobe = FALSE;
+
+    for (guint i = 0; i < d->lobes->len; i++)
+      {
+        const EffluxDossierLobe *lobe = g_ptr_array_index (d->lobes, i);
+
+        any_lobe |= lobe_selected (o, lobe) && strcmp (lobe->cube_id, cube_id) == 0;
+      }
+    for (gsize j = 0; j < k1 - k0; j++)
+      {
+        gsize k = cube->dv >= 0 ? k0 + j : k1 - 1 - j;
+        gboolean inside = !any_lobe;
+
+        for (guint i = 0; i < d->lobes->len && !inside; i++)
+          {
+            const EffluxDossierLobe *lobe = g_ptr_array_index (d->lobes, i);
+
+            inside = lobe_selected (o, lobe) && strcmp (lobe->cube_id, cube_id) == 0
+                     && cube->velocity[k] >= lobe->v1_kms && cube->velocity[k] <= lobe->v2_kms;
+          }
+        if (inside)
+          g_array_append_val (cand, k);
+      }
+    n_in = cand->len;
+    n_panels = MIN ((gsize) cols * rows, n_in);
+    npix = cube->nx * cube->ny;
+    chans = g_new (gsize, MAX (n_panels, 1));
+    planes = g_new (float, npix * MAX (n_panels, 1));
+    for (guint i = 0; i < n_panels; i++)
+      {
+        /* Evenly spread over the candidates. */
+        gsize off = n_panels > 1 ? (gsize) llround ((double) i * (n_in - 1) / (n_panels - 1)) : n_in / 2;
+
+        chans[i] = g_array_index (cand, gsize, off);
+      }
+  }
+  if (n_panels == 0)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: no channel of %s lies in the lobes' ranges",
+                   d->path, cube->path);
+      return -1;
+    }
   for (guint i = 0; i < n_panels; i++)
     {
-      /* Evenly spread, in velocity order (the cube's channel order may decrease). */
-      gsize off = n_panels > 1 ? (gsize) llround ((double) i * (n_in - 1) / (n_panels - 1)) : n_in / 2;
-      gsize k = cube->dv >= 0 ? k0 + off : k1 - 1 - off;
+      gsize k = chans[i];
 
-      chans[i] = k;
       for (gsize pix = 0; pix < npix; pix++)
         planes[i * npix + pix] = cube->data[pix * cube->nchan + k];
     }
@@ -1809,8 +1849,8 @@ draw_channels (EffluxFigure              *figure,
     }
   g_string_truncate (figure->caption, 0);
   g_string_append_printf (figure->caption,
-                          "%s, %s: %u channel maps from %.2f to %.2f km/s (channel width %.3g km/s), "
-                          "brightness in K on one colour scale; the channel-centre velocity in each panel. "
+                          "%s, %s: %u channel maps from %.2f to %.2f km/s (channel width %.3g km/s) within "
+                          "the lobes' velocity ranges, brightness in K on one colour scale; the channel-centre velocity in each panel. "
                           "Dashed outlines: lobes; cross: source; ellipse: beam.",
                           d->name != NULL ? d->name : "", cube_id, n_panels, cube->velocity[chans[0]],
                           cube->velocity[chans[n_panels - 1]], fabs (cube->dv));
