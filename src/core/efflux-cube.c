@@ -1375,6 +1375,21 @@ efflux_cube_load (const char                  *path,
                    "%s: CDELT%d = 0: the spectral axis has no channel step", path, ispec + 1);
       goto out;
     }
+  /* the sky axes need a pixel size too (wcsset would only call the matrix singular) */
+  if (!(wcs->altlin & 2))
+    for (int i = 0; i < naxis; i++)
+      {
+        const char *t = wcs->ctype[i];
+        gboolean sky = g_str_has_prefix (t, "RA") || g_str_has_prefix (t, "DEC") ||
+                       (strlen (t) >= 4 && (strncmp (t + 1, "LON", 3) == 0 || strncmp (t + 1, "LAT", 3) == 0));
+
+        if (i != ispec && sky && wcs->cdelt[i] == 0.0)
+          {
+            g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                         "%s: CDELT%d = 0: the sky axis %s has no pixel size", path, i + 1, t);
+            goto out;
+          }
+      }
 
   /* wcslib's header fixes, each reported */
   {
