@@ -32,5 +32,9 @@ EffluxDocument *efflux_window_get_document (EffluxWindow *self);
 /* The Ledger's text: a header line, then one line per lobe and the total. */
 const char   *efflux_window_get_ledger_text (EffluxWindow *self);
 EffluxAssumptions *efflux_window_get_assumptions (EffluxWindow *self);
+/* The views around the Sky view (owned by the window). */
+GtkWidget    *efflux_window_get_cut_view      (EffluxWindow *self);
+GtkWidget    *efflux_window_get_spectrum_view (EffluxWindow *self);
+GtkWidget    *efflux_window_get_ledger        (EffluxWindow *self);
 
 G_END_DECLS
