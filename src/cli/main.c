@@ -28,6 +28,7 @@ static const Command commands[] = {
   { "compare", efflux_cmd_compare, "compare two dossiers of one source lobe by lobe: overlap, velocities, ratios" },
   { "export", efflux_cmd_export, "export the lobes as FITS masks (2-D, 3-D) or IVOA STC-S polygons" },
   { "shellfit", efflux_cmd_shellfit, "fit a wind-driven shell to a cut's PV emission: inclination, age" },
+  { "knots", efflux_cmd_knots, "find the knots along a jet cut: offsets, velocities, ages, intervals" },
   { "budget", efflux_cmd_budget, "outflow energy and momentum against the cloud's turbulence and binding" },
 };
 
