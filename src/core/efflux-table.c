@@ -99,7 +99,9 @@ static const ParamInfo param_info[] = {
 };
 
 /* the metadata columns of csv, after the table's own */
-static const char * const csv_meta[] = { "efflux_version", "sample_index", "sample_size", "dossier" };
+static const char * const csv_meta[] = { "efflux_version", "sample_index", "sample_size", "dossier", "notes" };
+/* the notes of a source in one csv cell */
+#define CSV_NOTE_SEPARATOR " | "
 /* csv names the assumption columns with this prefix (the table has its own inclination_deg and
  * opacity columns) */
 #define CSV_PARAM_PREFIX "assumed_"
@@ -512,6 +514,15 @@ write_csv (const EffluxTable *t)
       csv_field (s, t->version);
       g_string_append_printf (s, ",%u,%u,", src->sample_index, src->sample_size);
       csv_field (s, src->dossier);
+      g_string_append_c (s, ',');
+      {
+        g_autoptr (GString) notes = g_string_new (NULL);
+
+        for (guint n = 0; n < src->notes->len; n++)
+          g_string_append_printf (notes, "%s%s", n ? CSV_NOTE_SEPARATOR : "",
+                                  (const char *) g_ptr_array_index (src->notes, n));
+        csv_field (s, notes->str);
+      }
       for (guint p = 0; p < src->params->len; p++)
         {
           const EffluxTableParam *param = g_ptr_array_index (src->params, p);
@@ -701,6 +712,17 @@ efflux_table_new_from_csv (const char  *data,
           src = source_new ();
           src->source = g_strdup (g_ptr_array_index (rec, 0));
           src->dossier = g_strdup (g_ptr_array_index (rec, meta + 3));
+          {
+            const char *notes = g_ptr_array_index (rec, meta + 4);
+
+            if (*notes != '\0')
+              {
+                g_auto (GStrv) each = g_strsplit (notes, CSV_NOTE_SEPARATOR, -1);
+
+                for (guint n = 0; each[n] != NULL; n++)
+                  g_ptr_array_add (src->notes, g_strdup (each[n]));
+              }
+          }
           src->sample_index = index;
           src->sample_size = size;
           for (guint f = meta + G_N_ELEMENTS (csv_meta); f < nfield; f++)

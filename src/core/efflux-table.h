@@ -21,8 +21,8 @@ G_BEGIN_DECLS
  *
  * Formats:
  *   csv       header row, then the rows; the metadata follow as trailing columns on every row
- *             (efflux_version, sample_index, sample_size, dossier, then one column per
- *             assumption), so that every CSV reader (astropy's csv format, Python's csv module,
+ *             (efflux_version, sample_index, sample_size, dossier, notes joined by " | ", then
+ *             assumed_KEY for each assumption), so that every CSV reader (astropy's csv format, Python's csv module,
  *             spreadsheets) reads the file as it is: leading '#' lines break astropy's csv reader
  *             and most others, and no sidecar file is written. Parts written in csv can be merged.
  *   ecsv      ECSV 1.0 (astropy.table.Table.read): units, descriptions, the metadata in `meta`.

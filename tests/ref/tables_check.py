@@ -94,6 +94,7 @@ for r in data:
     key = int(r[meta_at + 1])
     assumed[key] = {h[len("assumed_"):]: c for h, c in zip(header, r) if h.startswith("assumed_")}
     assumed[key]["__dossier"] = r[meta_at + 3]
+    assumed[key]["__notes"] = r[meta_at + 4].split(" | ") if r[meta_at + 4] else []
 
 
 def check_table(t, what):
@@ -137,6 +138,8 @@ for s in srcs:
     a = assumed[s["sample_index"]]
     if s["dossier"] != a["__dossier"]:
         fail("ecsv: source %s dossier %r" % (s["source"], s["dossier"]))
+    if list(s["notes"]) != a["__notes"]:
+        fail("ecsv: source %s notes %r, csv %r" % (s["source"], s["notes"], a["__notes"]))
     for k, v in s["assumptions"].items():
         c = a[k]
         if isinstance(v, str):
@@ -151,6 +154,8 @@ for name in columns:
     ucd = t[name].meta.get("ucd")
     if not ucd or not check_ucd(ucd, check_controlled_vocabulary=True):
         fail("ecsv: column %s: UCD %r is not valid UCD1+" % (name, ucd))
+if not any(a["__notes"] for a in assumed.values()):
+    fail("no source has a note: the notes are not checked")
 print("ok ecsv: astropy.table.Table.read gives the csv values (1e-12), units, descriptions, "
       "UCDs and the assumptions of %d sources" % n_sources)
 
