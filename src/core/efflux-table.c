@@ -1483,6 +1483,9 @@ static const char rounding_rule[] =
   "significant digit (two when it starts with 1) and the value is rounded to the same place; "
   "values without an uncertainty keep three significant digits.";
 
+/* AASTeX deluxetable: \tabletypesize, \tablecaption and \tablehead go inside the environment,
+ * before \startdata; \tablecomments after \enddata (AAS journals, AASTeX v6.1 author guide,
+ * section on deluxetable). */
 static char *
 write_latex (const EffluxTable *t)
 {
