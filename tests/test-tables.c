@@ -626,6 +626,19 @@ test_errors (void)
     assert_one_line_error (argv, 2, "no/such/folder/t.csv");
   }
   {
+    g_autofree char *p1_text = read_file (p1);
+    g_autofree char *huge = NULL;
+    GString *s = g_string_new (p1_text);
+
+    /* a sample size no machine holds: refused, not allocated */
+    g_string_replace (s, "," PACKAGE_VERSION ",1,3,a.efflux,", "," PACKAGE_VERSION ",1,4294967295,a.efflux,", 0);
+    huge = g_string_free (s, FALSE);
+    g_assert_cmpstr (huge, !=, p1_text);
+    write_file (bad, huge);
+    const char *argv[] = { f.cli, "merge", bad, NULL };
+    assert_one_line_error (argv, 1, "sample_size '4294967295'");
+  }
+  {
     write_file (bad, "a,b\n1,2\n");
     const char *argv[] = { f.cli, "merge", bad, NULL };
     assert_one_line_error (argv, 1, "no efflux_version column");

@@ -690,12 +690,13 @@ efflux_table_new_from_csv (const char  *data,
                        name, r + 1, version, t->version);
           return NULL;
         }
-      if (!g_ascii_string_to_unsigned (g_ptr_array_index (rec, meta + 1), 10, 1, G_MAXUINT, &index, NULL)
-          || !g_ascii_string_to_unsigned (g_ptr_array_index (rec, meta + 2), 10, 1, G_MAXUINT, &size, NULL)
+      /* at most 2^24 sources: merge keeps one slot per source of the sample */
+      if (!g_ascii_string_to_unsigned (g_ptr_array_index (rec, meta + 1), 10, 1, 1u << 24, &index, NULL)
+          || !g_ascii_string_to_unsigned (g_ptr_array_index (rec, meta + 2), 10, 1, 1u << 24, &size, NULL)
           || index > size)
         {
           g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                       "%s: row %u: sample_index '%s' / sample_size '%s' are not 1 <= index <= size",
+                       "%s: row %u: sample_index '%s' / sample_size '%s' are not 1 <= index <= size <= 16777216",
                        name, r + 1, (const char *) g_ptr_array_index (rec, meta + 1),
                        (const char *) g_ptr_array_index (rec, meta + 2));
           return NULL;
