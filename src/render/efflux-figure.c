@@ -1346,10 +1346,11 @@ draw_cut (EffluxFigure              *figure,
         const double *rgb = lobe_rgb (lobe);
         double y1 = plot_y (&p, CLAMP (lobe->v2_kms, vmin, vmax));
         double y2 = plot_y (&p, CLAMP (lobe->v1_kms, vmin, vmax));
-        double x = p.x + p.w + 3.0 + 4.0 * slot++;
+        double x = p.x + p.w + 3.0 + 4.0 * slot;
 
         if (!lobe_selected (o, lobe))
           continue;
+        slot++;
         cairo_set_source_rgb (cr, rgb[0], rgb[1], rgb[2]);
         cairo_rectangle (cr, x, y1, 2.5, y2 - y1);
         cairo_fill (cr);
