@@ -157,7 +157,14 @@ GHashTable          *efflux_measure_load_cubes (const EffluxDossier *dossier,
                                                 GCancellable        *cancellable,
                                                 GError             **error);
 
-/* All in one: load, prepare, finish. */
+/* All in one: load, prepare, finish.
+ * A cube that does not fit in the memory available (MemAvailable, or EFFLUX_MEASURE_MEMORY_MIB
+ * MiB when that environment variable is set and smaller) is not loaded: it is measured in one
+ * streaming pass over its channel planes, reading only the rows under the lobes (whole planes
+ * when the noise must be estimated, i.e. without rms-k), with memory bounded by the header, the
+ * masks, per-channel sums and a 64 MiB row block, whatever the size of the cube; a note says so.
+ * The sums, hence the numbers, are those of the measurement in memory. Gzip and tile-compressed
+ * files are not streamed (the reader refuses them when they do not fit). */
 EffluxMeasureResult *efflux_measure_dossier (const EffluxDossier *dossier,
                                              GCancellable        *cancellable,
                                              GError             **error);
