@@ -247,12 +247,19 @@ recolour (EffluxCutView *self)
 }
 
 static void
+free_lines (gpointer data)
+{
+  if (data != NULL)
+    g_ptr_array_unref (data);
+}
+
+static void
 trace_contours (EffluxCutView *self)
 {
   g_clear_pointer (&self->contours, g_ptr_array_unref);
   if (self->set == NULL)
     return;
-  self->contours = g_ptr_array_new_with_free_func ((GDestroyNotify) g_ptr_array_unref);
+  self->contours = g_ptr_array_new_with_free_func (free_lines);
   for (guint i = 0; i < self->set->n_cubes; i++)
     {
       const EffluxPv *pv = self->set->cuts[i];

@@ -177,8 +177,8 @@ format_at_place (const double *values,
       double scaled = values[i] / pow (10.0, p);
       g_autofree char *num = NULL;
 
-      /* round to the place first, so 0.96 at place -1 gives 1.0 */
-      scaled = round (scaled * pow (10.0, decimals)) / pow (10.0, decimals);
+      /* round to the place first (0.96 at place -1 gives 1.0, 6278 at place 1 gives 6280) */
+      scaled = round (scaled / pow (10.0, place - p)) * pow (10.0, place - p);
       num = g_strdup_printf ("%.*f", decimals, scaled);
       drop_negative_zero (num);
       if (i > 0)
