@@ -407,6 +407,25 @@ test_report (void)
       g_assert_cmpfloat_with_epsilon (g_array_index (boxes, double, 2 * i), 595.276, 1e-3);
       g_assert_cmpfloat_with_epsilon (g_array_index (boxes, double, 2 * i + 1), 841.890, 1e-3);
     }
+
+  /* With review groups (efflux-review.h) the report still has its five pages. */
+  {
+    g_autofree char *text = NULL;
+    g_autofree char *reviewed = g_build_filename (demo_dir, "reviewed.efflux", NULL);
+    g_autofree char *pdf2 = g_build_filename (dir, "reviewed.pdf", NULL);
+    g_autofree char *json2 = NULL;
+    g_autofree char *all = NULL;
+    const char *argv2[] = { cli (), "report", reviewed, "-o", pdf2, NULL };
+
+    g_assert_true (g_file_get_contents (demo_dossier, &text, NULL, NULL));
+    all = g_strconcat (text, "\n[Review]\nreviewer=A. Reviewer\nreviewed=demo.efflux\n\n"
+                       "[Review blue]\nstatus=questioned\nnote=the outline takes in ambient gas\n", NULL);
+    g_assert_true (g_file_set_contents (reviewed, all, -1, NULL));
+    g_assert_cmpint (run (argv2, NULL, NULL), ==, 0);
+    json2 = check ("pdf", pdf2, NULL);
+    g_assert_cmpfloat (json_number (json2, "pages"), ==, 5);
+    g_assert_cmpint (g_remove (reviewed), ==, 0);
+  }
   remove_tree (dir);
 }
 

@@ -2150,7 +2150,7 @@ report_results (EffluxFigure *figure,
                                  "L<sub>mech</sub> (L<sub>\xe2\x98\x89</sub>)" };
   g_autoptr (GError) error = NULL;
   EffluxMeasureResult *result = figure_measure (figure, &error);
-  double w = A4_W_PT - 2 * REPORT_MARGIN, colw = w / G_N_ELEMENTS (cols);
+  double w = A4_W_PT - 2 * REPORT_MARGIN;
   GString *a = g_string_new (NULL);
   g_autofree char *amark = NULL;
 
@@ -2163,8 +2163,19 @@ report_results (EffluxFigure *figure,
     }
   else
     {
+      /* Column starts: lobe and kind narrower, the force column wider. */
+      static const double weight[] = { 1.0, 0.7, 1.0, 1.2, 1.0, 1.0, 1.0, 0.9, 1.0, 1.35, 0.85 };
+      double colx[G_N_ELEMENTS (cols)], total = 0.0, acc = 0.0;
+
       for (guint c = 0; c < G_N_ELEMENTS (cols); c++)
-        text_at (cr, REPORT_MARGIN + c * colw, y, 0.0, 0.0, SMALL_PT, 0, heads[c]);
+        total += weight[c];
+      for (guint c = 0; c < G_N_ELEMENTS (cols); c++)
+        {
+          colx[c] = REPORT_MARGIN + acc / total * w;
+          acc += weight[c];
+        }
+      for (guint c = 0; c < G_N_ELEMENTS (cols); c++)
+        text_at (cr, colx[c], y, 0.0, 0.0, FONT_PT, 0, heads[c]);
       y += 12.0;
       set_ink (cr);
       cairo_move_to (cr, REPORT_MARGIN, y);
@@ -2188,7 +2199,7 @@ report_results (EffluxFigure *figure,
                   value = g_strdup_printf ("%.3g", number);
                 }
               esc = escape (value);
-              text_at (cr, REPORT_MARGIN + c * colw, y, 0.0, 0.0, SMALL_PT, 0, esc);
+              text_at (cr, colx[c], y, 0.0, 0.0, FONT_PT, 0, esc);
             }
           y += 10.0;
         }
@@ -2352,6 +2363,42 @@ report_review (EffluxFigure *figure,
 }
 
 gboolean
+efflux_figure_draw_report_page (EffluxFigure *figure,
+                                cairo_t      *cr,
+                                int           page)
+{
+  const EffluxDossier *d = figure->dossier;
+
+  g_return_val_if_fail (page >= 1 && page <= EFFLUX_REPORT_PAGES, FALSE);
+  cairo_save (cr);
+  switch (page)
+    {
+    case 1:
+      report_header (cr, d, 1, "Maps and lobes");
+      report_view (figure, cr, EFFLUX_FIGURE_SKY, REPORT_MARGIN + 24.0);
+      break;
+    case 2:
+      report_header (cr, d, 2, "Position-velocity cut");
+      report_view (figure, cr, EFFLUX_FIGURE_CUT, REPORT_MARGIN + 24.0);
+      break;
+    case 3:
+      report_header (cr, d, 3, "Mass-velocity spectrum");
+      report_view (figure, cr, EFFLUX_FIGURE_MASS_VELOCITY, REPORT_MARGIN + 24.0);
+      break;
+    case 4:
+      report_header (cr, d, 4, "Results and assumptions");
+      report_results (figure, cr, REPORT_MARGIN + 24.0);
+      break;
+    default:
+      report_header (cr, d, 5, "Review and sign-off");
+      report_review (figure, cr, REPORT_MARGIN + 24.0);
+      break;
+    }
+  cairo_restore (cr);
+  return TRUE;
+}
+
+gboolean
 efflux_figure_write_report (EffluxFigure  *figure,
                             const char    *path,
                             GError       **error)
@@ -2384,27 +2431,11 @@ efflux_figure_write_report (EffluxFigure  *figure,
     cairo_pdf_surface_set_metadata (surface, CAIRO_PDF_METADATA_CREATOR, "Efflux " PACKAGE_VERSION);
   }
   cr = cairo_create (surface);
-
-  report_header (cr, d, 1, "Maps and lobes");
-  report_view (figure, cr, EFFLUX_FIGURE_SKY, REPORT_MARGIN + 24.0);
-  cairo_show_page (cr);
-
-  report_header (cr, d, 2, "Position-velocity cut");
-  report_view (figure, cr, EFFLUX_FIGURE_CUT, REPORT_MARGIN + 24.0);
-  cairo_show_page (cr);
-
-  report_header (cr, d, 3, "Mass-velocity spectrum");
-  report_view (figure, cr, EFFLUX_FIGURE_MASS_VELOCITY, REPORT_MARGIN + 24.0);
-  cairo_show_page (cr);
-
-  report_header (cr, d, 4, "Results and assumptions");
-  report_results (figure, cr, REPORT_MARGIN + 24.0);
-  cairo_show_page (cr);
-
-  report_header (cr, d, 5, "Review and sign-off");
-  report_review (figure, cr, REPORT_MARGIN + 24.0);
-  cairo_show_page (cr);
-
+  for (int page = 1; page <= EFFLUX_REPORT_PAGES; page++)
+    {
+      efflux_figure_draw_report_page (figure, cr, page);
+      cairo_show_page (cr);
+    }
   cairo_destroy (cr);
   cairo_surface_finish (surface);
   status = cairo_surface_status (surface);

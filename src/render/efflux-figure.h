@@ -125,6 +125,12 @@ gboolean      efflux_figure_write_report (EffluxFigure  *figure,
                                           const char    *path,
                                           GError       **error);
 
+/* One page of the report (1 .. EFFLUX_REPORT_PAGES) on any surface of A4 size in points (the
+ * program can show or print it). */
+gboolean      efflux_figure_draw_report_page (EffluxFigure *figure,
+                                              cairo_t      *cr,
+                                              int           page);
+
 G_DEFINE_AUTOPTR_CLEANUP_FUNC (EffluxFigure, efflux_figure_free)
 
 G_END_DECLS
