@@ -45,6 +45,8 @@
 /* ------------------------------------------------------------------------------------------ */
 /* In-memory cubes                                                                            */
 
+static float *alloc_voxels (gsize bytes);
+
 EffluxCube *
 efflux_cube_new_simple (gsize   nx,
                         gsize   ny,
@@ -73,7 +75,10 @@ efflux_cube_new_simple (gsize   nx,
   cube->nx = nx;
   cube->ny = ny;
   cube->nchan = nchan;
-  cube->data = g_try_malloc0 (bytes);
+  /* in huge pages, as the loader's (a moment-map query reads one line of each spectrum) */
+  cube->data = alloc_voxels (bytes);
+  if (cube->data != NULL)
+    memset (cube->data, 0, bytes);
   if (cube->data == NULL)
     return NULL;
 
