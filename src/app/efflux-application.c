@@ -7,6 +7,8 @@
 
 #include "efflux-application.h"
 #include "efflux-window.h"
+#include "efflux-help.h"
+#include "efflux-settings.h"
 
 struct _EffluxApplication
 {
@@ -82,10 +84,36 @@ quit_activated (GSimpleAction *action,
 }
 
 static void
+help_activated (GSimpleAction *action,
+                GVariant      *parameter,
+                gpointer       user_data)
+{
+  GtkWindow *parent = gtk_application_get_active_window (GTK_APPLICATION (user_data));
+  const char *page = parameter != NULL ? g_variant_get_string (parameter, NULL) : NULL;
+  GtkWidget *help = efflux_help_window_new (parent, page != NULL && *page != '\0' ? page : NULL);
+
+  gtk_window_present (GTK_WINDOW (help));
+}
+
+static void
+window_added (GtkApplication *app,
+              GtkWindow      *window)
+{
+  GSettings *settings = efflux_settings_get ();
+
+  /* the display choices of every new window's Sky view are remembered */
+  if (settings != NULL && EFFLUX_IS_WINDOW (window))
+    efflux_settings_bind_sky_view (settings,
+                                   GTK_WIDGET (efflux_window_get_sky_view (EFFLUX_WINDOW (window))));
+}
+
+static void
 efflux_application_startup (GApplication *app)
 {
   static const GActionEntry entries[] = {
     { .name = "quit", .activate = quit_activated },
+    { .name = "help", .activate = help_activated },
+    { .name = "help-page", .activate = help_activated, .parameter_type = "s" },
   };
   static const struct {
     const char *action;
@@ -101,6 +129,7 @@ efflux_application_startup (GApplication *app)
     { "win.undo", { "<Control>z", NULL } },
     { "win.redo", { "<Shift><Control>z", "<Control>y", NULL } },
     { "win.assumptions", { "F9", NULL } },
+    { "app.help", { "F1", NULL } },
   };
 
   G_APPLICATION_CLASS (efflux_application_parent_class)->startup (app);
@@ -109,6 +138,11 @@ efflux_application_startup (GApplication *app)
   for (gsize i = 0; i < G_N_ELEMENTS (accels); i++)
     gtk_application_set_accels_for_action (GTK_APPLICATION (app), accels[i].action,
                                            accels[i].accels);
+
+  gtk_window_set_default_icon_name (APP_ID);
+  g_signal_connect (app, "window-added", G_CALLBACK (window_added), NULL);
+  if (efflux_settings_get () != NULL)
+    efflux_settings_follow_recent_manager (efflux_settings_get (), gtk_recent_manager_get_default ());
 }
 
 static void

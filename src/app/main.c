@@ -13,7 +13,8 @@ main (int    argc,
   g_autoptr(EffluxApplication) app = NULL;
 
   setlocale (LC_ALL, "");
-  bindtextdomain (GETTEXT_PACKAGE, LOCALEDIR);
+  /* EFFLUX_LOCALEDIR: translations not yet installed (the build tree's po/, used by the tests) */
+  bindtextdomain (GETTEXT_PACKAGE, g_getenv ("EFFLUX_LOCALEDIR") != NULL ? g_getenv ("EFFLUX_LOCALEDIR") : LOCALEDIR);
   bind_textdomain_codeset (GETTEXT_PACKAGE, "UTF-8");
   textdomain (GETTEXT_PACKAGE);
 

@@ -1,0 +1,35 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+#pragma once
+
+#include <gtk/gtk.h>
+
+G_BEGIN_DECLS
+
+/*
+ * The program's GSettings (schema org.effluxproject.Efflux, ui/org.effluxproject.Efflux.gschema.xml):
+ * "recent-files" (as, most recent first, at most EFFLUX_SETTINGS_MAX_RECENT), "colormap",
+ * "stretch" and "coordinate-style" (enums whose nicks are the Sky view's "colormap", "stretch"
+ * and "grid" values).
+ *
+ * The schema is looked up in the installed schemas (and GSETTINGS_SCHEMA_DIR), then in the
+ * EFFLUX_SCHEMA_DIR directory when that variable is set, then in the build tree's ui/ directory
+ * (so ./build/src/app/efflux keeps its choices before it is installed). When none holds it,
+ * efflux_settings_get() returns NULL and the program works without remembering anything.
+ */
+#define EFFLUX_SETTINGS_MAX_RECENT 10
+
+/* The shared settings object (owned by this module), or NULL when the schema is not found. */
+GSettings *efflux_settings_get             (void);
+/* Settings of the schema from the first directory that holds it, or NULL (for tests). */
+GSettings *efflux_settings_new             (void);
+/* Bind the Sky view's colormap, stretch and grid properties to the settings, both ways. */
+void       efflux_settings_bind_sky_view   (GSettings  *settings,
+                                            GtkWidget  *sky_view);
+/* Put path first in recent-files (absolute; an older copy removed; the list cut to the maximum). */
+void       efflux_settings_add_recent      (GSettings  *settings,
+                                            const char *path);
+/* Mirror the program's .efflux and FITS entries of the GTK recent files into recent-files. */
+void       efflux_settings_follow_recent_manager (GSettings        *settings,
+                                                  GtkRecentManager *manager);
+
+G_END_DECLS
