@@ -936,12 +936,13 @@ measure_idle (gpointer user_data)
   return G_SOURCE_REMOVE;
 }
 
-/* Once per main-loop turn, after the frame is drawn (GTK paints at a higher priority). */
+/* Once per main-loop turn, right after the frame is drawn (GDK paints at G_PRIORITY_HIGH_IDLE + 20;
+ * a lower idle priority could starve while frames run late). */
 static void
 schedule_measure (EffluxDocument *self)
 {
   if (self->idle_id == 0 && self->cubes != NULL && !self->loading)
-    self->idle_id = g_idle_add_full (G_PRIORITY_DEFAULT_IDLE, measure_idle, self, NULL);
+    self->idle_id = g_idle_add_full (G_PRIORITY_HIGH_IDLE + 30, measure_idle, self, NULL);
 }
 
 gboolean
@@ -963,6 +964,20 @@ efflux_document_get_measure_error (EffluxDocument *self)
 {
   g_return_val_if_fail (EFFLUX_IS_DOCUMENT (self), NULL);
   return self->measure_error;
+}
+
+gboolean
+efflux_document_set_cubes (EffluxDocument *self,
+                           GHashTable     *cubes)
+{
+  g_return_val_if_fail (EFFLUX_IS_DOCUMENT (self), FALSE);
+  g_return_val_if_fail (cubes != NULL, FALSE);
+  if (self->loading || self->cubes != NULL || self->job_running)
+    return FALSE;
+  self->cubes = cubes;
+  self->pending.full = TRUE;
+  schedule_measure (self);
+  return TRUE;
 }
 
 const EffluxCube *

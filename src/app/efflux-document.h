@@ -134,6 +134,11 @@ void            efflux_document_load_cubes_async (EffluxDocument      *self,
 gboolean        efflux_document_load_cubes_finish (EffluxDocument  *self,
                                                    GAsyncResult    *result,
                                                    GError         **error);
+/* Use cubes already in memory (id -> EffluxCube *; taken, with its destroy functions) instead of
+ * reading them: the measurement is prepared in a worker as after a load. FALSE when cubes are
+ * loaded or loading already. */
+gboolean        efflux_document_set_cubes        (EffluxDocument  *self,
+                                                  GHashTable      *cubes);
 /* The cube `id` once loaded (owned by the document), or NULL. */
 const EffluxCube *efflux_document_get_cube       (EffluxDocument  *self,
                                                   const char      *id);

@@ -62,6 +62,7 @@ struct _EffluxWindow
   EffluxCube      *cut_cube;       /* the cube the Cut view's set was made on (kept while shown) */
   guint            spectrum_timeout;
   gboolean         close_confirmed;
+  gboolean         measure_started;
   gboolean         show_assumptions;
   gboolean         updating_lobe_bar;
   EffluxCube      *cube;
@@ -555,9 +556,8 @@ set_document (EffluxWindow   *self,
       g_signal_connect (document, "notify::can-redo", G_CALLBACK (document_state_changed), self);
       g_signal_connect (document, "notify::path", G_CALLBACK (document_state_changed), self);
       g_signal_connect (document, "measured", G_CALLBACK (document_measured), self);
-      self->measure_cancellable = g_cancellable_new ();
-      efflux_document_load_cubes_async (document, self->measure_cancellable, cubes_loaded,
-                                        g_object_ref (self));
+      /* the cubes for the measurement are read once the map is on screen (load_done) */
+      self->measure_started = FALSE;
       /* Translators: shown in the ledger while the lobes are measured for the first time */
       gtk_label_set_text (self->ledger_label, _("Measuring…"));
     }
@@ -749,6 +749,13 @@ load_done (GObject      *object,
   show_loading (self, FALSE);
   sync_views (self, NULL);
   sync_lobe_spectrum (self);
+  if (self->document != NULL && !self->measure_started)
+    {
+      self->measure_started = TRUE;
+      self->measure_cancellable = g_cancellable_new ();
+      efflux_document_load_cubes_async (self->document, self->measure_cancellable, cubes_loaded,
+                                        g_object_ref (self));
+    }
 
   if (window_dossier (self) != NULL)
     efflux_sky_view_set_source (self->sky_view, window_dossier (self)->ra_deg,
