@@ -8,6 +8,7 @@
 #include <string.h>
 
 #include "efflux-colormap.h"
+#include "efflux-lobe.h"
 #include "efflux-skygrid.h"
 #include "efflux-sky-view.h"
 #include "efflux-stretch.h"
@@ -827,9 +828,18 @@ commit_outline (EffluxSkyView *self,
   g_autofree double *ra = g_new (double, n);
   g_autofree double *dec = g_new (double, n);
 
+  if (efflux_polygon_self_crossing (px, py, n))
+    {
+      /* the measurement refuses such outlines: the lobe keeps its last good shape */
+      g_set_error (&error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                   "%s: [Lobe %s] polygon: the outline would cross itself",
+                   current_dossier (self)->path, lobe);
+      set_edit_error (self, error);
+      return;
+    }
   if (!pixels_to_outline (self, px, py, n, ra, dec))
     return;
-  /* an outline the core refuses (e.g. crossing itself) keeps its last good shape */
+  /* an outline the core refuses keeps its last good shape */
   efflux_document_set_lobe_polygon (self->document, lobe, ra, dec, n, merge_id, &error);
   set_edit_error (self, error);
 }

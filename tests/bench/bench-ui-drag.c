@@ -14,6 +14,7 @@
 #include <gtk/gtk.h>
 #include <math.h>
 #include <stdio.h>
+#include <stdlib.h>
 
 #include "efflux-application.h"
 #include "efflux-cube.h"
@@ -213,8 +214,19 @@ run_drag (Drag       *drag,
           "mean %.2f ms, worst %.2f ms (target 16); %.1f measurements/s reached the ledger\n",
           what, drag->frames / DRAG_SECONDS, drag->sum_ms / MAX (drag->frames, 1), drag->worst_ms,
           drag->measured / DRAG_SECONDS);
-  while (!document_idle (drag->document) && g_get_monotonic_time () < deadline)
-    g_main_context_iteration (NULL, TRUE);
+  {
+    gint64 t_end = g_get_monotonic_time ();
+    double load[1] = { NAN };
+
+    while (!document_idle (drag->document) && g_get_monotonic_time () < deadline)
+      g_main_context_iteration (NULL, TRUE);
+    /* the machine is shared: its load tells how far these figures are from an idle one */
+    if (getloadavg (load, 1) != 1)
+      load[0] = NAN;
+    printf ("  last measurement in the ledger %.3f s after the drag ended; load average %.1f on "
+            "%u processors\n", (g_get_monotonic_time () - t_end) / 1e6, load[0],
+            g_get_num_processors ());
+  }
 }
 
 int
