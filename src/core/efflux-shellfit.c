@@ -13,7 +13,7 @@
 #define DEG (G_PI / 180.0)
 #define A_MIN (0.5 * DEG)
 #define A_MAX (89.5 * DEG)
-#define SPUR_DISTANCE 3.0
+#define SPUR_MODEL 0.25
 #define SPUR_FLUX 0.5
 #define SPUR_SPAN 0.3
 
@@ -21,6 +21,7 @@ typedef struct
 {
   double x, u, w;     /* local frame: offset along the lobe, velocity away from vsys in the lobe's sense */
   int    col;         /* PV offset column */
+  int    chan;        /* PV channel */
   double rho;         /* current foot point */
   gboolean use;
 } Point;
@@ -78,8 +79,10 @@ newton_foot (const double *p,
              double        x,
              double        u,
              double        rx,
-             double        ru)
+             double        ru,
+             double        lim)
 {
+  rho = CLAMP (rho, -lim, lim);
   for (int it = 0; it < 20; it++)
     {
       double d1, d2, step;
@@ -96,6 +99,7 @@ newton_foot (const double *p,
             break;
           step *= 0.5;
         }
+      step = CLAMP (rho + step, -lim, lim) - rho;
       rho += step;
       if (fabs (step) < 1e-10 * (1.0 + fabs (rho)))
         break;
@@ -112,6 +116,7 @@ foot_point (const double *p,
             double        rx,
             double        ru,
             double        prev,
+            double        lim,
             double       *d2_out)
 {
   double a = p[0], k = exp (p[1]), c = exp (p[2]);
@@ -143,7 +148,7 @@ foot_point (const double *p,
   }
   for (int s = 0; s < ns; s++)
     {
-      double r = newton_foot (p, starts[s], x, u, rx, ru);
+      double r = newton_foot (p, starts[s], x, u, rx, ru, lim);
       double d = dist2 (p, r, x, u, rx, ru, NULL, NULL);
       if (d < best_d)
         {
@@ -527,7 +532,7 @@ fit_lobe (const EffluxPv     *pv,
       if (data->pts[j].use)
         {
           double d2;
-          foot_point (q3, data->pts[j].x, data->pts[j].u, data->rx, data->ru, NAN, &d2);
+          foot_point (q3, data->pts[j].x, data->pts[j].u, data->rx, data->ru, NAN, lf->rho_max, &d2);
           sw += data->pts[j].w;
           sd += data->pts[j].w * d2;
         }
@@ -543,6 +548,7 @@ fit_lobe (const EffluxPv     *pv,
 static guint
 find_spurs (const EffluxPv     *pv,
             Data               *data,
+            Image              *im,
             EffluxShellLobeFit *lf,
             double              source_offset,
             double              vsys,
@@ -554,12 +560,14 @@ find_spurs (const EffluxPv     *pv,
   g_autofree double *umin = g_new (double, ncol);
   g_autofree double *umax = g_new (double, ncol);
   g_autofree gboolean *bad = g_new0 (gboolean, ncol);
-  double p[3], lu_min = G_MAXDOUBLE, lu_max = -G_MAXDOUBLE, total = 0.0;
+  double p[NPAR], lu_min = G_MAXDOUBLE, lu_max = -G_MAXDOUBLE, total = 0.0;
   guint n_spurs = 0;
 
   p[0] = (90.0 - lf->inclination_deg) * DEG;
   p[1] = log (lf->kms_per_arcsec);
   p[2] = log (lf->c_per_arcsec);
+  p[3] = log (lf->z_max_arcsec);
+  image_residuals (im, p, NULL);   /* renders the model and its scale */
   for (gsize c = 0; c < ncol; c++)
     {
       umin[c] = G_MAXDOUBLE;
@@ -568,13 +576,13 @@ find_spurs (const EffluxPv     *pv,
   for (gsize j = 0; j < data->n; j++)
     {
       Point *pt = &data->pts[j];
-      double d2;
+      double model;
       if (!pt->use)
         continue;
-      foot_point (p, pt->x, pt->u, data->rx, data->ru, pt->rho, &d2);
+      model = im->amp * im->model[(gsize) pt->chan * ncol + (gsize) pt->col];
       flux[pt->col] += pt->w;
       total += pt->w;
-      if (sqrt (d2) > SPUR_DISTANCE)
+      if (model < SPUR_MODEL * pt->w)
         off[pt->col] += pt->w;
       umin[pt->col] = MIN (umin[pt->col], pt->u);
       umax[pt->col] = MAX (umax[pt->col], pt->u);
@@ -726,6 +734,7 @@ efflux_shellfit_pv (const EffluxPv               *pv,
               pt.u = u;
               pt.w = t;
               pt.col = (int) i;
+              pt.chan = (int) k;
               pt.rho = NAN;
               pt.use = TRUE;
               g_array_append_val (pts, pt);
@@ -759,7 +768,7 @@ efflux_shellfit_pv (const EffluxPv               *pv,
         for (gsize c = 0; c < pv->n_offsets; c++)
           col_ok[c] = TRUE;
         lf->ok = fit_lobe (pv, &data, &im, lf, distance_pc, n_corr);
-        if (lf->ok && find_spurs (pv, &data, lf, source_offset_arcsec, vsys_kms, sv) > 0)
+        if (lf->ok && find_spurs (pv, &data, &im, lf, source_offset_arcsec, vsys_kms, sv) > 0)
           {
             /* fit again without the spurs' columns */
             for (guint q = 0; q < lf->spurs->len; q++)
