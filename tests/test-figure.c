@@ -382,6 +382,58 @@ test_channels_and_caption (void)
   /* Contour levels are stated in the caption of the sky view. */
   g_assert_cmpint (run (argv_sky, &out_sky, NULL), ==, 0);
   g_assert_nonnull (strstr (out_sky, "Contours of lobe blue (blue): moment 0 over -13.50 to 3.20 km/s at 3, 6"));
+
+  /* The power laws drawn in the mass-velocity view are the table's: mv_gamma of `efflux-cli measure`. */
+  {
+    const char *argv_mv[] = { cli (), "figure", demo_dossier, "--view", "mass-velocity", "-o", png, NULL };
+    const char *argv_csv[] = { cli (), "measure", demo_dossier, "--format", "csv", NULL };
+    g_autofree char *out_mv = NULL;
+    g_autofree char *csv = NULL;
+    g_auto (GStrv) lines = NULL;
+    g_auto (GStrv) head = NULL;
+    int col_lobe = -1, col_gamma = -1, col_vb = -1;
+    guint compared = 0;
+
+    g_assert_cmpint (run (argv_mv, &out_mv, NULL), ==, 0);
+    g_assert_cmpint (run (argv_csv, &csv, NULL), ==, 0);
+    lines = g_strsplit (csv, "\n", -1);
+    head = g_strsplit (lines[0], ",", -1);
+    for (int i = 0; head[i] != NULL; i++)
+      {
+        if (strcmp (head[i], "lobe") == 0)
+          col_lobe = i;
+        else if (strcmp (head[i], "mv_gamma") == 0)
+          col_gamma = i;
+        else if (strcmp (head[i], "mv_break_kms") == 0)
+          col_vb = i;
+      }
+    g_assert_cmpint (col_lobe, >=, 0);
+    g_assert_cmpint (col_gamma, >=, 0);
+    g_assert_cmpint (col_vb, >=, 0);
+    for (int l = 1; lines[l] != NULL && *lines[l] != '\0'; l++)
+      {
+        g_auto (GStrv) cells = g_strsplit (lines[l], ",", -1);
+        g_autofree char *key = NULL;
+        const char *at;
+        double gamma, drawn, vb, drawn_vb;
+
+        if (strcmp (cells[col_lobe], "total") == 0)
+          continue;
+        key = g_strdup_printf ("Drawn for %s: single \xce\xb3 = ", cells[col_lobe]);
+        at = strstr (out_mv, key);
+        g_assert_nonnull (at);
+        drawn = g_ascii_strtod (at + strlen (key), NULL);
+        gamma = g_ascii_strtod (cells[col_gamma], NULL);
+        g_assert_cmpfloat_with_epsilon (drawn, gamma, 1e-5 * fabs (gamma));
+        at = strstr (at, "v_b = ");
+        g_assert_nonnull (at);
+        drawn_vb = g_ascii_strtod (at + strlen ("v_b = "), NULL);
+        vb = g_ascii_strtod (cells[col_vb], NULL);
+        g_assert_cmpfloat_with_epsilon (drawn_vb, vb, 1e-5 * fabs (vb));
+        compared++;
+      }
+    g_assert_cmpuint (compared, ==, 2);
+  }
   remove_tree (dir);
 }
 

@@ -1528,25 +1528,21 @@ draw_spectrum (EffluxFigure              *figure,
 
 /* ---- mass-velocity ---------------------------------------------------------------------- */
 
-/* The channels the measurement fits: dM/dv at least 3 times its noise (efflux-measure.h). */
-static guint
+/* The channels the measurement fits, exactly as efflux-measure.c selects them: dM/dv at least 3
+ * times its noise (the others NaN, which the fits skip); when some channel has no positive noise,
+ * every channel with unit weights (errors NULL). Returns the errors to use (NULL or ms->dmdv_err). */
+static const double *
 mv_fit_channels (const EffluxMassSpectrum *ms,
-                 double                   *v,
-                 double                   *m,
-                 double                   *e)
+                 double                   *sig)
 {
-  guint n = 0;
+  gboolean have_err = TRUE;
 
   for (guint k = 0; k < ms->n; k++)
-    if (isfinite (ms->dmdv[k]) && ms->dmdv[k] > 0 && ms->v_offset_kms[k] > 0
-        && ms->dmdv[k] >= 3.0 * ms->dmdv_err[k])
-      {
-        v[n] = ms->v_offset_kms[k];
-        m[n] = ms->dmdv[k];
-        e[n] = ms->dmdv_err[k] > 0 ? ms->dmdv_err[k] : ms->dmdv[k] * 1e-3;
-        n++;
-      }
-  return n;
+    if (!(ms->dmdv_err[k] > 0))
+      have_err = FALSE;
+  for (guint k = 0; k < ms->n; k++)
+    sig[k] = (!have_err || ms->dmdv[k] >= 3.0 * ms->dmdv_err[k]) ? ms->dmdv[k] : NAN;
+  return have_err ? ms->dmdv_err : NULL;
 }
 
 static double
@@ -1625,12 +1621,11 @@ draw_mass_velocity (EffluxFigure              *figure,
       const EffluxDossierLobe *lobe = efflux_dossier_find_lobe (d, ms->lobe);
       const EffluxMeasureRow *row = NULL;
       const double *rgb = lobe != NULL ? lobe_rgb (lobe) : blue_rgb;
-      g_autofree double *fv = g_new (double, ms->n + 1);
-      g_autofree double *fm = g_new (double, ms->n + 1);
-      g_autofree double *fe = g_new (double, ms->n + 1);
+      g_autofree double *sig = g_new (double, ms->n + 1);
+      const double *fe;
       EffluxPowerLawFit single;
       EffluxBrokenPowerLawFit broken;
-      guint nf;
+      double a = INFINITY, b = 0.0;
       GString *legend;
       g_autofree char *legend_text = NULL;
       double ly;
@@ -1676,16 +1671,16 @@ draw_mass_velocity (EffluxFigure              *figure,
               cairo_stroke (cr);
             }
         }
-      nf = mv_fit_channels (ms, fv, fm, fe);
-      if (nf >= 2 && efflux_mvfit_single (fv, fm, fe, nf, &single))
+      /* The same fits as the table's (efflux-measure.c), drawn over the channels fitted. */
+      fe = mv_fit_channels (ms, sig);
+      for (guint k = 0; k < ms->n; k++)
+        if (isfinite (sig[k]) && sig[k] > 0 && ms->v_offset_kms[k] > 0)
+          {
+            a = MIN (a, ms->v_offset_kms[k]);
+            b = MAX (b, ms->v_offset_kms[k]);
+          }
+      if (b > a && efflux_mvfit_single (ms->v_offset_kms, sig, fe, ms->n, &single))
         {
-          double a = fv[0], b = fv[0];
-
-          for (guint k = 0; k < nf; k++)
-            {
-              a = MIN (a, fv[k]);
-              b = MAX (b, fv[k]);
-            }
           cairo_set_source_rgb (cr, rgb[0], rgb[1], rgb[2]);
           cairo_set_line_width (cr, 0.9);
           for (int s = 0; s <= 60; s++)
@@ -1699,7 +1694,7 @@ draw_mass_velocity (EffluxFigure              *figure,
                 cairo_line_to (cr, plot_x (&p, v), y);
             }
           cairo_stroke (cr);
-          if (nf >= 5 && efflux_mvfit_broken (fv, fm, fe, nf, &broken))
+          if (efflux_mvfit_broken (ms->v_offset_kms, sig, fe, ms->n, &broken))
             {
               static const double dash[] = { 2.5, 1.5 };
 
@@ -1716,7 +1711,13 @@ draw_mass_velocity (EffluxFigure              *figure,
                 }
               cairo_stroke (cr);
               cairo_set_dash (cr, NULL, 0, 0);
+              g_string_append_printf (figure->caption, " Drawn for %s: single \xce\xb3 = %.6g; broken "
+                                      "\xce\xb3\xe2\x82\x81 = %.6g, \xce\xb3\xe2\x82\x82 = %.6g, v_b = %.6g km/s.",
+                                      ms->lobe, single.gamma, broken.gamma1, broken.gamma2, broken.vb_kms);
             }
+          else
+            g_string_append_printf (figure->caption, " Drawn for %s: single \xce\xb3 = %.6g.", ms->lobe,
+                                    single.gamma);
         }
       /* Legend from the table's values (efflux-measure.h mv_* fields). */
       legend = g_string_new (NULL);
