@@ -532,6 +532,12 @@ test_errors (void)
     expect_status (a, 2, dir, "negative width");
   }
   {
+    /* 2000 mm at 2400 dpi: 188976 pixels, beyond Cairo's 32767 */
+    const char *a[] = { c, "figure", demo_dossier, "--view", "sky", "-o", out, "--width-mm", "2000",
+                        "--dpi", "2400", NULL };
+    expect_status (a, 2, dir, "PNG too large");
+  }
+  {
     const char *a[] = { c, "figure", demo_dossier, "--view", "channels", "--grid", "0x3", "-o", out, NULL };
     expect_status (a, 2, dir, "grid 0x3");
   }

@@ -2000,6 +2000,15 @@ efflux_figure_write (EffluxFigure              *figure,
   h_pt = o->height_mm > 0 ? o->height_mm * MM_PT : measure_height (figure, o, w_pt, error);
   if (h_pt < 0)
     return FALSE;
+  /* Cairo's image surfaces hold at most 32767 pixels a side. */
+  if (format == EFFLUX_FIGURE_FORMAT_PNG
+      && (lround (o->width_mm / 25.4 * o->dpi) > 32767 || lround (h_pt / 72.0 * o->dpi) > 32767))
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_USAGE,
+                   "%s: %g mm at %g dpi is more than 32767 pixels a side: lower --dpi or the size",
+                   path, MAX (o->width_mm, h_pt / MM_PT), o->dpi);
+      return FALSE;
+    }
 
   tmp = efflux_output_begin (path, error);
   if (tmp == NULL)
