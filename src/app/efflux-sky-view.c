@@ -1631,6 +1631,78 @@ build_scene (EffluxSkyView *self,
 }
 
 static void
+grow_bounds (EffluxSkyView *self,
+             const double  *px,
+             const double  *py,
+             gsize          n,
+             double         pad,
+             double         box[4])
+{
+  for (gsize i = 0; i < n; i++)
+    {
+      double wx, wy;
+
+      efflux_sky_view_pixel_to_widget (self, px[i], py[i], &wx, &wy);
+      box[0] = MIN (box[0], wx - pad);
+      box[1] = MIN (box[1], wy - pad);
+      box[2] = MAX (box[2], wx + pad);
+      box[3] = MAX (box[3], wy + pad);
+    }
+}
+
+/* The widget area the overlays cover (lobes, cuts with their band, the draft and its rubber band). */
+static void
+overlay_bounds (EffluxSkyView   *self,
+                int              w,
+                int              h,
+                graphene_rect_t *bounds)
+{
+  const EffluxDossier *d = current_dossier (self);
+  double box[4] = { G_MAXDOUBLE, G_MAXDOUBLE, -G_MAXDOUBLE, -G_MAXDOUBLE };
+
+  if (d != NULL && self->cube != NULL && self->cube->sky != NULL)
+    {
+      for (guint k = 0; k < d->lobes->len; k++)
+        {
+          const EffluxDossierLobe *lobe = g_ptr_array_index (d->lobes, k);
+          g_autofree double *px = NULL, *py = NULL;
+
+          if (outline_to_pixels (self, lobe->ra_deg, lobe->dec_deg, lobe->n_vertices, &px, &py))
+            grow_bounds (self, px, py, lobe->n_vertices, 8.0, box);
+        }
+      for (guint k = 0; k < d->cuts->len; k++)
+        {
+          const EffluxDossierCut *cut = g_ptr_array_index (d->cuts, k);
+          g_autofree double *px = NULL, *py = NULL;
+          double band = cut->width_arcsec / self->cube->pixel_arcsec[0] * self->zoom;
+
+          if (outline_to_pixels (self, cut->ra_deg, cut->dec_deg, cut->n_vertices, &px, &py))
+            grow_bounds (self, px, py, cut->n_vertices, 8.0 + band / 2, box);
+        }
+    }
+  if (self->draft_x->len > 0)
+    {
+      grow_bounds (self, (double *) self->draft_x->data, (double *) self->draft_y->data,
+                   self->draft_x->len, 8.0, box);
+      if (!isnan (self->pointer_x))
+        {
+          box[0] = MIN (box[0], self->pointer_x - 4);
+          box[1] = MIN (box[1], self->pointer_y - 4);
+          box[2] = MAX (box[2], self->pointer_x + 4);
+          box[3] = MAX (box[3], self->pointer_y + 4);
+        }
+    }
+  box[0] = floor (MAX (box[0], 0));
+  box[1] = floor (MAX (box[1], 0));
+  box[2] = ceil (MIN (box[2], w));
+  box[3] = ceil (MIN (box[3], h));
+  if (box[2] <= box[0] || box[3] <= box[1])
+    graphene_rect_init (bounds, 0, 0, 1, 1);
+  else
+    graphene_rect_init (bounds, box[0], box[1], box[2] - box[0], box[3] - box[1]);
+}
+
+static void
 efflux_sky_view_snapshot (GtkWidget   *widget,
                           GtkSnapshot *snapshot)
 {
@@ -1647,7 +1719,12 @@ efflux_sky_view_snapshot (GtkWidget   *widget,
   if (self->overlay_node == NULL && (self->document != NULL || self->draft_x->len > 0))
     {
       GtkSnapshot *overlay = gtk_snapshot_new ();
-      cairo_t *cr = gtk_snapshot_append_cairo (overlay, &GRAPHENE_RECT_INIT (0, 0, w, h));
+      graphene_rect_t bounds;
+      cairo_t *cr;
+
+      /* only as large as the outlines: a change repaints that part of the window, not all */
+      overlay_bounds (self, w, h, &bounds);
+      cr = gtk_snapshot_append_cairo (overlay, &bounds);
 
       draw_overlays (self, cr);
       cairo_destroy (cr);
