@@ -16,28 +16,43 @@ G_BEGIN_DECLS
  *                                                    red lobe, towards it for a blue one)
  * with k = 1 / t0 in km/s per arcsec (t0 = d x 1 au / k at the distance d in pc), C per arcsec.
  *
- * Data. The PV pixels above a threshold (default: 5 x the PV noise, and at least 5% of the peak)
- * with |v - vsys| >= vmin (default: the smallest |v - vsys| the dossier's lobe ranges admit; this
- * leaves out the ambient line). Offsets are measured from the source's position projected on the
+ * Data. The PV pixels above a threshold (default: 5 x the PV noise, and at least 5% of the peak;
+ * it chooses the lobes' pixels, their colours and the spurs) with |v - vsys| >= vmin (default:
+ * the smallest |v - vsys| the dossier's lobe ranges admit; this leaves out the ambient line). Offsets are measured from the source's position projected on the
  * cut; the pixels on each side of it form one lobe, whose colour is the sign of its
  * emission-weighted mean velocity.
  *
- * Objective. Orthogonal-distance least squares: sum over pixels of T_j x d_j^2, where d_j is the
- * distance of pixel j to the nearest point of the model curve, measured in resolution units (the
- * beam's major axis along the offset, one channel along the velocity). Parameters a, ln k, ln C;
- * started from the best point of a grid (a every 2.5 deg, k over three decades, C by linear least
- * squares in the shell's own frame), then Levenberg-Marquardt.
+ * Objective: a forward model of the PV image, least squares over pixels. For trial parameters
+ * (a, k, C and the shell's length z_max along the axis) the shell is sampled uniformly in z (0 to
+ * z_max) and in azimuth (the mass per unit length along the axis assumed constant, as in
+ * efflux-synth's shells), each sample at (X, U) above, weighted by a Gaussian across the cut
+ * (sigma^2 = beam sigma^2 + width^2 / 12), spread along the cut by the beam's Gaussian and between
+ * the two nearest channels. The model image M is scaled by the least-squares amplitude A and
+ * sum (D - A M)^2 is minimised over the pixels of the lobe's side with |v - vsys| >= vmin (all of
+ * them, not only those above the threshold; the image fit assumes optically thin emission).
+ * Start: the best point of a grid (i every 5 deg, k over two decades around the data's velocity
+ * over offset extent, five shell widths at the tip); then Nelder-Mead, restarted once.
+ * Only the curve in the plane of the axis and the line of sight is REFERENCES.md's formula; the
+ * rest of the shell falls inside it in the PV, which is why fitting the emission's distance to
+ * the curve alone was found to bias the inclination towards 90 deg on beam-smeared cuts.
  *
- * Uncertainties: from the covariance of the fit, (J^T J)^-1 x chi^2 / (N_eff - 3), with N_eff the
- * number of pixels divided by the pixels per beam along the offset (neighbouring pixels are not
- * independent: a common practice, not a rigorous count). The errors therefore scale with how far
- * the emission departs from a parabola, not with the noise alone.
+ * Uncertainties: from the Jacobian of the image residuals, (J^T J)^-1 x chi^2 / (N_eff - 4), with
+ * N_eff the number of pixels divided by the pixels per beam along the offset (neighbouring pixels
+ * are not independent: a common practice, not a rigorous count). They are statistical only: on
+ * the synthetic shells of tests/test-shellfit.c the inclination comes back within 2 deg with a
+ * quoted error of 0.1 to 0.8 deg, so the systematic part (other lobe's emission near the source,
+ * departure from a constant mass per length) dominates.
  *
- * Bow-shock spurs (REFERENCES.md 1.10 item 3). After the fit, each offset column of a lobe whose
- * emission lies mostly (> 50% of its flux) more than 3 resolution units from the curve, and whose
- * velocity extent is at least 30% of the lobe's, is off the shell; neighbouring such columns form a
- * spur, reported with its offsets and velocities, and the lobe is fitted again without them. A spur
- * is where the wind-driven shell fails: the sign of a jet-driven bow shock. */
+ * Bow-shock spurs (REFERENCES.md 1.10 item 3). After the fit, each offset column of a lobe where
+ * more than 50% of the flux above the threshold lies in pixels the scaled model fills to less than
+ * a quarter, and whose velocity extent is at least 30% of the lobe's, is off the shell;
+ * neighbouring such columns form a spur, reported with its offsets and velocities, and the lobe is
+ * fitted again without them. A spur is where the wind-driven shell fails: the sign of a jet-driven
+ * bow shock.
+ *
+ * The emission-weighted rms distance of the pixels above the threshold to the fitted curve (in
+ * resolution units: the beam along the offset, one channel along the velocity) is reported as a
+ * measure of how well the ridge follows a parabola. */
 
 typedef struct
 {
