@@ -936,13 +936,14 @@ measure_idle (gpointer user_data)
   return G_SOURCE_REMOVE;
 }
 
-/* Once per main-loop turn, right after the frame is drawn (GDK paints at G_PRIORITY_HIGH_IDLE + 20;
- * a lower idle priority could starve while frames run late). */
+/* Once per main-loop turn: the edits of one frame (motion events, the tick) come first and make
+ * one job. Default priority, not an idle one below GDK's redraw: while frames run late, a lower
+ * idle never ran and no measurement reached the ledger during a drag (bench-ui-drag). */
 static void
 schedule_measure (EffluxDocument *self)
 {
   if (self->idle_id == 0 && self->cubes != NULL && !self->loading)
-    self->idle_id = g_idle_add_full (G_PRIORITY_HIGH_IDLE + 30, measure_idle, self, NULL);
+    self->idle_id = g_idle_add_full (G_PRIORITY_DEFAULT, measure_idle, self, NULL);
 }
 
 gboolean
