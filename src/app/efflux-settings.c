@@ -4,6 +4,7 @@
 #include "config.h"
 
 #include <glib/gi18n.h>
+#include <locale.h>
 
 #include "efflux-settings.h"
 
@@ -163,4 +164,15 @@ efflux_settings_follow_recent_manager (GSettings        *settings,
   g_return_if_fail (GTK_IS_RECENT_MANAGER (manager));
 
   g_signal_connect_object (manager, "changed", G_CALLBACK (recent_changed), settings, 0);
+}
+
+void
+efflux_setup_gettext (void)
+{
+  const char *dir = g_getenv ("EFFLUX_LOCALEDIR");
+
+  setlocale (LC_ALL, "");
+  bindtextdomain (GETTEXT_PACKAGE, dir != NULL && *dir != '\0' ? dir : LOCALEDIR);
+  bind_textdomain_codeset (GETTEXT_PACKAGE, "UTF-8");
+  textdomain (GETTEXT_PACKAGE);
 }

@@ -32,4 +32,9 @@ void       efflux_settings_add_recent      (GSettings  *settings,
 void       efflux_settings_follow_recent_manager (GSettings        *settings,
                                                   GtkRecentManager *manager);
 
+/* Locale and gettext for the program: setlocale (LC_ALL, ""), then the "efflux" domain bound to
+ * the EFFLUX_LOCALEDIR directory when that variable is set (translations not installed yet: the
+ * build tree's po/), else to the installed LOCALEDIR; UTF-8, and the default domain. */
+void       efflux_setup_gettext            (void);
+
 G_END_DECLS

@@ -5,6 +5,7 @@
 #include <locale.h>
 
 #include "efflux-application.h"
+#include "efflux-settings.h"
 
 int
 main (int    argc,
@@ -12,11 +13,8 @@ main (int    argc,
 {
   g_autoptr(EffluxApplication) app = NULL;
 
-  setlocale (LC_ALL, "");
-  /* EFFLUX_LOCALEDIR: translations not yet installed (the build tree's po/, used by the tests) */
-  bindtextdomain (GETTEXT_PACKAGE, g_getenv ("EFFLUX_LOCALEDIR") != NULL ? g_getenv ("EFFLUX_LOCALEDIR") : LOCALEDIR);
-  bind_textdomain_codeset (GETTEXT_PACKAGE, "UTF-8");
-  textdomain (GETTEXT_PACKAGE);
+  /* locale, and translations from EFFLUX_LOCALEDIR when set (efflux-settings.h) */
+  efflux_setup_gettext ();
 
   app = efflux_application_new ();
   return g_application_run (G_APPLICATION (app), argc, argv);
