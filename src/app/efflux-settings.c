@@ -131,16 +131,15 @@ recent_changed (GtkRecentManager *manager,
                 GSettings        *settings)
 {
   GList *items = gtk_recent_manager_get_items (manager);
-  const char *app_name = g_get_application_name ();
   GPtrArray *ours = g_ptr_array_new ();
 
+  /* dossiers and FITS files, whichever program used them last: the same files Efflux opens */
   for (GList *l = items; l != NULL; l = l->next)
     {
       GtkRecentInfo *info = l->data;
       g_autofree char *path = g_filename_from_uri (gtk_recent_info_get_uri (info), NULL, NULL);
 
-      if (path != NULL && is_ours (path) && app_name != NULL
-          && gtk_recent_info_has_application (info, app_name))
+      if (path != NULL && is_ours (path))
         g_ptr_array_add (ours, info);
     }
   g_ptr_array_sort (ours, by_modified_newest_first);

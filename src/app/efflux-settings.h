@@ -28,7 +28,8 @@ void       efflux_settings_bind_sky_view   (GSettings  *settings,
 /* Put path first in recent-files (absolute; an older copy removed; the list cut to the maximum). */
 void       efflux_settings_add_recent      (GSettings  *settings,
                                             const char *path);
-/* Mirror the program's .efflux and FITS entries of the GTK recent files into recent-files. */
+/* Mirror the .efflux and FITS entries of manager's recent files (those the window adds when it
+ * opens or saves a file) into recent-files, the newest first, whenever manager changes. */
 void       efflux_settings_follow_recent_manager (GSettings        *settings,
                                                   GtkRecentManager *manager);
 

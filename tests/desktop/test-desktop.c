@@ -8,6 +8,7 @@
  * Langer & Penzias 1993; Kauffmann et al. 2008; Dunham et al. 2014; Downes & Cabrit 2007). */
 #include "config.h"
 
+#include <glib/gstdio.h>
 #include <gtk/gtk.h>
 #include <string.h>
 
@@ -135,6 +136,57 @@ test_recent_files (void)
 }
 
 static void
+test_recent_manager (void)
+{
+  g_autoptr(GSettings) settings = efflux_settings_new ();
+  g_autoptr(GError) error = NULL;
+  g_autofree char *dir = g_dir_make_tmp ("efflux-desktop-XXXXXX", &error);
+  g_autofree char *store = NULL;
+  g_autofree char *dossier = NULL;
+  g_autofree char *note = NULL;
+  g_autofree char *uri = NULL;
+  g_autofree char *note_uri = NULL;
+  g_auto(GStrv) recent = NULL;
+  GtkRecentManager *manager;
+  gint64 deadline;
+
+  g_assert_no_error (error);
+  g_assert_nonnull (settings);
+  g_settings_reset (settings, "recent-files");
+  /* a recent-files store of our own in a temporary folder, never the user's */
+  store = g_build_filename (dir, "recently-used.xbel", NULL);
+  dossier = g_build_filename (dir, "outflow.efflux", NULL);
+  note = g_build_filename (dir, "notes.txt", NULL);
+  g_assert_true (g_file_set_contents (dossier, "[Source]\n", -1, NULL));
+  g_assert_true (g_file_set_contents (note, "text\n", -1, NULL));
+  manager = g_object_new (GTK_TYPE_RECENT_MANAGER, "filename", store, NULL);
+  efflux_settings_follow_recent_manager (settings, manager);
+
+  uri = g_filename_to_uri (dossier, NULL, NULL);
+  note_uri = g_filename_to_uri (note, NULL, NULL);
+  g_assert_true (gtk_recent_manager_add_item (manager, note_uri));
+  g_assert_true (gtk_recent_manager_add_item (manager, uri));
+  deadline = g_get_monotonic_time () + 10 * G_USEC_PER_SEC;
+  do
+    {
+      g_clear_pointer (&recent, g_strfreev);
+      g_main_context_iteration (NULL, FALSE);
+      recent = g_settings_get_strv (settings, "recent-files");
+    }
+  while (g_strv_length (recent) == 0 && g_get_monotonic_time () < deadline);
+  /* the dossier, not the text file */
+  g_assert_cmpuint (g_strv_length (recent), ==, 1);
+  g_assert_cmpstr (recent[0], ==, dossier);
+
+  g_object_unref (manager);
+  g_settings_reset (settings, "recent-files");
+  g_assert_cmpint (g_remove (dossier), ==, 0);
+  g_assert_cmpint (g_remove (note), ==, 0);
+  g_remove (store);
+  g_assert_cmpint (g_rmdir (dir), ==, 0);
+}
+
+static void
 test_help_pages (void)
 {
   static const struct {
@@ -245,6 +297,7 @@ main (int    argc,
   g_test_add_func ("/desktop/settings/defaults", test_schema_defaults);
   g_test_add_func ("/desktop/settings/bind-sky-view", test_bind_sky_view);
   g_test_add_func ("/desktop/settings/recent-files", test_recent_files);
+  g_test_add_func ("/desktop/settings/recent-manager", test_recent_manager);
   g_test_add_func ("/desktop/help/pages", test_help_pages);
   g_test_add_func ("/desktop/application", test_application);
   return g_test_run ();
