@@ -609,7 +609,10 @@ test_dossier (void)
     g_assert_cmpstr (lobe_cube, ==, "co");
     g_assert_cmpstr (line, ==, "SiO 5-4");
   }
-  cut = g_strsplit (g_key_file_get_string (dossier, "Cut axis", "path", NULL), ";", -1);
+  {
+    g_autofree char *cut_path = g_key_file_get_string (dossier, "Cut axis", "path", NULL);
+    cut = g_strsplit (cut_path, ";", -1);
+  }
   g_assert_cmpuint (g_strv_length (cut), ==, 2);
 
   /* beam 1.5" on 0.6" pixels; ambient FWHM 1 km/s, so the ranges keep out |v - vsys| < 1.5 */
