@@ -7,6 +7,11 @@
 
 #include "efflux-budget.h"
 #include "efflux-constants.h"
+#include "efflux-dossier.h"
+#include "efflux-measure.h"
+#include "efflux-synth.h"
+
+#include <glib/gstdio.h>
 
 #include <math.h>
 #include <string.h>
@@ -187,6 +192,90 @@ test_cli_usage (void)
   g_assert_nonnull (strstr (o5, "--cloud-fwhm-kms"));
 }
 
+static double
+json_value (const char *json,
+            const char *key)
+{
+  g_autofree char *pat = g_strdup_printf ("\"%s\": ", key);
+  const char *p = strstr (json, pat);
+
+  g_assert_nonnull (p);
+  return g_ascii_strtod (p + strlen (pat), NULL);
+}
+
+/* The command sums the total rows of efflux_measure_dossier over its dossiers (the same dossier
+ * given twice counts twice) and divides by the cloud's numbers above. */
+static void
+test_cli_sample (void)
+{
+  static const char recipe[] =
+    "[Recipe]\nname=cloud\nseed=3\n\n"
+    "[Source]\nname=Budget test\nra-deg=52.3\ndec-deg=31.2\ndistance-pc=300\nvsys-kms=5\n"
+    "inclination-deg=60\nposition-angle-deg=120\n\n"
+    "[Grid]\nnx=64\nny=64\npixel-arcsec=0.5\nnchan=61\nvstart-kms=-25\ndv-kms=1\nbeam-arcsec=1.2\n\n"
+    "[Physics]\ntex-k=30\nco-abundance=1e-4\n\n"
+    "[Lobe blue]\nkind=blue\nmass-msun=0.001\nlength-au=3000\nvmin-kms=2\nvmax-kms=30\ngamma=2\n"
+    "half-opening-deg=15\n\n"
+    "[Lobe red]\nkind=red\nmass-msun=0.001\nlength-au=3000\nvmin-kms=2\nvmax-kms=30\ngamma=2\n"
+    "half-opening-deg=15\n\n"
+    "[Cube co]\nline=12CO 2-1\n";
+  g_autoptr (GError) error = NULL;
+  g_autofree char *dir = g_dir_make_tmp ("efflux-budget-XXXXXX", &error);
+  g_autoptr (EffluxSynthRecipe) rc = NULL;
+  g_autoptr (EffluxDossier) dossier = NULL;
+  g_autoptr (EffluxMeasureResult) result = NULL;
+  g_autofree char *dpath = NULL;
+  g_autofree char *out = NULL, *err = NULL;
+  const EffluxMeasureRow *total = NULL;
+  EffluxCloud cloud = { 80.0, 0.2, 2.0, NAN, NAN };
+  EffluxTurbulence t;
+
+  g_assert_no_error (error);
+  rc = efflux_synth_recipe_load_data (recipe, "cloud.recipe", &error);
+  g_assert_no_error (error);
+  g_assert_true (efflux_synth_run (rc, dir, &error));
+  g_assert_no_error (error);
+  dpath = g_build_filename (dir, "cloud.efflux", NULL);
+  dossier = efflux_dossier_load (dpath, &error);
+  g_assert_no_error (error);
+  result = efflux_measure_dossier (dossier, NULL, &error);
+  g_assert_no_error (error);
+  for (guint r = 0; r < result->rows->len; r++)
+    if (((EffluxMeasureRow *) g_ptr_array_index (result->rows, r))->is_total)
+      total = g_ptr_array_index (result->rows, r);
+  g_assert_nonnull (total);
+  g_assert_cmpfloat (total->mass_msun, >, 0.0);
+  {
+    const char *argv[] = { "budget", dpath, dpath, "--cloud-mass", "80", "--cloud-radius-pc", "0.2",
+                           "--cloud-fwhm-kms", "2", "--json", NULL };
+    g_assert_cmpint (run_cli (argv, &out, &err), ==, 0);
+  }
+  g_assert_cmpfloat (json_value (out, "n_sources"), ==, 2.0);
+  assert_rel (json_value (out, "outflow_mass_msun"), 2.0 * total->mass_msun, 1e-12);
+  assert_rel (json_value (out, "outflow_momentum_msun_kms"), 2.0 * total->momentum_msun_kms, 1e-12);
+  assert_rel (json_value (out, "outflow_energy_erg"), 2.0 * total->energy_erg, 1e-12);
+  assert_rel (json_value (out, "outflow_lmech_erg_s"), 2.0 * total->lmech_lsun * EFFLUX_LSUN, 1e-12);
+  /* REFERENCES.md 4.9 through the command */
+  assert_rel (json_value (out, "e_turb_erg"), 1.72120e45, 1e-4);
+  assert_rel (json_value (out, "t_cross_yr"), 1.32936e5, 1e-4);
+  assert_rel (json_value (out, "l_turb_erg_s"), 4.1028e32, 1e-4);
+  assert_rel (json_value (out, "l_turb_maclow_erg_s"), 1.7232e32, 1e-4);
+  g_assert_true (efflux_cloud_turbulence (&cloud, &t, NULL));
+  assert_rel (json_value (out, "e_out_over_e_turb"), 2.0 * total->energy_erg / t.e_turb_erg, 1e-12);
+  assert_rel (json_value (out, "unbound_mass_msun"), 2.0 * total->momentum_msun_kms / t.v_esc_kms, 1e-12);
+
+  {
+    g_autoptr (GDir) d = g_dir_open (dir, 0, NULL);
+    const char *name;
+    while (d != NULL && (name = g_dir_read_name (d)) != NULL)
+      {
+        g_autofree char *p = g_build_filename (dir, name, NULL);
+        g_unlink (p);
+      }
+    g_rmdir (dir);
+  }
+}
+
 int
 main (int    argc,
       char **argv)
@@ -198,5 +287,6 @@ main (int    argc,
   g_test_add_func ("/budget/gravity-astropy", test_gravity_astropy);
   g_test_add_func ("/budget/refused", test_refused);
   g_test_add_func ("/budget/cli-usage", test_cli_usage);
+  g_test_add_func ("/budget/cli-sample", test_cli_sample);
   return g_test_run ();
 }
