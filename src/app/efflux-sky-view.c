@@ -1139,6 +1139,8 @@ edit_action (GtkWidget  *widget,
     }
   else if (g_str_equal (action_name, "sky.delete"))
     delete_selection (self);
+  else if (g_str_equal (action_name, "sky.new-kind"))
+    g_object_set (self, "new-lobe-kind", g_variant_get_string (parameter, NULL), NULL);
   else if (g_str_equal (action_name, "sky.tool"))
     {
       const char *name = g_variant_get_string (parameter, NULL);
@@ -2098,6 +2100,9 @@ efflux_sky_view_class_init (EffluxSkyViewClass *klass)
   gtk_widget_class_install_action (widget_class, "sky.cancel", NULL, edit_action);
   gtk_widget_class_install_action (widget_class, "sky.delete", NULL, edit_action);
   gtk_widget_class_install_action (widget_class, "sky.tool", "s", edit_action);
+  gtk_widget_class_install_action (widget_class, "sky.new-kind", "s", edit_action);
+  gtk_widget_class_add_binding_action (widget_class, GDK_KEY_b, 0, "sky.new-kind", "s", "blue");
+  gtk_widget_class_add_binding_action (widget_class, GDK_KEY_r, 0, "sky.new-kind", "s", "red");
   gtk_widget_class_add_binding_action (widget_class, GDK_KEY_Return, 0, "sky.finish", NULL);
   gtk_widget_class_add_binding_action (widget_class, GDK_KEY_KP_Enter, 0, "sky.finish", NULL);
   gtk_widget_class_add_binding_action (widget_class, GDK_KEY_Escape, 0, "sky.cancel", NULL);

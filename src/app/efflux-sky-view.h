@@ -99,8 +99,9 @@ void        efflux_sky_view_get_readout_values (EffluxSkyView    *self,
  *           "cut-width" arcsec)
  * "selected-lobe" (string, NULL: none) is the lobe clicked last.
  * Actions (also for tests): sky.add-vertex "(dd)" widget coordinates (lobe and cut tools),
- * sky.finish, sky.cancel, sky.delete, sky.tool "s". Keys: Enter, Escape, Delete; P, L, E, S, C
- * choose the tool while the view has the focus. */
+ * sky.finish, sky.cancel, sky.delete, sky.tool "s", sky.new-kind "s". Keys: Enter, Escape,
+ * Delete; P, L, E, S, C choose the tool and B, R the kind of new lobes while the view has the
+ * focus. */
 
 typedef enum
 {
