@@ -1,6 +1,8 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 #include "config.h"
 
+#include <glib/gi18n.h>
+
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
@@ -48,36 +50,39 @@ efflux_cmd_figure (int    argc,
   double width_mm = 120.0, height_mm = 0.0, dpi = 300.0;
   GOptionEntry entries[] = {
     { "view", 0, 0, G_OPTION_ARG_STRING, &view_text,
-      "What to draw: sky, cut, spectrum, mass-velocity or channels", "VIEW" },
+      N_("What to draw: sky, cut, spectrum, mass-velocity or channels"), "VIEW" },
     { "output", 'o', 0, G_OPTION_ARG_FILENAME, &output,
-      "The file to write; its name gives the format (.png, .pdf, .svg)", "OUT" },
-    { "width-mm", 0, 0, G_OPTION_ARG_DOUBLE, &width_mm, "Width in millimetres (default 120)", "W" },
+      N_("The file to write; its name gives the format (.png, .pdf, .svg)"), "OUT" },
+    { "width-mm", 0, 0, G_OPTION_ARG_DOUBLE, &width_mm, N_("Width in millimetres (default 120)"), "W" },
     { "height-mm", 0, 0, G_OPTION_ARG_DOUBLE, &height_mm,
-      "Height in millimetres (default: as the layout needs)", "H" },
-    { "dpi", 0, 0, G_OPTION_ARG_DOUBLE, &dpi, "Resolution of PNG output (default 300)", "D" },
-    { "cut", 0, 0, G_OPTION_ARG_STRING, &cut, "The cut of the cut view (default: the first)", "NAME" },
-    { "lobe", 0, 0, G_OPTION_ARG_STRING, &lobe, "Show only this lobe (default: all)", "NAME" },
-    { "grid", 0, 0, G_OPTION_ARG_STRING, &grid, "Channel maps: columns x rows (default 3x3)", "NxM" },
+      N_("Height in millimetres (default: as the layout needs)"), "H" },
+    { "dpi", 0, 0, G_OPTION_ARG_DOUBLE, &dpi, N_("Resolution of PNG output (default 300)"), "D" },
+    { "cut", 0, 0, G_OPTION_ARG_STRING, &cut, N_("The cut of the cut view (default: the first)"), "NAME" },
+    { "lobe", 0, 0, G_OPTION_ARG_STRING, &lobe, N_("Show only this lobe (default: all)"), "NAME" },
+    { "grid", 0, 0, G_OPTION_ARG_STRING, &grid, N_("Channel maps: columns x rows (default 3x3)"), "NxM" },
     { "colormap", 0, 0, G_OPTION_ARG_STRING, &colormap,
-      "cubehelix (default), grey or velocity", "MAP" },
+      N_("cubehelix (default), grey or velocity"), "MAP" },
     { "stretch", 0, 0, G_OPTION_ARG_STRING, &stretch,
-      "linear (default), sqrt, log or asinh", "STRETCH" },
+      N_("linear (default), sqrt, log or asinh"), "STRETCH" },
     { "coords", 0, 0, G_OPTION_ARG_STRING, &coords,
-      "Sky axes: sexagesimal (default) or offsets from the source", "STYLE" },
+      N_("Sky axes: sexagesimal (default) or offsets from the source"), "STYLE" },
     { G_OPTION_REMAINING, 0, 0, G_OPTION_ARG_FILENAME_ARRAY, &rest, NULL, "DOSSIER" },
     { NULL }
   };
-  g_autoptr (GOptionContext) context = g_option_context_new ("- draw a publication figure of a dossier");
+  g_autoptr (GOptionContext) context = g_option_context_new (N_("- draw a publication figure of a dossier"));
   g_autoptr (EffluxDossier) dossier = NULL;
   g_autoptr (EffluxFigure) figure = NULL;
   EffluxFigureFormat format;
+  g_autofree char *caption = NULL;
+  gboolean ok;
   GError *error = NULL;
   int status = EFFLUX_EXIT_OK;
 
   g_option_context_set_summary (context,
-                                "Draw one view of a dossier for a paper: PNG at a resolution, or PDF and SVG "
-                                "as vector graphics. The caption (contour levels, ranges, units) is printed "
-                                "on standard output and drawn under the figure.");
+                                N_("Draw one view of a dossier for a paper: PNG at a resolution, or PDF and SVG "
+                                   "as vector graphics. The caption (contour levels, ranges, units) is printed "
+                                   "on standard output and drawn under the figure."));
+  g_option_context_set_translation_domain (context, GETTEXT_PACKAGE);
   g_option_context_add_main_entries (context, entries, NULL);
   if (!efflux_cli_parse (context, &argc, &argv, &status))
     return status;
@@ -127,9 +132,13 @@ efflux_cmd_figure (int    argc,
   figure = efflux_figure_new (dossier, &error);
   if (figure == NULL)
     return efflux_cli_fail (error);
-  if (!efflux_figure_write (figure, &o, output, &error))
+  ok = efflux_figure_write (figure, &o, output, &error);
+  caption = g_strdup (efflux_figure_caption (figure));
+  g_clear_pointer (&figure, efflux_figure_free);
+  efflux_figure_release_fonts ();
+  if (!ok)
     return efflux_cli_fail (error);
-  printf ("%s\n", efflux_figure_caption (figure));
+  printf ("%s\n", caption);
   if (fflush (stdout) != 0 || ferror (stdout))
     return efflux_cli_fail (g_error_new (EFFLUX_ERROR, EFFLUX_ERROR_IO, "standard output: write failed"));
   return EFFLUX_EXIT_OK;

@@ -1,6 +1,8 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 #include "config.h"
 
+#include <glib/gi18n.h>
+
 #include <string.h>
 
 #include "efflux-cli.h"
@@ -14,22 +16,24 @@ efflux_cmd_report (int    argc,
   g_autofree char *output = NULL;
   g_auto (GStrv) rest = NULL;
   GOptionEntry entries[] = {
-    { "output", 'o', 0, G_OPTION_ARG_FILENAME, &output, "The PDF to write", "FILE.pdf" },
+    { "output", 'o', 0, G_OPTION_ARG_FILENAME, &output, N_("The PDF to write"), "FILE.pdf" },
     { G_OPTION_REMAINING, 0, 0, G_OPTION_ARG_FILENAME_ARRAY, &rest, NULL, "DOSSIER" },
     { NULL }
   };
-  g_autoptr (GOptionContext) context = g_option_context_new ("- write the per-source report (PDF)");
+  g_autoptr (GOptionContext) context = g_option_context_new (N_("- write the per-source report (PDF)"));
   g_autoptr (EffluxDossier) dossier = NULL;
   g_autoptr (EffluxFigure) figure = NULL;
   GError *error = NULL;
   int status = EFFLUX_EXIT_OK;
   const char *dot;
+  gboolean ok;
 
   g_option_context_set_summary (context,
-                                "Write the report of one source as an A4 PDF, one page per section: the "
-                                "maps with the lobes, the position-velocity cut, the mass-velocity "
-                                "spectrum, the results with their assumptions, and the review notes with "
-                                "the lobes' authors and a line for the reviewer's signature.");
+                                N_("Write the report of one source as an A4 PDF, one page per section: the "
+                                   "maps with the lobes, the position-velocity cut, the mass-velocity "
+                                   "spectrum, the results with their assumptions, and the review notes with "
+                                   "the lobes' authors and a line for the reviewer's signature."));
+  g_option_context_set_translation_domain (context, GETTEXT_PACKAGE);
   g_option_context_add_main_entries (context, entries, NULL);
   if (!efflux_cli_parse (context, &argc, &argv, &status))
     return status;
@@ -47,7 +51,10 @@ efflux_cmd_report (int    argc,
   figure = efflux_figure_new (dossier, &error);
   if (figure == NULL)
     return efflux_cli_fail (error);
-  if (!efflux_figure_write_report (figure, output, &error))
+  ok = efflux_figure_write_report (figure, output, &error);
+  g_clear_pointer (&figure, efflux_figure_free);
+  efflux_figure_release_fonts ();
+  if (!ok)
     return efflux_cli_fail (error);
   return EFFLUX_EXIT_OK;
 }

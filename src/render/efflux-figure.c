@@ -13,6 +13,7 @@
 #include <string.h>
 
 #include <cairo-pdf.h>
+#include <fontconfig/fontconfig.h>
 #include <cairo-svg.h>
 #include <pango/pangocairo.h>
 
@@ -2460,4 +2461,12 @@ efflux_figure_write_report (EffluxFigure  *figure,
       return FALSE;
     }
   return efflux_output_commit (tmp, path, error);
+}
+
+void
+efflux_figure_release_fonts (void)
+{
+  pango_cairo_font_map_set_default (NULL);
+  cairo_debug_reset_static_data ();
+  FcFini ();
 }
