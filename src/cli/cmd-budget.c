@@ -4,6 +4,8 @@
  * cloud's turbulence and binding (efflux-budget.h). */
 #include "config.h"
 
+#include <glib/gi18n.h>
+
 #include <math.h>
 #include <stdio.h>
 
@@ -32,18 +34,18 @@ efflux_cmd_budget (int    argc,
   gboolean json = FALSE;
   g_auto (GStrv) rest = NULL;
   GOptionEntry entries[] = {
-    { "cloud-mass", 0, 0, G_OPTION_ARG_DOUBLE, &mass, "The cloud's mass (Msun)", "MSUN" },
-    { "cloud-radius-pc", 0, 0, G_OPTION_ARG_DOUBLE, &radius, "The cloud's radius (pc)", "R" },
-    { "cloud-fwhm-kms", 0, 0, G_OPTION_ARG_DOUBLE, &fwhm, "The cloud's line width, FWHM (km/s)", "DV" },
+    { "cloud-mass", 0, 0, G_OPTION_ARG_DOUBLE, &mass, N_("The cloud's mass (Msun)"), "MSUN" },
+    { "cloud-radius-pc", 0, 0, G_OPTION_ARG_DOUBLE, &radius, N_("The cloud's radius (pc)"), "R" },
+    { "cloud-fwhm-kms", 0, 0, G_OPTION_ARG_DOUBLE, &fwhm, N_("The cloud's line width, FWHM (km/s)"), "DV" },
     { "maclow-eta", 0, 0, G_OPTION_ARG_DOUBLE, &eta,
-      "Coefficient eta_v of Mac Low 1999's dissipation rate (default 0.21/pi)", "ETA" },
+      N_("Coefficient eta_v of Mac Low 1999's dissipation rate (default 0.21/pi)"), "ETA" },
     { "driving-scale-pc", 0, 0, G_OPTION_ARG_DOUBLE, &lambda,
-      "Driving wavelength lambda_d of the Mac Low form (default twice the radius)", "PC" },
-    { "json", 0, 0, G_OPTION_ARG_NONE, &json, "Print JSON instead of text", NULL },
+      N_("Driving wavelength lambda_d of the Mac Low form (default twice the radius)"), "PC" },
+    { "json", 0, 0, G_OPTION_ARG_NONE, &json, N_("Print JSON instead of text"), NULL },
     { G_OPTION_REMAINING, 0, 0, G_OPTION_ARG_FILENAME_ARRAY, &rest, NULL, "DOSSIER..." },
     { NULL }
   };
-  g_autoptr (GOptionContext) context = g_option_context_new ("DOSSIER... - outflow feedback on the cloud");
+  g_autoptr (GOptionContext) context = g_option_context_new (N_("DOSSIER... - outflow feedback on the cloud"));
   EffluxCloud cloud;
   EffluxBudget b;
   double m_tot = 0.0, p_tot = 0.0, e_tot = 0.0, l_tot = 0.0;
@@ -52,11 +54,12 @@ efflux_cmd_budget (int    argc,
   guint n;
 
   g_option_context_set_summary (context,
-                                "Sum the outflows of the dossiers (mass, momentum, energy, mechanical "
-                                "luminosity of each total row, as `measure` gives them) and compare "
-                                "them with the cloud's turbulent energy and its dissipation rate "
-                                "(crossing time and Mac Low 1999 forms), its turbulent momentum, its "
-                                "gravitational binding energy, and the mass the outflows can unbind.");
+                                N_("Sum the outflows of the dossiers (mass, momentum, energy, mechanical "
+                                   "luminosity of each total row, as `measure` gives them) and compare "
+                                   "them with the cloud's turbulent energy and its dissipation rate "
+                                   "(crossing time and Mac Low 1999 forms), its turbulent momentum, its "
+                                   "gravitational binding energy, and the mass the outflows can unbind."));
+  g_option_context_set_translation_domain (context, GETTEXT_PACKAGE);
   g_option_context_add_main_entries (context, entries, NULL);
   if (!efflux_cli_parse (context, &argc, &argv, &status))
     return status;

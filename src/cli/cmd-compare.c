@@ -2,6 +2,8 @@
 /* efflux-cli compare MINE THEIRS: lobe-by-lobe overlap, velocity ranges and result ratios. */
 #include "config.h"
 
+#include <glib/gi18n.h>
+
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
@@ -246,12 +248,12 @@ efflux_cmd_compare (int    argc,
   g_autofree char *output = NULL;
   g_auto (GStrv) rest = NULL;
   GOptionEntry entries[] = {
-    { "format", 0, 0, G_OPTION_ARG_STRING, &format, "text (default, aligned), csv or json", "FORMAT" },
-    { "output", 'o', 0, G_OPTION_ARG_FILENAME, &output, "Write to this file instead of standard output", "FILE" },
+    { "format", 0, 0, G_OPTION_ARG_STRING, &format, N_("text (default, aligned), csv or json"), "FORMAT" },
+    { "output", 'o', 0, G_OPTION_ARG_FILENAME, &output, N_("Write to this file instead of standard output"), "FILE" },
     { G_OPTION_REMAINING, 0, 0, G_OPTION_ARG_FILENAME_ARRAY, &rest, NULL, "MINE THEIRS" },
     { NULL }
   };
-  g_autoptr (GOptionContext) context = g_option_context_new ("- compare two dossiers of one source");
+  g_autoptr (GOptionContext) context = g_option_context_new (N_("- compare two dossiers of one source"));
   g_autoptr (EffluxDossier) mine = NULL;
   g_autoptr (EffluxDossier) theirs = NULL;
   g_autoptr (EffluxComparison) c = NULL;
@@ -261,12 +263,13 @@ efflux_cmd_compare (int    argc,
   int status = EFFLUX_EXIT_OK;
 
   g_option_context_set_summary (context,
-                                "Compare a colleague's dossier (THEIRS) with yours (MINE), one line per "
-                                "lobe: lobes matched by name, else by the largest overlap; the overlap "
-                                "(intersection over union on the pixel grid of your lobe's cube), the "
-                                "differences of the velocity ranges (theirs - mine) and the ratios "
-                                "theirs / mine of mass, momentum, energy and tdyn; last, the status of your "
-                                "review note on their lobe ([Review LOBE] in MINE, see efflux-review.h).");
+                                N_("Compare a colleague's dossier (THEIRS) with yours (MINE), one line per "
+                                   "lobe: lobes matched by name, else by the largest overlap; the overlap "
+                                   "(intersection over union on the pixel grid of your lobe's cube), the "
+                                   "differences of the velocity ranges (theirs - mine) and the ratios "
+                                   "theirs / mine of mass, momentum, energy and tdyn; last, the status of your "
+                                   "review note on their lobe ([Review LOBE] in MINE, see efflux-review.h)."));
+  g_option_context_set_translation_domain (context, GETTEXT_PACKAGE);
   g_option_context_add_main_entries (context, entries, NULL);
   if (!efflux_cli_parse (context, &argc, &argv, &status))
     return status;

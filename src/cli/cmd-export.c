@@ -2,6 +2,8 @@
 /* efflux-cli export DOSSIER --masks 2d|3d|stcs -o FILE: lobes for other tools (efflux-export.h). */
 #include "config.h"
 
+#include <glib/gi18n.h>
+
 #include <stdio.h>
 #include <string.h>
 
@@ -18,13 +20,13 @@ efflux_cmd_export (int    argc,
   g_auto (GStrv) rest = NULL;
   GOptionEntry entries[] = {
     { "masks", 0, 0, G_OPTION_ARG_STRING, &masks,
-      "2d: FITS sky masks; 3d: FITS masks over the lobe's velocity range too; stcs: IVOA STC-S polygons (text)",
+      N_("2d: FITS sky masks; 3d: FITS masks over the lobe's velocity range too; stcs: IVOA STC-S polygons (text)"),
       "2d|3d|stcs" },
-    { "output", 'o', 0, G_OPTION_ARG_FILENAME, &output, "The file to write", "FILE" },
+    { "output", 'o', 0, G_OPTION_ARG_FILENAME, &output, N_("The file to write"), "FILE" },
     { G_OPTION_REMAINING, 0, 0, G_OPTION_ARG_FILENAME_ARRAY, &rest, NULL, "DOSSIER" },
     { NULL }
   };
-  g_autoptr (GOptionContext) context = g_option_context_new ("- export the lobes for other tools");
+  g_autoptr (GOptionContext) context = g_option_context_new (N_("- export the lobes for other tools"));
   g_autoptr (EffluxDossier) dossier = NULL;
   g_autoptr (GHashTable) cubes = NULL;
   EffluxExportKind kind;
@@ -32,11 +34,12 @@ efflux_cmd_export (int    argc,
   int status = EFFLUX_EXIT_OK;
 
   g_option_context_set_summary (context,
-                                "Export every lobe of a dossier: as FITS masks (one image extension per "
-                                "lobe, named after it, 1 inside and 0 outside, with the WCS of the lobe's "
-                                "cube; 3d adds the cube's velocity axis and keeps the lobe's range) or as "
-                                "IVOA STC-S polygons, one 'Polygon ICRS TOPOCENTER ...' line per lobe "
-                                "after a '#' line naming it.");
+                                N_("Export every lobe of a dossier: as FITS masks (one image extension per "
+                                   "lobe, named after it, 1 inside and 0 outside, with the WCS of the lobe's "
+                                   "cube; 3d adds the cube's velocity axis and keeps the lobe's range) or as "
+                                   "IVOA STC-S polygons, one 'Polygon ICRS TOPOCENTER ...' line per lobe "
+                                   "after a '#' line naming it."));
+  g_option_context_set_translation_domain (context, GETTEXT_PACKAGE);
   g_option_context_add_main_entries (context, entries, NULL);
   if (!efflux_cli_parse (context, &argc, &argv, &status))
     return status;

@@ -2,6 +2,8 @@
 /* efflux-cli info CUBE [--json]: describe a FITS cube as read by efflux_cube_load. */
 #include "config.h"
 
+#include <glib/gi18n.h>
+
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -168,12 +170,12 @@ efflux_cmd_info (int    argc,
   int hdu = 0;
   g_auto(GStrv) files = NULL;
   GOptionEntry entries[] = {
-    { "json", 0, 0, G_OPTION_ARG_NONE, &json, "Print one JSON object", NULL },
-    { "hdu", 0, 0, G_OPTION_ARG_INT, &hdu, "Read this HDU (1-based; default: the first holding a cube)", "N" },
+    { "json", 0, 0, G_OPTION_ARG_NONE, &json, N_("Print one JSON object"), NULL },
+    { "hdu", 0, 0, G_OPTION_ARG_INT, &hdu, N_("Read this HDU (1-based; default: the first holding a cube)"), "N" },
     { G_OPTION_REMAINING, 0, 0, G_OPTION_ARG_FILENAME_ARRAY, &files, NULL, "CUBE" },
     { NULL, 0, 0, 0, NULL, NULL, NULL },
   };
-  g_autoptr(GOptionContext) context = g_option_context_new ("CUBE");
+  g_autoptr(GOptionContext) context = g_option_context_new (N_("CUBE"));
   EffluxCubeLoadOptions options = { 0 };
   g_autoptr(EffluxCube) cube = NULL;
   GError *error = NULL;
@@ -182,8 +184,9 @@ efflux_cmd_info (int    argc,
   int status = 0;
 
   g_option_context_set_summary (context,
-                                "Describe a FITS cube: axes, sizes, sky and velocity axes, units, beam,\n"
-                                "rest frequency and noise estimate, as Efflux reads it.");
+                                N_("Describe a FITS cube: axes, sizes, sky and velocity axes, units, beam,\n"
+                                   "rest frequency and noise estimate, as Efflux reads it."));
+  g_option_context_set_translation_domain (context, GETTEXT_PACKAGE);
   g_option_context_add_main_entries (context, entries, NULL);
   if (!efflux_cli_parse (context, &argc, &argv, &status))
     return status;

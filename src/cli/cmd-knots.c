@@ -4,6 +4,8 @@
  * between ejections (efflux-knots.h). */
 #include "config.h"
 
+#include <glib/gi18n.h>
+
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
@@ -32,19 +34,19 @@ efflux_cmd_knots (int    argc,
   double vmin = NAN, threshold = NAN, incl = NAN;
   g_auto (GStrv) rest = NULL;
   GOptionEntry entries[] = {
-    { "cut", 0, 0, G_OPTION_ARG_STRING, &cut, "The dossier's [Cut NAME] along the jet", "NAME" },
-    { "cube", 0, 0, G_OPTION_ARG_STRING, &cube, "Sample this [Cube ID] along the cut (default: the cut's cube)", "ID" },
-    { "format", 0, 0, G_OPTION_ARG_STRING, &format, "text (default), csv or json", "FORMAT" },
+    { "cut", 0, 0, G_OPTION_ARG_STRING, &cut, N_("The dossier's [Cut NAME] along the jet"), "NAME" },
+    { "cube", 0, 0, G_OPTION_ARG_STRING, &cube, N_("Sample this [Cube ID] along the cut (default: the cut's cube)"), "ID" },
+    { "format", 0, 0, G_OPTION_ARG_STRING, &format, N_("text (default), csv or json"), "FORMAT" },
     { "vmin-kms", 0, 0, G_OPTION_ARG_DOUBLE, &vmin,
-      "Integrate only |v - vsys| >= this (e.g. for high-velocity CO; default 0)", "KMS" },
+      N_("Integrate only |v - vsys| >= this (e.g. for high-velocity CO; default 0)"), "KMS" },
     { "threshold-k-kms", 0, 0, G_OPTION_ARG_DOUBLE, &threshold,
-      "Knots are maxima of the integrated profile above this (default 5 x its noise, at least 5% of its peak)", "KKMS" },
+      /* xgettext:no-c-format */ N_("Knots are maxima of the integrated profile above this (default 5 x its noise, at least 5% of its peak)"), "KKMS" },
     { "inclination-deg", 0, 0, G_OPTION_ARG_DOUBLE, &incl,
-      "Inclination from the line of sight (default: the dossier's fixed inclination)", "DEG" },
+      N_("Inclination from the line of sight (default: the dossier's fixed inclination)"), "DEG" },
     { G_OPTION_REMAINING, 0, 0, G_OPTION_ARG_FILENAME_ARRAY, &rest, NULL, "DOSSIER" },
     { NULL }
   };
-  g_autoptr (GOptionContext) context = g_option_context_new ("DOSSIER - knots along a jet cut");
+  g_autoptr (GOptionContext) context = g_option_context_new (N_("DOSSIER - knots along a jet cut"));
   g_autoptr (EffluxDossier) dossier = NULL;
   g_autoptr (EffluxKnotList) list = NULL;
   g_autoptr (GString) s = g_string_new (NULL);
@@ -53,11 +55,12 @@ efflux_cmd_knots (int    argc,
   int status = EFFLUX_EXIT_OK;
 
   g_option_context_set_summary (context,
-                                "Find the knots along a jet cut (maxima of the velocity-integrated PV "
-                                "profile, SiO or high-velocity CO): offset from the source, velocity, "
-                                "dynamical age corrected for the inclination ((offset / sin i) / "
-                                "(|v - vsys| / cos i) at the dossier's distance), and the interval "
-                                "since the previous ejection on the same side.");
+                                N_("Find the knots along a jet cut (maxima of the velocity-integrated PV "
+                                   "profile, SiO or high-velocity CO): offset from the source, velocity, "
+                                   "dynamical age corrected for the inclination ((offset / sin i) / "
+                                   "(|v - vsys| / cos i) at the dossier's distance), and the interval "
+                                   "since the previous ejection on the same side."));
+  g_option_context_set_translation_domain (context, GETTEXT_PACKAGE);
   g_option_context_add_main_entries (context, entries, NULL);
   if (!efflux_cli_parse (context, &argc, &argv, &status))
     return status;

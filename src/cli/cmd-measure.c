@@ -1,6 +1,8 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 #include "config.h"
 
+#include <glib/gi18n.h>
+
 #include "efflux-cli.h"
 #include "efflux-error.h"
 #include "efflux-io.h"
@@ -232,15 +234,15 @@ efflux_cmd_measure (int    argc,
   gboolean mark = FALSE;
   GOptionEntry entries[] = {
     { "format", 'f', 0, G_OPTION_ARG_STRING, &format,
-      "csv, ecsv, votable, latex, markdown or json (default: from the -o extension; a table on a terminal; csv otherwise)", "FORMAT" },
-    { "output", 'o', 0, G_OPTION_ARG_FILENAME, &output, "write the table to FILE (atomically) instead of standard output", "FILE" },
+      N_("csv, ecsv, votable, latex, markdown or json (default: from the -o extension; a table on a terminal; csv otherwise)"), "FORMAT" },
+    { "output", 'o', 0, G_OPTION_ARG_FILENAME, &output, N_("write the table to FILE (atomically) instead of standard output"), "FILE" },
     { "shard", 0, 0, G_OPTION_ARG_STRING, &shard,
-      "measure only sources K, K+N, K+2N, ... of the sample (1 <= K <= N), for a cluster job array", "K/N" },
-    { "mark", 0, 0, G_OPTION_ARG_NONE, &mark, "record in each measured dossier's [Status] group that it was measured", NULL },
-    { "spectrum", 0, 0, G_OPTION_ARG_FILENAME, &spectrum, "also write the mass-velocity spectrum of every lobe to FILE.csv", "FILE.csv" },
+      N_("measure only sources K, K+N, K+2N, ... of the sample (1 <= K <= N), for a cluster job array"), "K/N" },
+    { "mark", 0, 0, G_OPTION_ARG_NONE, &mark, N_("record in each measured dossier's [Status] group that it was measured"), NULL },
+    { "spectrum", 0, 0, G_OPTION_ARG_FILENAME, &spectrum, N_("also write the mass-velocity spectrum of every lobe to FILE.csv"), "FILE.csv" },
     { NULL }
   };
-  g_autoptr (GOptionContext) ctx = g_option_context_new ("DOSSIER|FOLDER... - measure every lobe of a sample of dossiers");
+  g_autoptr (GOptionContext) ctx = g_option_context_new (N_("DOSSIER|FOLDER... - measure every lobe of a sample of dossiers"));
   g_autoptr (GArray) all = g_array_new (FALSE, TRUE, sizeof (Measured));
   g_autoptr (GPtrArray) sample = g_ptr_array_new_with_free_func (g_free);
   g_autoptr (EffluxTable) table = efflux_table_new ();
@@ -254,12 +256,13 @@ efflux_cmd_measure (int    argc,
 
   g_array_set_clear_func (all, measured_clear);
   g_set_prgname ("efflux-cli measure");
+  g_option_context_set_translation_domain (ctx, GETTEXT_PACKAGE);
   g_option_context_add_main_entries (ctx, entries, NULL);
   g_option_context_set_summary (ctx,
-                                "One row per lobe and a total row per source (CONTRACT.md columns first, then\n"
-                                "noise errors, P/M and its age, Monte Carlo percentiles, mass-velocity fits,\n"
-                                "the hidden low-velocity mass and the opacity method). A FOLDER stands for its\n"
-                                "dossiers (*.efflux) sorted by name. Notes go to stderr.");
+                                N_("One row per lobe and a total row per source (CONTRACT.md columns first, then\n"
+                                   "noise errors, P/M and its age, Monte Carlo percentiles, mass-velocity fits,\n"
+                                   "the hidden low-velocity mass and the opacity method). A FOLDER stands for its\n"
+                                   "dossiers (*.efflux) sorted by name. Notes go to stderr."));
   if (!efflux_cli_parse (ctx, &argc, &argv, &status))
     return status;
   if (argc < 2)

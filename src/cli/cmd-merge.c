@@ -1,6 +1,8 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 #include "config.h"
 
+#include <glib/gi18n.h>
+
 #include "efflux-cli.h"
 #include "efflux-error.h"
 #include "efflux-io.h"
@@ -52,11 +54,11 @@ efflux_cmd_merge (int    argc,
   g_autofree char *output = NULL;
   GOptionEntry entries[] = {
     { "format", 'f', 0, G_OPTION_ARG_STRING, &format,
-      "csv, ecsv, votable, latex, markdown or json (default: from the -o extension, else csv)", "FORMAT" },
-    { "output", 'o', 0, G_OPTION_ARG_FILENAME, &output, "write the table to FILE (atomically) instead of standard output", "FILE" },
+      N_("csv, ecsv, votable, latex, markdown or json (default: from the -o extension, else csv)"), "FORMAT" },
+    { "output", 'o', 0, G_OPTION_ARG_FILENAME, &output, N_("write the table to FILE (atomically) instead of standard output"), "FILE" },
     { NULL }
   };
-  g_autoptr (GOptionContext) ctx = g_option_context_new ("PART.csv... - join the parts of a sharded measurement");
+  g_autoptr (GOptionContext) ctx = g_option_context_new (N_("PART.csv... - join the parts of a sharded measurement"));
   g_autoptr (GPtrArray) parts = g_ptr_array_new_with_free_func ((GDestroyNotify) efflux_table_free);
   g_autoptr (EffluxTable) merged = NULL;
   g_autofree char *text = NULL;
@@ -66,10 +68,11 @@ efflux_cmd_merge (int    argc,
   int status;
 
   g_set_prgname ("efflux-cli merge");
+  g_option_context_set_translation_domain (ctx, GETTEXT_PACKAGE);
   g_option_context_add_main_entries (ctx, entries, NULL);
   g_option_context_set_summary (ctx,
-                                "The parts are csv tables written by `efflux-cli measure --shard K/N`; the result\n"
-                                "is the table of the whole sample, sources in sample order.");
+                                N_("The parts are csv tables written by `efflux-cli measure --shard K/N`; the result\n"
+                                   "is the table of the whole sample, sources in sample order."));
   if (!efflux_cli_parse (ctx, &argc, &argv, &status))
     return status;
   if (argc < 2)

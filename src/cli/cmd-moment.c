@@ -1,6 +1,8 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 #include "config.h"
 
+#include <glib/gi18n.h>
+
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
@@ -57,16 +59,16 @@ efflux_cmd_moment (int    argc,
   double clip_sigma = 0.0, v1, v2;
   GOptionEntry entries[] = {
     { "order", 0, 0, G_OPTION_ARG_STRING, &order_text,
-      "Which map: 0 (K km/s), 1 (km/s), 2 (dispersion, km/s) or peak (K)", "0|1|2|peak" },
+      N_("Which map: 0 (K km/s), 1 (km/s), 2 (dispersion, km/s) or peak (K)"), "0|1|2|peak" },
     { "range", 0, 0, G_OPTION_ARG_STRING, &range_text,
-      "Channels whose centre velocity lies in [V1, V2] km/s, inclusive", "V1:V2" },
+      N_("Channels whose centre velocity lies in [V1, V2] km/s, inclusive"), "V1:V2" },
     { "clip-sigma", 0, 0, G_OPTION_ARG_DOUBLE, &clip_sigma,
-      "Leave out voxels below S x the channel rms (0: keep all)", "S" },
-    { "output", 'o', 0, G_OPTION_ARG_FILENAME, &output, "The FITS map to write", "OUT.fits" },
+      N_("Leave out voxels below S x the channel rms (0: keep all)"), "S" },
+    { "output", 'o', 0, G_OPTION_ARG_FILENAME, &output, N_("The FITS map to write"), "OUT.fits" },
     { G_OPTION_REMAINING, 0, 0, G_OPTION_ARG_FILENAME_ARRAY, &rest, NULL, "CUBE" },
     { NULL }
   };
-  g_autoptr (GOptionContext) context = g_option_context_new ("- write one moment map of a cube");
+  g_autoptr (GOptionContext) context = g_option_context_new (N_("- write one moment map of a cube"));
   g_autoptr (EffluxCube) cube = NULL;
   g_autofree float *image = NULL;
   EffluxCubeLoadOptions load = { 0 };
@@ -76,8 +78,9 @@ efflux_cmd_moment (int    argc,
   gsize k0, k1;
 
   g_option_context_set_summary (context,
-                                "Write one moment map of a cube over a velocity range, on the "
-                                "cube's sky grid.");
+                                N_("Write one moment map of a cube over a velocity range, on the "
+                                   "cube's sky grid."));
+  g_option_context_set_translation_domain (context, GETTEXT_PACKAGE);
   g_option_context_add_main_entries (context, entries, NULL);
   if (!efflux_cli_parse (context, &argc, &argv, &status))
     return status;

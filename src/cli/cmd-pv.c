@@ -1,6 +1,8 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 #include "config.h"
 
+#include <glib/gi18n.h>
+
 #include <math.h>
 #include <stdio.h>
 
@@ -20,14 +22,14 @@ efflux_cmd_pv (int    argc,
   gsize n_vertices = 0;
   GOptionEntry entries[] = {
     { "path", 0, 0, G_OPTION_ARG_STRING, &path_text,
-      "The cut's vertices, ICRS degrees", "RA1,DEC1;RA2,DEC2[;...]" },
+      N_("The cut's vertices, ICRS degrees"), "RA1,DEC1;RA2,DEC2[;...]" },
     { "width-arcsec", 0, 0, G_OPTION_ARG_DOUBLE, &width,
-      "Average across the path over this width (0: the central sample only)", "W" },
-    { "output", 'o', 0, G_OPTION_ARG_FILENAME, &output, "The FITS diagram to write", "OUT.fits" },
+      N_("Average across the path over this width (0: the central sample only)"), "W" },
+    { "output", 'o', 0, G_OPTION_ARG_FILENAME, &output, N_("The FITS diagram to write"), "OUT.fits" },
     { G_OPTION_REMAINING, 0, 0, G_OPTION_ARG_FILENAME_ARRAY, &rest, NULL, "CUBE" },
     { NULL }
   };
-  g_autoptr (GOptionContext) context = g_option_context_new ("- write a position-velocity diagram");
+  g_autoptr (GOptionContext) context = g_option_context_new (N_("- write a position-velocity diagram"));
   g_autoptr (EffluxCube) cube = NULL;
   g_autoptr (EffluxPv) pv = NULL;
   EffluxCubeLoadOptions load = { 0 };
@@ -35,8 +37,9 @@ efflux_cmd_pv (int    argc,
   int status = EFFLUX_EXIT_OK;
 
   g_option_context_set_summary (context,
-                                "Write a position-velocity diagram along a polyline: axis 1 the "
-                                "offset from the first vertex (arcsec), axis 2 the velocity (km/s).");
+                                N_("Write a position-velocity diagram along a polyline: axis 1 the "
+                                   "offset from the first vertex (arcsec), axis 2 the velocity (km/s)."));
+  g_option_context_set_translation_domain (context, GETTEXT_PACKAGE);
   g_option_context_add_main_entries (context, entries, NULL);
   if (!efflux_cli_parse (context, &argc, &argv, &status))
     return status;

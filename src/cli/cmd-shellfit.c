@@ -4,6 +4,8 @@
  * the bow-shock spurs where the shell does not fit. */
 #include "config.h"
 
+#include <glib/gi18n.h>
+
 #include <math.h>
 #include <stdio.h>
 
@@ -31,16 +33,16 @@ efflux_cmd_shellfit (int    argc,
   double threshold = NAN, vmin = NAN;
   g_auto (GStrv) rest = NULL;
   GOptionEntry entries[] = {
-    { "cut", 0, 0, G_OPTION_ARG_STRING, &cut, "The dossier's [Cut NAME] along the outflow axis", "NAME" },
+    { "cut", 0, 0, G_OPTION_ARG_STRING, &cut, N_("The dossier's [Cut NAME] along the outflow axis"), "NAME" },
     { "threshold-k", 0, 0, G_OPTION_ARG_DOUBLE, &threshold,
-      "Fit the PV pixels above this brightness (default 5 x the noise, at least 5% of the peak)", "K" },
+      /* xgettext:no-c-format */ N_("Fit the PV pixels above this brightness (default 5 x the noise, at least 5% of the peak)"), "K" },
     { "vmin-kms", 0, 0, G_OPTION_ARG_DOUBLE, &vmin,
-      "Leave out |v - vsys| below this (default: from the lobes' velocity ranges)", "KMS" },
-    { "json", 0, 0, G_OPTION_ARG_NONE, &json, "Print JSON instead of text", NULL },
+      N_("Leave out |v - vsys| below this (default: from the lobes' velocity ranges)"), "KMS" },
+    { "json", 0, 0, G_OPTION_ARG_NONE, &json, N_("Print JSON instead of text"), NULL },
     { G_OPTION_REMAINING, 0, 0, G_OPTION_ARG_FILENAME_ARRAY, &rest, NULL, "DOSSIER" },
     { NULL }
   };
-  g_autoptr (GOptionContext) context = g_option_context_new ("DOSSIER - fit a wind-driven shell to a cut");
+  g_autoptr (GOptionContext) context = g_option_context_new (N_("DOSSIER - fit a wind-driven shell to a cut"));
   g_autoptr (EffluxDossier) dossier = NULL;
   g_autoptr (EffluxShellFit) fit = NULL;
   EffluxShellfitOptions opt = { NAN, NAN, NAN };
@@ -48,12 +50,13 @@ efflux_cmd_shellfit (int    argc,
   int status = EFFLUX_EXIT_OK;
 
   g_option_context_set_summary (context,
-                                "Fit a wind-driven shell (z = C R^2 in a Hubble flow v = r/t0, Lee et al. "
-                                "2000) to the PV emission of a cut along the outflow axis, each lobe on "
-                                "its side of the source: inclination from the line of sight, age t0 at "
-                                "the dossier's distance, C per arcsec, with errors from the fit's "
-                                "covariance. Columns where the emission leaves the shell with a broad "
-                                "velocity range are reported as bow-shock spurs.");
+                                N_("Fit a wind-driven shell (z = C R^2 in a Hubble flow v = r/t0, Lee et al. "
+                                   "2000) to the PV emission of a cut along the outflow axis, each lobe on "
+                                   "its side of the source: inclination from the line of sight, age t0 at "
+                                   "the dossier's distance, C per arcsec, with errors from the fit's "
+                                   "covariance. Columns where the emission leaves the shell with a broad "
+                                   "velocity range are reported as bow-shock spurs."));
+  g_option_context_set_translation_domain (context, GETTEXT_PACKAGE);
   g_option_context_add_main_entries (context, entries, NULL);
   if (!efflux_cli_parse (context, &argc, &argv, &status))
     return status;

@@ -2,6 +2,8 @@
 /* efflux-cli synth RECIPE [-o DIR]: synthetic outflow cubes, their truth and a dossier. */
 #include "config.h"
 
+#include <glib/gi18n.h>
+
 #include <gio/gio.h>
 #include <stdio.h>
 
@@ -16,18 +18,19 @@ efflux_cmd_synth (int    argc,
   g_autofree char *out_dir = NULL;
   GOptionEntry entries[] = {
     { "output", 'o', 0, G_OPTION_ARG_FILENAME, &out_dir,
-      "Write into DIR (created when missing; default: the current directory)", "DIR" },
+      N_("Write into DIR (created when missing; default: the current directory)"), "DIR" },
     { NULL }
   };
-  g_autoptr (GOptionContext) context = g_option_context_new ("RECIPE");
+  g_autoptr (GOptionContext) context = g_option_context_new (N_("RECIPE"));
   g_autoptr (EffluxSynthRecipe) recipe = NULL;
   GError *error = NULL;
   int status = EFFLUX_EXIT_OK;
 
   g_option_context_set_summary (context,
-                                "Write synthetic outflow cubes of an invented protostar, the true values "
-                                "behind them (NAME.truth) and a matching dossier (NAME.efflux) from a "
-                                "recipe file (key-file syntax, see sample-data/README.md).");
+                                N_("Write synthetic outflow cubes of an invented protostar, the true values "
+                                   "behind them (NAME.truth) and a matching dossier (NAME.efflux) from a "
+                                   "recipe file (key-file syntax, see sample-data/README.md)."));
+  g_option_context_set_translation_domain (context, GETTEXT_PACKAGE);
   g_option_context_add_main_entries (context, entries, NULL);
   if (!efflux_cli_parse (context, &argc, &argv, &status))
     return status;

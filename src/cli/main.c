@@ -2,6 +2,7 @@
 #include "config.h"
 
 #include <glib.h>
+#include <glib/gi18n.h>
 #include <locale.h>
 #include <signal.h>
 #include <stdio.h>
@@ -17,35 +18,32 @@ typedef struct
 } Command;
 
 static const Command commands[] = {
-  { "info", efflux_cmd_info, "describe a FITS cube: axes, velocity, units, beam, noise" },
-  { "moment", efflux_cmd_moment, "write a moment map (0, 1, 2 or peak) over a velocity range" },
-  { "pv", efflux_cmd_pv, "write a position-velocity diagram along a polyline" },
-  { "synth", efflux_cmd_synth, "write synthetic outflow cubes, their truth and a dossier from a recipe" },
-  { "measure", efflux_cmd_measure, "measure every lobe of dossiers: mass, momentum, energy, rates, errors" },
-  { "figure", efflux_cmd_figure, "draw a publication figure of a dossier (PNG, PDF or SVG)" },
-  { "report", efflux_cmd_report, "write the per-source report with a reviewer's sign-off page (PDF)" },
-  { "merge", efflux_cmd_merge, "join the csv parts of a sharded measurement (measure --shard K/N)" },
-  { "compare", efflux_cmd_compare, "compare two dossiers of one source lobe by lobe: overlap, velocities, ratios" },
-  { "export", efflux_cmd_export, "export the lobes as FITS masks (2-D, 3-D) or IVOA STC-S polygons" },
-  { "shellfit", efflux_cmd_shellfit, "fit a wind-driven shell to a cut's PV emission: inclination, age" },
-  { "knots", efflux_cmd_knots, "find the knots along a jet cut: offsets, velocities, ages, intervals" },
-  { "budget", efflux_cmd_budget, "outflow energy and momentum against the cloud's turbulence and binding" },
+  { "info", efflux_cmd_info, N_("describe a FITS cube: axes, velocity, units, beam, noise") },
+  { "moment", efflux_cmd_moment, N_("write a moment map (0, 1, 2 or peak) over a velocity range") },
+  { "pv", efflux_cmd_pv, N_("write a position-velocity diagram along a polyline") },
+  { "synth", efflux_cmd_synth, N_("write synthetic outflow cubes, their truth and a dossier from a recipe") },
+  { "measure", efflux_cmd_measure, N_("measure every lobe of dossiers: mass, momentum, energy, rates, errors") },
+  { "figure", efflux_cmd_figure, N_("draw a publication figure of a dossier (PNG, PDF or SVG)") },
+  { "report", efflux_cmd_report, N_("write the per-source report with a reviewer's sign-off page (PDF)") },
+  { "merge", efflux_cmd_merge, N_("join the csv parts of a sharded measurement (measure --shard K/N)") },
+  { "compare", efflux_cmd_compare, N_("compare two dossiers of one source lobe by lobe: overlap, velocities, ratios") },
+  { "export", efflux_cmd_export, N_("export the lobes as FITS masks (2-D, 3-D) or IVOA STC-S polygons") },
+  { "shellfit", efflux_cmd_shellfit, N_("fit a wind-driven shell to a cut's PV emission: inclination, age") },
+  { "knots", efflux_cmd_knots, N_("find the knots along a jet cut: offsets, velocities, ages, intervals") },
+  { "budget", efflux_cmd_budget, N_("outflow energy and momentum against the cloud's turbulence and binding") },
 };
 
 static void
 print_help (FILE *out)
 {
-  fprintf (out,
-           "Usage: efflux-cli COMMAND [OPTION...]\n"
-           "\n"
-           "Measure protostellar outflows in spectral-line cubes, headless.\n"
-           "\n"
-           "Commands:\n");
+  fprintf (out, "%s\n\n%s\n\n%s\n",
+           _("Usage: efflux-cli COMMAND [OPTION…]"),
+           _("Measure protostellar outflows in spectral-line cubes, headless."),
+           _("Commands:"));
   for (gsize i = 0; i < G_N_ELEMENTS (commands); i++)
-    fprintf (out, "  %-10s %s\n", commands[i].name, commands[i].summary);
-  fprintf (out,
-           "\n"
-           "Every command accepts --help. Exit status: 0 success, 1 input refused, 2 wrong usage.\n");
+    fprintf (out, "  %-10s %s\n", commands[i].name, _(commands[i].summary));
+  fprintf (out, "\n%s\n",
+           _("Every command accepts --help. Exit status: 0 success, 1 input refused, 2 wrong usage."));
 }
 
 int
@@ -53,6 +51,11 @@ main (int    argc,
       char **argv)
 {
   setlocale (LC_ALL, "");
+  /* EFFLUX_LOCALEDIR: translations not installed yet (the build tree's po/, used by the tests) */
+  bindtextdomain (GETTEXT_PACKAGE, g_getenv ("EFFLUX_LOCALEDIR") != NULL && *g_getenv ("EFFLUX_LOCALEDIR") != '\0'
+                                   ? g_getenv ("EFFLUX_LOCALEDIR") : LOCALEDIR);
+  bind_textdomain_codeset (GETTEXT_PACKAGE, "UTF-8");
+  textdomain (GETTEXT_PACKAGE);
   /* A closed pipe must give an error, never a death by signal. */
   signal (SIGPIPE, SIG_IGN);
   g_set_prgname ("efflux-cli");
