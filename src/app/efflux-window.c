@@ -240,10 +240,11 @@ range_changed (GtkWidget    *view,
     self->range_merge = 0;
 }
 
-static const gboolean cut_view_frees_sets = FALSE;
-
+/* force: the dossier's cut changed, so make the cut again on the shown cube. A cut made on a
+ * cube that is no longer shown stays (with its cube alive) until the cut itself is edited. */
 static void
-sync_cut (EffluxWindow *self)
+sync_cut (EffluxWindow *self,
+          gboolean      force)
 {
   const EffluxDossier *d = window_dossier (self);
   const EffluxDossierCut *cut = NULL;
@@ -258,15 +259,8 @@ sync_cut (EffluxWindow *self)
       return;
     }
   cut = g_ptr_array_index (d->cuts, 0);
-  /* FIXME: the Cut view cannot yet free a set it showed (efflux-cut-view.c frees the NULL
-   * entries of its contour list with g_ptr_array_unref: a critical, fatal in the tests). Until
-   * that is fixed there, the window does not hand it a cut. */
-  if (!cut_view_frees_sets)
-    {
-      gtk_widget_set_visible (self->cut_box, FALSE);
-      return;
-    }
-  if (efflux_cut_view_get_pv_set (self->cut_view) != NULL)
+  if (efflux_cut_view_get_pv_set (self->cut_view) != NULL &&
+      !(force && self->cut_cube == self->cube))
     return;
   ra_dec = g_new (double, 2 * cut->n_vertices);
   for (gsize i = 0; i < cut->n_vertices; i++)
@@ -297,7 +291,7 @@ sync_views (EffluxWindow *self,
       return;
     }
   if (group == NULL || g_str_has_prefix (group, "Cut "))
-    sync_cut (self);
+    sync_cut (self, group != NULL);
   if (d->inclination_mode == EFFLUX_INCLINATION_FIXED)
     incl = d->inclination_deg;
   else if (d->inclination_mode == EFFLUX_INCLINATION_RANGE)
