@@ -262,12 +262,7 @@ sync_cut (EffluxWindow *self,
   if (efflux_cut_view_get_pv_set (self->cut_view) != NULL &&
       !(force && self->cut_cube == self->cube))
     return;
-  ra_dec = g_new (double, 2 * cut->n_vertices);
-  for (gsize i = 0; i < cut->n_vertices; i++)
-    {
-      ra_dec[2 * i] = cut->ra_deg[i];
-      ra_dec[2 * i + 1] = cut->dec_deg[i];
-    }
+  ra_dec = efflux_dossier_cut_path (cut);
   cubes[0] = self->cube;
   names[0] = self->shown_cube_id;
   self->cut_cube = self->cube;

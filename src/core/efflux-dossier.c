@@ -945,3 +945,18 @@ efflux_dossier_author (const EffluxDossier *d)
     }
   return NULL;
 }
+
+double *
+efflux_dossier_cut_path (const EffluxDossierCut *cut)
+{
+  double *ra_dec;
+
+  g_return_val_if_fail (cut != NULL, NULL);
+  ra_dec = g_new (double, 2 * cut->n_vertices);
+  for (gsize i = 0; i < cut->n_vertices; i++)
+    {
+      ra_dec[2 * i] = cut->ra_deg[i];
+      ra_dec[2 * i + 1] = cut->dec_deg[i];
+    }
+  return ra_dec;
+}

@@ -196,6 +196,9 @@ gboolean       efflux_dossier_set_lobe_note     (EffluxDossier *dossier,
 /* Who drew the dossier's lobes: the author of the first lobe that names one, or NULL. */
 const char    *efflux_dossier_author            (const EffluxDossier *dossier);
 
+/* The cut's vertices as interleaved (ra, dec) ICRS degrees, the form efflux-pv.h takes; g_free it. */
+double        *efflux_dossier_cut_path      (const EffluxDossierCut *cut);
+
 G_DEFINE_AUTOPTR_CLEANUP_FUNC (EffluxDossier, efflux_dossier_free)
 
 G_END_DECLS

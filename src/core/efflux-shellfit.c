@@ -879,12 +879,7 @@ efflux_shellfit_dossier (const EffluxDossier          *dossier,
   cube = efflux_cube_load (dc->abs_path, &load, NULL, NULL, NULL, error);
   if (cube == NULL)
     return NULL;
-  ra_dec = g_new (double, 2 * cut->n_vertices);
-  for (gsize v = 0; v < cut->n_vertices; v++)
-    {
-      ra_dec[2 * v] = cut->ra_deg[v];
-      ra_dec[2 * v + 1] = cut->dec_deg[v];
-    }
+  ra_dec = efflux_dossier_cut_path (cut);
   pv = efflux_pv_cut (cube, ra_dec, cut->n_vertices, cut->width_arcsec, error);
   if (pv == NULL)
     {

@@ -1265,12 +1265,7 @@ draw_cut (EffluxFigure              *figure,
                    cut->name, cut->cube_id);
       return -1;
     }
-  ra_dec = g_new (double, 2 * cut->n_vertices);
-  for (gsize i = 0; i < cut->n_vertices; i++)
-    {
-      ra_dec[2 * i] = cut->ra_deg[i];
-      ra_dec[2 * i + 1] = cut->dec_deg[i];
-    }
+  ra_dec = efflux_dossier_cut_path (cut);
   pv = efflux_pv_cut (cube, ra_dec, cut->n_vertices, cut->width_arcsec, error);
   if (pv == NULL)
     return -1;
