@@ -7,6 +7,8 @@
 #include "efflux-constants.h"
 #include "efflux-kinematics.h"
 
+#include <string.h>
+
 /* parsecs per arcsec at 1 pc: 1 au / 1 pc = pi / 648000 (IAU 2015 Resolution B2) */
 #define PC_PER_ARCSEC_AT_1PC (G_PI / 648000.0)
 
@@ -126,4 +128,72 @@ efflux_kinematics_pv_sigma (const EffluxCube *cube)
     return NAN;
   qsort (v, n, sizeof (double), compare_double);
   return (n % 2 == 1) ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
+}
+
+gboolean
+efflux_dossier_cut_pv (const EffluxDossier *dossier,
+                       const char          *cut_name,
+                       const char          *cube_id,
+                       EffluxDossierCutPv  *out,
+                       GError             **error)
+{
+  const EffluxDossierCut *cut = NULL;
+  EffluxCubeLoadOptions load = { 0 };
+  g_autofree double *ra_dec = NULL;
+  double sx, sy, sdist;
+
+  g_return_val_if_fail (dossier != NULL && cut_name != NULL && out != NULL, FALSE);
+  memset (out, 0, sizeof *out);
+  for (guint i = 0; i < dossier->cuts->len; i++)
+    {
+      const EffluxDossierCut *c = g_ptr_array_index (dossier->cuts, i);
+      if (strcmp (c->name, cut_name) == 0)
+        cut = c;
+    }
+  if (cut == NULL)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: [Cut %s]: no such cut in the dossier",
+                   dossier->path, cut_name);
+      return FALSE;
+    }
+  out->dc = efflux_dossier_find_cube (dossier, cube_id != NULL ? cube_id : cut->cube_id);
+  if (out->dc == NULL)
+    {
+      if (cube_id != NULL)
+        g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                     "%s: [Cube %s]: no such cube in the dossier", dossier->path, cube_id);
+      else
+        g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                     "%s: [Cut %s] cube: no [Cube %s] in the dossier",
+                     dossier->path, cut_name, cut->cube_id);
+      return FALSE;
+    }
+  out->cube = efflux_cube_load (out->dc->abs_path, &load, NULL, NULL, NULL, error);
+  if (out->cube == NULL)
+    return FALSE;
+  ra_dec = efflux_dossier_cut_path (cut);
+  out->pv = efflux_pv_cut (out->cube, ra_dec, cut->n_vertices, cut->width_arcsec, error);
+  if (out->pv == NULL)
+    {
+      g_prefix_error (error, "%s: [Cut %s]: ", dossier->path, cut_name);
+      efflux_dossier_cut_pv_clear (out);
+      return FALSE;
+    }
+  if (!efflux_cube_icrs_to_pixel (out->cube, dossier->ra_deg, dossier->dec_deg, &sx, &sy)
+      || !efflux_kinematics_offset_on_cut (out->pv, sx, sy, &out->source_offset_arcsec, &sdist))
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                   "%s: [Source] ra-deg: the source cannot be placed on [Cut %s]", dossier->path, cut_name);
+      efflux_dossier_cut_pv_clear (out);
+      return FALSE;
+    }
+  return TRUE;
+}
+
+void
+efflux_dossier_cut_pv_clear (EffluxDossierCutPv *cut_pv)
+{
+  g_clear_pointer (&cut_pv->pv, efflux_pv_free);
+  g_clear_pointer (&cut_pv->cube, efflux_cube_free);
+  cut_pv->dc = NULL;
 }

@@ -3,6 +3,7 @@
 
 #include "efflux-cube.h"
 #include "efflux-pv.h"
+#include "efflux-dossier.h"
 
 G_BEGIN_DECLS
 
@@ -55,5 +56,23 @@ gboolean efflux_kinematics_offset_on_cut  (const EffluxPv *pv,
  * across a width (the across-samples are correlated by the beam, so no simple sqrt(n) applies):
  * contours in its multiples are conservative. NaN when the cube has no finite rms > 0. */
 double   efflux_kinematics_pv_sigma       (const EffluxCube *cube);
+
+/* A dossier's [Cut NAME] made through one of its cubes (the cut's own cube when cube_id is NULL),
+ * with the source placed on it: the first steps of every cut analysis. Errors name the dossier,
+ * the group and the key. Clear with efflux_dossier_cut_pv_clear. */
+typedef struct
+{
+  const EffluxDossierCube *dc;                 /* the cube's dossier entry (borrowed) */
+  EffluxCube              *cube;
+  EffluxPv                *pv;
+  double                   source_offset_arcsec; /* the source's offset along the cut */
+} EffluxDossierCutPv;
+
+gboolean efflux_dossier_cut_pv       (const EffluxDossier *dossier,
+                                      const char          *cut_name,
+                                      const char          *cube_id,
+                                      EffluxDossierCutPv  *out,
+                                      GError             **error);
+void     efflux_dossier_cut_pv_clear (EffluxDossierCutPv  *cut_pv);
 
 G_END_DECLS

@@ -214,39 +214,13 @@ efflux_knots_dossier (const EffluxDossier      *dossier,
                       const EffluxKnotOptions  *options,
                       GError                  **error)
 {
-  const EffluxDossierCut *cut = NULL;
-  EffluxDossierCube *dc;
-  g_autoptr (EffluxCube) cube = NULL;
-  g_autoptr (EffluxPv) pv = NULL;
-  g_autofree double *ra_dec = NULL;
+  EffluxDossierCutPv cp;
   EffluxKnotOptions opt = { NAN, NAN, NAN, NAN };
-  EffluxCubeLoadOptions load = { 0 };
-  double sx, sy, soff, sdist, incl;
   EffluxKnotList *list;
+  double incl;
 
-  for (guint i = 0; i < dossier->cuts->len; i++)
-    {
-      const EffluxDossierCut *c = g_ptr_array_index (dossier->cuts, i);
-      if (strcmp (c->name, cut_name) == 0)
-        cut = c;
-    }
-  if (cut == NULL)
-    {
-      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: [Cut %s]: no such cut in the dossier",
-                   dossier->path, cut_name);
-      return NULL;
-    }
   if (options != NULL)
     opt = *options;
-  if (cube_id == NULL)
-    cube_id = cut->cube_id;
-  dc = efflux_dossier_find_cube (dossier, cube_id);
-  if (dc == NULL)
-    {
-      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: [Cube %s]: no such cube in the dossier",
-                   dossier->path, cube_id);
-      return NULL;
-    }
   incl = isfinite (opt.inclination_deg) ? opt.inclination_deg
          : dossier->inclination_mode == EFFLUX_INCLINATION_FIXED ? dossier->inclination_deg : NAN;
   if (!isfinite (incl))
@@ -256,28 +230,14 @@ efflux_knots_dossier (const EffluxDossier      *dossier,
                    dossier->path);
       return NULL;
     }
-  cube = efflux_cube_load (dc->abs_path, &load, NULL, NULL, NULL, error);
-  if (cube == NULL)
+  if (!efflux_dossier_cut_pv (dossier, cut_name, cube_id, &cp, error))
     return NULL;
-  ra_dec = efflux_dossier_cut_path (cut);
-  pv = efflux_pv_cut (cube, ra_dec, cut->n_vertices, cut->width_arcsec, error);
-  if (pv == NULL)
-    {
-      g_prefix_error (error, "%s: [Cut %s]: ", dossier->path, cut_name);
-      return NULL;
-    }
-  if (!efflux_cube_icrs_to_pixel (cube, dossier->ra_deg, dossier->dec_deg, &sx, &sy)
-      || !efflux_kinematics_offset_on_cut (pv, sx, sy, &soff, &sdist))
-    {
-      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                   "%s: [Source] ra-deg: the source cannot be placed on [Cut %s]", dossier->path, cut_name);
-      return NULL;
-    }
   if (!isfinite (opt.noise_k))
-    opt.noise_k = isfinite (dc->rms_k) ? dc->rms_k : efflux_kinematics_pv_sigma (cube);
-  list = efflux_knots_pv (pv, soff, dossier->vsys_kms, dossier->distance_pc, incl,
-                          cube->has_beam ? cube->bmaj_arcsec : NAN, &opt, error);
+    opt.noise_k = isfinite (cp.dc->rms_k) ? cp.dc->rms_k : efflux_kinematics_pv_sigma (cp.cube);
+  list = efflux_knots_pv (cp.pv, cp.source_offset_arcsec, dossier->vsys_kms, dossier->distance_pc,
+                          incl, cp.cube->has_beam ? cp.cube->bmaj_arcsec : NAN, &opt, error);
   if (list == NULL)
     g_prefix_error (error, "%s: [Cut %s]: ", dossier->path, cut_name);
+  efflux_dossier_cut_pv_clear (&cp);
   return list;
 }

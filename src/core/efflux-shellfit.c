@@ -845,56 +845,16 @@ efflux_shellfit_dossier (const EffluxDossier          *dossier,
                          const EffluxShellfitOptions  *options,
                          GError                      **error)
 {
-  const EffluxDossierCut *cut = NULL;
-  EffluxDossierCube *dc;
-  g_autoptr (EffluxCube) cube = NULL;
-  g_autoptr (EffluxPv) pv = NULL;
-  g_autofree double *ra_dec = NULL;
+  EffluxDossierCutPv cp;
   EffluxShellfitOptions opt = { NAN, NAN, NAN };
-  EffluxCubeLoadOptions load = { 0 };
-  double sx, sy, soff, sdist;
   EffluxShellFit *fit;
 
-  for (guint i = 0; i < dossier->cuts->len; i++)
-    {
-      const EffluxDossierCut *c = g_ptr_array_index (dossier->cuts, i);
-      if (strcmp (c->name, cut_name) == 0)
-        cut = c;
-    }
-  if (cut == NULL)
-    {
-      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: [Cut %s]: no such cut in the dossier",
-                   dossier->path, cut_name);
-      return NULL;
-    }
   if (options != NULL)
     opt = *options;
-  dc = efflux_dossier_find_cube (dossier, cut->cube_id);
-  if (dc == NULL)
-    {
-      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: [Cut %s] cube: no [Cube %s] in the dossier",
-                   dossier->path, cut_name, cut->cube_id);
-      return NULL;
-    }
-  cube = efflux_cube_load (dc->abs_path, &load, NULL, NULL, NULL, error);
-  if (cube == NULL)
+  if (!efflux_dossier_cut_pv (dossier, cut_name, NULL, &cp, error))
     return NULL;
-  ra_dec = efflux_dossier_cut_path (cut);
-  pv = efflux_pv_cut (cube, ra_dec, cut->n_vertices, cut->width_arcsec, error);
-  if (pv == NULL)
-    {
-      g_prefix_error (error, "%s: [Cut %s]: ", dossier->path, cut_name);
-      return NULL;
-    }
-  if (!efflux_cube_icrs_to_pixel (cube, dossier->ra_deg, dossier->dec_deg, &sx, &sy)
-      || !efflux_kinematics_offset_on_cut (pv, sx, sy, &soff, &sdist))
-    {
-      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                   "%s: [Source] ra-deg: the source cannot be placed on [Cut %s]", dossier->path, cut_name);
-      return NULL;
-    }
   if (!isfinite (opt.noise_k))
-    opt.noise_k = isfinite (dc->rms_k) ? dc->rms_k : efflux_kinematics_pv_sigma (cube);
+    opt.noise_k = isfinite (cp.dc->rms_k) ? cp.dc->rms_k : efflux_kinematics_pv_sigma (cp.cube);
   if (!isfinite (opt.vmin_kms))
     {
       /* the smallest |v - vsys| the lobes' ranges admit (0 when a range holds vsys) */
@@ -907,9 +867,10 @@ efflux_shellfit_dossier (const EffluxDossier          *dossier,
         }
       opt.vmin_kms = m < G_MAXDOUBLE ? m : 0.0;
     }
-  fit = efflux_shellfit_pv (pv, soff, dossier->vsys_kms, dossier->distance_pc,
-                            cube->has_beam ? cube->bmaj_arcsec : NAN, &opt, error);
+  fit = efflux_shellfit_pv (cp.pv, cp.source_offset_arcsec, dossier->vsys_kms, dossier->distance_pc,
+                            cp.cube->has_beam ? cp.cube->bmaj_arcsec : NAN, &opt, error);
   if (fit == NULL)
     g_prefix_error (error, "%s: [Cut %s]: ", dossier->path, cut_name);
+  efflux_dossier_cut_pv_clear (&cp);
   return fit;
 }
