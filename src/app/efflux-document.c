@@ -545,6 +545,25 @@ efflux_document_set_key (EffluxDocument  *self,
 }
 
 gboolean
+efflux_document_set_keys (EffluxDocument     *self,
+                          guint               n_keys,
+                          const char * const *groups,
+                          const char * const *keys,
+                          const char * const *values,
+                          guint               merge_id,
+                          GError            **error)
+{
+  GPtrArray *changes;
+
+  g_return_val_if_fail (EFFLUX_IS_DOCUMENT (self), FALSE);
+  g_return_val_if_fail (n_keys > 0 && groups != NULL && keys != NULL && values != NULL, FALSE);
+  changes = g_ptr_array_new_with_free_func (change_free);
+  for (guint i = 0; i < n_keys; i++)
+    add_change (changes, groups[i], keys[i], values[i]);
+  return push_changes (self, changes, merge_id, error);
+}
+
+gboolean
 efflux_document_set_lobe_polygon (EffluxDocument  *self,
                                   const char      *lobe,
                                   const double    *ra_deg,

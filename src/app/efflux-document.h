@@ -71,6 +71,15 @@ gboolean        efflux_document_set_key          (EffluxDocument  *self,
                                                   const char      *value,
                                                   guint            merge_id,
                                                   GError         **error);
+/* Several keys as one command (one undo step): groups[i], keys[i], values[i] for i < n_keys
+ * (a NULL value removes the key). Added for the Review sheet and the Sources list. */
+gboolean        efflux_document_set_keys         (EffluxDocument     *self,
+                                                  guint               n_keys,
+                                                  const char * const *groups,
+                                                  const char * const *keys,
+                                                  const char * const *values,
+                                                  guint               merge_id,
+                                                  GError            **error);
 
 /* Lobes */
 gboolean        efflux_document_set_lobe_polygon (EffluxDocument  *self,
