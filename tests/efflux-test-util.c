@@ -1,0 +1,253 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+#include "efflux-test-util.h"
+
+#include <errno.h>
+#include <glib/gstdio.h>
+#include <math.h>
+#include <string.h>
+#include <sys/wait.h>
+
+char *
+efflux_test_tmp_dir (const char *prefix)
+{
+  g_autoptr (GError) error = NULL;
+  g_autofree char *tmpl = g_strdup_printf ("%s-XXXXXX", prefix);
+  char *dir = g_dir_make_tmp (tmpl, &error);
+
+  g_assert_no_error (error);
+  g_assert_nonnull (dir);
+  return dir;
+}
+
+void
+efflux_test_remove_tree (const char *path)
+{
+  if (g_file_test (path, G_FILE_TEST_IS_DIR) && !g_file_test (path, G_FILE_TEST_IS_SYMLINK))
+    {
+      g_autoptr (GDir) dir = g_dir_open (path, 0, NULL);
+      const char *name;
+
+      while (dir != NULL && (name = g_dir_read_name (dir)) != NULL)
+        {
+          g_autofree char *child = g_build_filename (path, name, NULL);
+
+          efflux_test_remove_tree (child);
+        }
+      if (g_rmdir (path) != 0)
+        g_error ("cannot remove the folder %s: %s", path, g_strerror (errno));
+    }
+  else if (g_unlink (path) != 0 && errno != ENOENT)
+    g_error ("cannot remove %s: %s", path, g_strerror (errno));
+}
+
+guint
+efflux_test_count_entries (const char *dir)
+{
+  g_autoptr (GDir) d = g_dir_open (dir, 0, NULL);
+  guint n = 0;
+
+  while (d != NULL && g_dir_read_name (d) != NULL)
+    n++;
+  return n;
+}
+
+char *
+efflux_test_read_file (const char *path,
+                       gsize      *length)
+{
+  g_autoptr (GError) error = NULL;
+  char *data = NULL;
+
+  g_assert_true (g_file_get_contents (path, &data, length, &error));
+  g_assert_no_error (error);
+  return data;
+}
+
+void
+efflux_test_write_file (const char *path,
+                        const char *text)
+{
+  g_autoptr (GError) error = NULL;
+
+  g_assert_true (g_file_set_contents (path, text, -1, &error));
+  g_assert_no_error (error);
+}
+
+int
+efflux_test_spawn (const char         *cwd,
+                   const char * const *argv,
+                   char              **out,
+                   char              **err)
+{
+  g_autoptr (GError) error = NULL;
+  /* output not asked for goes to /dev/null: it must not mix with the TAP stream */
+  GSpawnFlags flags = (out == NULL ? G_SPAWN_STDOUT_TO_DEV_NULL : 0)
+                      | (err == NULL ? G_SPAWN_STDERR_TO_DEV_NULL : 0);
+  int wait_status = 0;
+
+  if (!g_spawn_sync (cwd, (char **) argv, NULL, flags, NULL, NULL, out, err, &wait_status, &error))
+    g_error ("cannot run %s: %s", argv[0], error->message);
+  return WIFEXITED (wait_status) ? WEXITSTATUS (wait_status) : -1;
+}
+
+const char *
+efflux_test_cli (void)
+{
+  const char *cli = g_getenv ("EFFLUX_CLI");
+
+  if (cli == NULL || *cli == '\0')
+    g_error ("EFFLUX_CLI is not set: run the tests through meson test, which sets it");
+  return cli;
+}
+
+int
+efflux_test_run_cli (const char * const *args,
+                     char              **out,
+                     char              **err)
+{
+  g_autoptr (GPtrArray) argv = g_ptr_array_new ();
+
+  g_ptr_array_add (argv, (gpointer) efflux_test_cli ());
+  for (guint i = 0; args[i] != NULL; i++)
+    g_ptr_array_add (argv, (gpointer) args[i]);
+  g_ptr_array_add (argv, NULL);
+  return efflux_test_spawn (NULL, (const char * const *) argv->pdata, out, err);
+}
+
+const char *
+efflux_test_python_path (void)
+{
+  const char *python = g_getenv ("EFFLUX_PYTHON");
+
+  /* a missing reference interpreter is a failure, not a skip */
+  if (python == NULL || *python == '\0')
+    g_error ("EFFLUX_PYTHON is not set: the astropy/numpy/scipy references cannot run "
+             "(run through meson test, which sets it)");
+  return python;
+}
+
+static char *
+run_python (const char         *what,
+            const char         *first,
+            const char         *second,
+            const char * const *args)
+{
+  g_autoptr (GPtrArray) argv = g_ptr_array_new ();
+  g_autofree char *err = NULL;
+  char *out = NULL;
+  int status;
+
+  g_ptr_array_add (argv, (gpointer) efflux_test_python_path ());
+  g_ptr_array_add (argv, (gpointer) first);
+  if (second != NULL)
+    g_ptr_array_add (argv, (gpointer) second);
+  for (guint i = 0; args != NULL && args[i] != NULL; i++)
+    g_ptr_array_add (argv, (gpointer) args[i]);
+  g_ptr_array_add (argv, NULL);
+  status = efflux_test_spawn (NULL, (const char * const *) argv->pdata, &out, &err);
+  if (status != 0)
+    g_error ("%s failed (exit %d): %s", what, status, err);
+  return out;
+}
+
+char *
+efflux_test_python (const char         *script,
+                    const char * const *args)
+{
+  g_autofree char *path = g_test_build_filename (G_TEST_DIST, "ref", script, NULL);
+
+  return run_python (script, path, NULL, args);
+}
+
+char *
+efflux_test_python_code (const char         *code,
+                         const char * const *args)
+{
+  return run_python ("python3 -c", "-c", code, args);
+}
+
+GArray *
+efflux_test_parse_numbers (const char *text)
+{
+  g_auto (GStrv) lines = g_strsplit (text, "\n", -1);
+  GArray *values = g_array_new (FALSE, FALSE, sizeof (double));
+
+  for (guint i = 0; lines[i] != NULL; i++)
+    {
+      char *end = NULL;
+      double v;
+
+      g_strstrip (lines[i]);
+      if (*lines[i] == '\0')
+        continue;
+      v = g_ascii_strtod (lines[i], &end);
+      if (end == lines[i] || *end != '\0')
+        g_error ("a reference script printed \"%s\" where a number was expected", lines[i]);
+      g_array_append_val (values, v);
+    }
+  return values;
+}
+
+GHashTable *
+efflux_test_parse_named (const char *text)
+{
+  g_auto (GStrv) lines = g_strsplit (text, "\n", -1);
+  GHashTable *values = g_hash_table_new_full (g_str_hash, g_str_equal, g_free, g_free);
+
+  for (guint i = 0; lines[i] != NULL; i++)
+    {
+      char *space = strchr (lines[i], ' ');
+      double *v;
+
+      if (space == NULL)
+        continue;
+      *space = '\0';
+      v = g_new (double, 1);
+      *v = g_ascii_strtod (space + 1, NULL);
+      g_hash_table_insert (values, g_strdup (lines[i]), v);
+    }
+  return values;
+}
+
+double *
+efflux_test_read_f64 (const char *dir,
+                      const char *name,
+                      gsize      *n)
+{
+  g_autofree char *path = g_strdup_printf ("%s/%s.f64", dir, name);
+  gsize length = 0;
+  char *data = efflux_test_read_file (path, &length);
+
+  g_assert_cmpuint (length % sizeof (double), ==, 0);
+  *n = length / sizeof (double);
+  return (double *) data;
+}
+
+void
+efflux_test_assert_rel_impl (const char *file,
+                             int         line,
+                             const char *expr,
+                             double      got,
+                             double      want,
+                             double      tol)
+{
+  if (!(fabs (got - want) <= tol * fabs (want)))
+    g_error ("%s:%d: %s: got %.8g, want %.8g (relative tolerance %g)", file, line, expr, got, want, tol);
+}
+
+double
+efflux_test_json_number (const char *json,
+                         const char *key)
+{
+  g_autofree char *pattern = g_strdup_printf ("\"%s\": ", key);
+  const char *p = strstr (json, pattern);
+  char *end = NULL;
+  double v;
+
+  if (p == NULL)
+    g_error ("no \"%s\" in %s", key, json);
+  v = g_ascii_strtod (p + strlen (pattern), &end);
+  if (end == p + strlen (pattern))
+    g_error ("\"%s\" is not a number in %s", key, json);
+  return v;
+}
