@@ -38,21 +38,28 @@ typedef struct
    * channels (NaN where unknown); NULL when not used */
   double            *s12, *sig12, *s13, *sig13;
   double             iso_ratio_kind;  /* 0: 13CO (isotope-ratio), 1: C18O (o18-ratio) */
+  /* the raw sums of a lobe prepared from a cube in memory, kept for outline changes
+   * (update_lobe); NULL for a streamed lobe */
+  struct LobeWork   *work;
 } PrepLobe;
 
 struct _EffluxMeasurePrep
 {
+  guint       n_incremental;   /* outline changes applied by difference (update_lobe) */
   GPtrArray  *lobes;   /* PrepLobe * */
   GPtrArray  *notes;
   GHashTable *cubes;   /* the caller's id -> EffluxCube * (a reference) */
   GHashTable *lines;   /* cube id -> const EffluxLine * (as written or guessed) */
 };
 
+static void lobe_work_free (struct LobeWork *w);
+
 static void
 prep_lobe_free (gpointer p)
 {
   PrepLobe *pl = p;
 
+  lobe_work_free (pl->work);
   g_free (pl->name);
   g_free (pl->cube_id);
   efflux_lobe_mask_free (pl->mask);
@@ -196,6 +203,7 @@ accumulate (const float *restrict s,
             const float *restrict thr_det,
             double *restrict      sum,
             double *restrict      cnt,
+            double *restrict      ndet,
             double *restrict      rdet)
 {
   for (gsize k = 0; k < nchan; k++)
@@ -209,6 +217,7 @@ accumulate (const float *restrict s,
 
       sum[k] += (double) (fin ? t : 0.0f);
       cnt[k] += (double) fin;
+      ndet[k] += (double) det;
       rdet[k] = det ? far : rd;
     }
 }
@@ -223,6 +232,7 @@ accumulate_clipped (const float *restrict s,
                     double *restrict      n_all,
                     double *restrict      sum,
                     double *restrict      cnt,
+                    double *restrict      ndet,
                     double *restrict      rdet)
 {
   for (gsize k = 0; k < nchan; k++)
@@ -239,13 +249,24 @@ accumulate_clipped (const float *restrict s,
       n_all[k] += (double) fin;
       sum[k] += (double) (in ? t : 0.0f);
       cnt[k] += (double) in;
+      ndet[k] += (double) det;
       rdet[k] = det ? far : rd;
     }
 }
 
-/* What one lobe's pass over its cube needs, between the setup and the sums (prepare_lobe_begin,
- * a pass over the voxels in memory or streamed from the file, prepare_lobe_end). */
+/* A mask pixel and its distance from the source, in the order of decreasing distance. */
 typedef struct
+{
+  double  dist;
+  guint32 pix;
+} OrderEntry;
+
+/* What one lobe's pass over its cube needs, between the setup and the sums (prepare_lobe_begin,
+ * a pass over the voxels in memory or streamed from the file, prepare_lobe_end). For a cube in
+ * memory it stays with the lobe afterwards (PrepLobe.work, without dc and ic, which belong to the
+ * dossier of the moment): an outline change then adds and subtracts the spectra of the pixels
+ * that entered or left the mask (update_lobe) and prepare_lobe_end derives the sums again. */
+typedef struct LobeWork
 {
   PrepLobe                *pl;
   const EffluxDossierCube *dc;
@@ -263,6 +284,16 @@ typedef struct
   double                  *irms;
   double                  *isum;      /* per isotopologue channel: sum of finite values under imask */
   guint64                 *in;        /* ... and their count */
+  double                   ieff;      /* the isotopologue's beam efficiency */
+  /* kept for update_lobe */
+  double                  *raw, *raw_c;   /* per channel: sum of T (cube scale) over entering
+                                           * voxels and its compensation (Neumaier) */
+  double                  *all_c;     /* compensation of sum_all (clip only) */
+  double                  *isum_c;    /* compensation of isum */
+  double                  *ndet;      /* per channel: detected voxels */
+  double                   src_ra, src_dec, clip_value, rms_k, eff;  /* what the sums depend on */
+  OrderEntry              *order;     /* the mask's pixels by decreasing distance (NULL until needed) */
+  guint8                  *inmask;    /* per map pixel: 1 inside the mask (with order) */
 } LobeWork;
 
 static void
@@ -281,6 +312,13 @@ lobe_work_free (LobeWork *w)
   g_free (w->irms);
   g_free (w->isum);
   g_free (w->in);
+  g_free (w->raw);
+  g_free (w->raw_c);
+  g_free (w->all_c);
+  g_free (w->isum_c);
+  g_free (w->ndet);
+  g_free (w->order);
+  g_free (w->inmask);
   g_free (w);
 }
 
@@ -368,6 +406,12 @@ prepare_lobe_begin (const EffluxDossier      *d,
   w->sum_all = g_new0 (double, nchan);
   w->n_all = g_new0 (double, nchan);
   w->cnt = g_new0 (double, nchan);
+  w->ndet = g_new0 (double, nchan);
+  w->src_ra = d->ra_deg;
+  w->src_dec = d->dec_deg;
+  w->clip_value = d->clip_sigma;
+  w->rms_k = dc->rms_k;
+  w->eff = dc->beam_efficiency;
   w->thr_clip = g_new (float, nchan);
   w->thr_det = g_new (float, nchan);
   w->rms = cube->data != NULL ? cube_rms (dc, cube) : cube_rms_known (dc, cube);
@@ -432,6 +476,7 @@ prepare_lobe_begin (const EffluxDossier      *d,
           return NULL;
         }
       w->ic = ic;
+      w->ieff = ic->beam_efficiency;
       w->icube = icube;
       w->irms = icube->data != NULL ? cube_rms (ic, icube) : cube_rms_known (ic, icube);
       w->isum = g_new0 (double, icube->nchan);
@@ -457,9 +502,9 @@ prepare_lobe_pass (LobeWork      *w,
         return FALSE;
       if (w->clip)
         accumulate_clipped (s, nchan, w->dist[p], w->thr_clip, w->thr_det, w->sum_all, w->n_all, pl->sum,
-                            w->cnt, pl->rdet);
+                            w->cnt, w->ndet, pl->rdet);
       else
-        accumulate (s, nchan, w->dist[p], w->thr_det, pl->sum, w->cnt, pl->rdet);
+        accumulate (s, nchan, w->dist[p], w->thr_det, pl->sum, w->cnt, w->ndet, pl->rdet);
     }
   if (w->imask != NULL)
     {
@@ -480,7 +525,9 @@ prepare_lobe_pass (LobeWork      *w,
   return TRUE;
 }
 
-/* From the pass's sums to the lobe's per-channel sums and the opacity inputs. */
+/* From the pass's sums to the lobe's per-channel sums and the opacity inputs. The first call
+ * takes the raw sums of the pass (pl->sum, in the cube's scale) into w->raw; every call derives
+ * pl->sum, var, nvox and the opacity inputs from the raw sums again (after update_lobe too). */
 static void
 prepare_lobe_end (LobeWork *w)
 {
@@ -488,12 +535,21 @@ prepare_lobe_end (LobeWork *w)
   gsize nchan = pl->nchan;
   double eff = pl->eff;
 
+  if (w->raw == NULL)
+    {
+      w->raw = pl->sum;
+      pl->sum = g_new (double, nchan);
+      w->raw_c = g_new0 (double, nchan);
+      w->all_c = g_new0 (double, nchan);
+      if (w->isum != NULL)
+        w->isum_c = g_new0 (double, w->icube->nchan);
+    }
   for (gsize k = 0; k < nchan; k++)
     {
       pl->nvox[k] = (guint64) w->cnt[k];
       if (!w->clip)
         {
-          w->sum_all[k] = pl->sum[k];
+          w->sum_all[k] = w->raw[k] + w->raw_c[k];
           w->n_all[k] = w->cnt[k];
         }
     }
@@ -501,13 +557,13 @@ prepare_lobe_end (LobeWork *w)
     {
       double rms = isfinite (w->rms[k]) ? w->rms[k] : 0.0;
 
-      pl->sum[k] /= eff;
+      pl->sum[k] = (w->raw[k] + w->raw_c[k]) / eff;
       pl->var[k] = (double) pl->nvox[k] * (rms / eff) * (rms / eff);
     }
   if (w->imask != NULL)
     {
       gsize inchan = w->icube->nchan;
-      double ieff = w->ic->beam_efficiency;
+      double ieff = w->ieff;
       g_autofree double *imean = g_new (double, inchan);
       g_autofree double *isig = g_new (double, inchan);
 
@@ -516,18 +572,22 @@ prepare_lobe_end (LobeWork *w)
         {
           double irms = isfinite (w->irms[k]) ? w->irms[k] : 0.0;
 
-          imean[k] = w->in[k] ? w->isum[k] / (double) w->in[k] / ieff : NAN;
+          imean[k] = w->in[k] ? (w->isum[k] + w->isum_c[k]) / (double) w->in[k] / ieff : NAN;
           isig[k] = w->in[k] ? irms / ieff / sqrt ((double) w->in[k]) : NAN;
         }
-      pl->s12 = g_new (double, nchan);
-      pl->sig12 = g_new (double, nchan);
-      pl->s13 = g_new (double, nchan);
-      pl->sig13 = g_new (double, nchan);
+      if (pl->s12 == NULL)
+        {
+          pl->s12 = g_new (double, nchan);
+          pl->sig12 = g_new (double, nchan);
+          pl->s13 = g_new (double, nchan);
+          pl->sig13 = g_new (double, nchan);
+        }
       for (gsize k = 0; k < nchan; k++)
         {
           double rms = isfinite (w->rms[k]) ? w->rms[k] : 0.0;
+          double sa = w->sum_all[k] + (w->clip ? w->all_c[k] : 0.0);
 
-          pl->s12[k] = w->n_all[k] > 0 ? w->sum_all[k] / w->n_all[k] / eff : NAN;
+          pl->s12[k] = w->n_all[k] > 0 ? sa / w->n_all[k] / eff : NAN;
           pl->sig12[k] = w->n_all[k] > 0 ? rms / eff / sqrt (w->n_all[k]) : NAN;
           pl->s13[k] = interpolate (w->icube->velocity, imean, inchan, w->cube->velocity[k]);
           pl->sig13[k] = interpolate (w->icube->velocity, isig, inchan, w->cube->velocity[k]);
@@ -558,6 +618,10 @@ prepare_lobe (const EffluxDossier      *d,
   if (!prepare_lobe_pass (w, cancellable, error))
     return FALSE;
   prepare_lobe_end (w);
+  /* kept for outline changes; the dossier's cube records are not */
+  w->dc = NULL;
+  w->ic = NULL;
+  pl->work = g_steal_pointer (&w);
   return TRUE;
 }
 
@@ -610,6 +674,367 @@ find_prepared (const EffluxMeasurePrep *prep,
   return NULL;
 }
 
+/* ---------------------------------------------------------------------------------------------- */
+/* outline changes by difference                                                                    */
+
+/* Neumaier's compensated sum (Neumaier 1974, ZAMM 54, 39): *s + *c is the sum. */
+static inline void
+ksum (double *s,
+      double *c,
+      double  x)
+{
+  double t = *s + x;
+
+  if (fabs (*s) >= fabs (x))
+    *c += (*s - t) + x;
+  else
+    *c += (x - t) + *s;
+  *s = t;
+}
+
+static int
+order_compare (const void *a,
+               const void *b)
+{
+  const OrderEntry *x = a, *y = b;
+
+  if (x->dist != y->dist)
+    return x->dist > y->dist ? -1 : 1;
+  return x->pix < y->pix ? -1 : x->pix > y->pix;
+}
+
+/* Whether voxel value t of channel k enters the sums and whether it is detected: exactly the
+ * tests of accumulate and accumulate_clipped. */
+static inline void
+voxel_state (const LobeWork *w,
+             gsize           k,
+             float           t,
+             gboolean       *fin,
+             gboolean       *in,
+             gboolean       *det)
+{
+  *fin = fabsf (t) <= FLT_MAX;
+  if (w->clip)
+    {
+      *in = *fin && t >= w->thr_clip[k];
+      *det = *in && t > 0 && t >= w->thr_det[k];
+    }
+  else
+    {
+      *in = *fin;
+      *det = t > 0 && t >= w->thr_det[k];
+    }
+}
+
+/* Add (sign +1) or subtract (-1) one pixel's spectrum. A channel whose farthest detected pixel
+ * may have left is marked in dirty. */
+static void
+apply_pixel (LobeWork *w,
+             guint32   pix,
+             double    dist,
+             double    sign,
+             guint8   *dirty)
+{
+  PrepLobe *pl = w->pl;
+  gsize nchan = pl->nchan;
+  const float *s = w->cube->data + (gsize) pix * nchan;
+
+  for (gsize k = 0; k < nchan; k++)
+    {
+      float t = s[k];
+      gboolean fin, in, det;
+
+      voxel_state (w, k, t, &fin, &in, &det);
+      if (in)
+        {
+          ksum (&w->raw[k], &w->raw_c[k], sign * (double) t);
+          w->cnt[k] += sign;
+        }
+      if (w->clip && fin)
+        {
+          ksum (&w->sum_all[k], &w->all_c[k], sign * (double) t);
+          w->n_all[k] += sign;
+        }
+      if (det)
+        {
+          w->ndet[k] += sign;
+          if (sign > 0)
+            {
+              if (dist > pl->rdet[k])
+                pl->rdet[k] = dist;
+            }
+          else if (dist >= pl->rdet[k])
+            dirty[k] = 1;
+        }
+    }
+}
+
+static void
+apply_ipixel (LobeWork *w,
+              guint32   pix,
+              double    sign)
+{
+  gsize inchan = w->icube->nchan;
+  const float *s = w->icube->data + (gsize) pix * inchan;
+
+  for (gsize k = 0; k < inchan; k++)
+    if (isfinite (s[k]))
+      {
+        ksum (&w->isum[k], &w->isum_c[k], sign * (double) s[k]);
+        if (sign > 0)
+          w->in[k]++;
+        else
+          w->in[k]--;
+      }
+}
+
+/* The pixels of new_mask not in old (added) and of old not in new_mask (removed); both index
+ * lists are increasing. kept_dist (optional): for each pixel of new_mask, its distance taken
+ * from old_dist when it was in old. */
+static void
+mask_difference (const EffluxLobeMask *old,
+                 const double         *old_dist,
+                 const EffluxLobeMask *new_mask,
+                 double               *kept_dist,
+                 GArray               *added,      /* guint32: positions in new_mask */
+                 GArray               *removed)    /* guint32: positions in old */
+{
+  gsize i = 0, j = 0;
+
+  while (i < old->n_pixels || j < new_mask->n_pixels)
+    {
+      if (j == new_mask->n_pixels || (i < old->n_pixels && old->index[i] < new_mask->index[j]))
+        {
+          guint32 pos = (guint32) i++;
+
+          g_array_append_val (removed, pos);
+        }
+      else if (i == old->n_pixels || new_mask->index[j] < old->index[i])
+        {
+          guint32 pos = (guint32) j++;
+
+          g_array_append_val (added, pos);
+        }
+      else
+        {
+          if (kept_dist != NULL)
+            kept_dist[j] = old_dist[i];
+          i++;
+          j++;
+        }
+    }
+}
+
+/* The mask's pixels by decreasing distance and the map of what is inside. */
+static void
+build_order (LobeWork *w)
+{
+  const EffluxLobeMask *m = w->pl->mask;
+
+  w->order = g_new (OrderEntry, m->n_pixels);
+  w->inmask = g_new0 (guint8, m->nx * m->ny);
+  for (gsize p = 0; p < m->n_pixels; p++)
+    {
+      w->order[p].dist = w->dist[p];
+      w->order[p].pix = m->index[p];
+      w->inmask[m->index[p]] = 1;
+    }
+  qsort (w->order, m->n_pixels, sizeof (OrderEntry), order_compare);
+}
+
+/* Change a prepared lobe's outline by difference: subtract the spectra of the pixels that left
+ * the mask, add those of the pixels that entered, and find the farthest detected pixel again in
+ * the channels where it may have left (scanning the pixels by decreasing distance). Returns 1
+ * when done, 0 on error (nothing changed), -1 when the lobe must be prepared again (another
+ * cube, source, clip, efficiency or rms, opacity inputs, a streamed lobe, or a change larger
+ * than the new mask, where a fresh pass costs less). */
+static int
+update_lobe (EffluxMeasurePrep        *prep,
+             PrepLobe                 *pl,
+             const EffluxDossier      *d,
+             const EffluxDossierLobe  *dl,
+             GError                  **error)
+{
+  LobeWork *w = pl->work;
+  const EffluxDossierCube *dc = efflux_dossier_find_cube (d, dl->cube_id);
+  const EffluxDossierCube *ic = NULL;
+  gboolean want_iso;
+  g_autofree char *what = NULL;
+  g_autoptr (EffluxLobeMask) mask = NULL;
+  g_autoptr (EffluxLobeMask) imask = NULL;
+  g_autoptr (GArray) added = NULL;
+  g_autoptr (GArray) removed = NULL;
+  g_autofree double *dist = NULL;
+  g_autofree guint8 *dirty = NULL;
+  g_autofree OrderEntry *fresh = NULL;
+  g_autofree guint32 *pending = NULL;
+  gsize nchan = pl->nchan, n_pending = 0;
+
+  if (w == NULL || dc == NULL || strcmp (pl->cube_id, dl->cube_id) != 0
+      || g_hash_table_lookup (prep->cubes, dl->cube_id) != w->cube || w->cube->data == NULL
+      || w->src_ra != d->ra_deg || w->src_dec != d->dec_deg || w->clip_value != d->clip_sigma
+      || w->eff != dc->beam_efficiency
+      || !(w->rms_k == dc->rms_k || (isnan (w->rms_k) && isnan (dc->rms_k))))
+    return -1;
+  want_iso = d->opacity == EFFLUX_OPACITY_FROM_ISOTOPOLOGUE && pl->line->species == EFFLUX_SPECIES_12CO;
+  if (want_iso != (w->imask != NULL))
+    return -1;
+  if (want_iso)
+    {
+      ic = efflux_dossier_isotopologue_cube (d);
+      if (ic == NULL || g_hash_table_lookup (prep->cubes, ic->id) != w->icube || w->icube->data == NULL
+          || ic->beam_efficiency != w->ieff)
+        return -1;
+    }
+
+  what = g_strdup_printf ("%s: [Lobe %s] polygon", d->path, dl->name);
+  mask = efflux_lobe_mask_new (w->cube, dl->ra_deg, dl->dec_deg, dl->n_vertices, what, error);
+  if (mask == NULL)
+    return 0;
+  if (mask->n_pixels == 0)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                   "%s: holds no pixel centre of the map of [Cube %s]", what, dc->id);
+      return 0;
+    }
+  if (want_iso)
+    {
+      g_autofree char *iwhat = g_strdup_printf ("%s: [Lobe %s] polygon (on [Cube %s])", d->path, dl->name, ic->id);
+
+      imask = efflux_lobe_mask_new (w->icube, dl->ra_deg, dl->dec_deg, dl->n_vertices, iwhat, error);
+      if (imask == NULL)
+        return 0;
+      if (imask->n_pixels == 0)
+        {
+          g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: holds no pixel centre of the map", iwhat);
+          return 0;
+        }
+    }
+
+  added = g_array_new (FALSE, FALSE, sizeof (guint32));
+  removed = g_array_new (FALSE, FALSE, sizeof (guint32));
+  dist = g_new (double, mask->n_pixels);
+  mask_difference (pl->mask, w->dist, mask, dist, added, removed);
+  if (added->len + removed->len >= mask->n_pixels)
+    return -1;
+  for (guint a = 0; a < added->len; a++)
+    {
+      guint32 pos = g_array_index (added, guint32, a);
+      gsize x = mask->index[pos] % w->cube->nx, y = mask->index[pos] / w->cube->nx;
+      double ra, dec;
+
+      if (!efflux_cube_pixel_to_icrs (w->cube, (double) x, (double) y, &ra, &dec))
+        {
+          g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                       "%s: pixel (%" G_GSIZE_FORMAT ", %" G_GSIZE_FORMAT ") of [Cube %s] has no sky position",
+                       what, x, y, dc->id);
+          return 0;
+        }
+      dist[pos] = separation_arcsec (d->ra_deg, d->dec_deg, ra, dec);
+    }
+
+  /* from here on nothing fails */
+  if (w->order == NULL)
+    build_order (w);
+  dirty = g_new0 (guint8, nchan);
+  for (guint r = 0; r < removed->len; r++)
+    {
+      guint32 pos = g_array_index (removed, guint32, r);
+
+      apply_pixel (w, pl->mask->index[pos], w->dist[pos], -1.0, dirty);
+      w->inmask[pl->mask->index[pos]] = 0;
+    }
+  fresh = g_new (OrderEntry, added->len + 1);
+  for (guint a = 0; a < added->len; a++)
+    {
+      guint32 pos = g_array_index (added, guint32, a);
+
+      apply_pixel (w, mask->index[pos], dist[pos], +1.0, dirty);
+      w->inmask[mask->index[pos]] = 1;
+      fresh[a].dist = dist[pos];
+      fresh[a].pix = mask->index[pos];
+    }
+
+  /* the order: the old one without the pixels that left, merged with the new ones */
+  qsort (fresh, added->len, sizeof (OrderEntry), order_compare);
+  {
+    OrderEntry *order = g_new (OrderEntry, mask->n_pixels);
+    gsize i = 0, j = 0, n = 0;
+
+    while (i < pl->mask->n_pixels || j < added->len)
+      {
+        if (i < pl->mask->n_pixels && !w->inmask[w->order[i].pix])
+          i++;
+        else if (i < pl->mask->n_pixels && (j == added->len || order_compare (&w->order[i], &fresh[j]) < 0))
+          order[n++] = w->order[i++];
+        else
+          order[n++] = fresh[j++];
+      }
+    g_assert (n == mask->n_pixels);
+    g_free (w->order);
+    w->order = order;
+  }
+
+  /* the farthest detected pixel again where it may have left */
+  pending = g_new (guint32, nchan);
+  for (gsize k = 0; k < nchan; k++)
+    if (dirty[k])
+      {
+        if (w->ndet[k] > 0)
+          pending[n_pending++] = (guint32) k;
+        else
+          pl->rdet[k] = -1;
+      }
+  for (gsize p = 0; p < mask->n_pixels && n_pending > 0; p++)
+    {
+      const float *s = w->cube->data + (gsize) w->order[p].pix * nchan;
+
+      for (gsize j = 0; j < n_pending;)
+        {
+          gsize k = pending[j];
+          gboolean fin, in, det;
+
+          voxel_state (w, k, s[k], &fin, &in, &det);
+          if (det)
+            {
+              pl->rdet[k] = w->order[p].dist;
+              pending[j] = pending[--n_pending];
+            }
+          else
+            j++;
+        }
+    }
+  g_assert (n_pending == 0);
+
+  if (imask != NULL)
+    {
+      g_autoptr (GArray) iadded = g_array_new (FALSE, FALSE, sizeof (guint32));
+      g_autoptr (GArray) iremoved = g_array_new (FALSE, FALSE, sizeof (guint32));
+
+      mask_difference (w->imask, NULL, imask, NULL, iadded, iremoved);
+      for (guint r = 0; r < iremoved->len; r++)
+        apply_ipixel (w, w->imask->index[g_array_index (iremoved, guint32, r)], -1.0);
+      for (guint a = 0; a < iadded->len; a++)
+        apply_ipixel (w, imask->index[g_array_index (iadded, guint32, a)], +1.0);
+      efflux_lobe_mask_free (w->imask);
+      w->imask = g_steal_pointer (&imask);
+    }
+
+  efflux_lobe_mask_free (pl->mask);
+  pl->mask = g_steal_pointer (&mask);
+  g_free (w->dist);
+  w->dist = g_steal_pointer (&dist);
+  prepare_lobe_end (w);
+  prep->n_incremental++;
+  return 1;
+}
+
+guint
+efflux_measure_prep_n_incremental (const EffluxMeasurePrep *prep)
+{
+  return prep->n_incremental;
+}
+
 gboolean
 efflux_measure_prep_refresh_lobe (EffluxMeasurePrep    *prep,
                                   const EffluxDossier  *d,
@@ -625,6 +1050,14 @@ efflux_measure_prep_refresh_lobe (EffluxMeasurePrep    *prep,
     {
       g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: [Lobe %s]: no such lobe", d->path, lobe);
       return FALSE;
+    }
+  pl = find_prepared (prep, lobe, NULL);
+  if (pl != NULL)
+    {
+      int done = update_lobe (prep, pl, d, dl, error);
+
+      if (done >= 0)
+        return done == 1;
     }
   pl = g_new0 (PrepLobe, 1);
   if (!prepare_lobe (d, dl, prep->cubes, prep->lines, prep->notes, pl, cancellable, error))

@@ -142,6 +142,14 @@ gboolean             efflux_measure_prep_refresh_lobe (EffluxMeasurePrep    *pre
                                                        GCancellable         *cancellable,
                                                        GError              **error);
 
+/* How many of the refreshes above were done by difference: for a lobe prepared from a cube in
+ * memory, an outline change subtracts the spectra of the pixels that left the mask and adds
+ * those of the pixels that entered it (compensated sums, Neumaier 1974), and finds the farthest
+ * detected pixel again only in the channels where it left; the result is that of a fresh
+ * preparation up to round-off. A change of more pixels than the new mask holds, or of anything
+ * else the preparation depends on, prepares the lobe again. */
+guint                efflux_measure_prep_n_incremental (const EffluxMeasurePrep *prep);
+
 /* The mask of a lobe (owned by the preparation), or NULL. */
 const EffluxLobeMask *efflux_measure_prep_mask (const EffluxMeasurePrep *prep,
                                                 const char              *lobe);
