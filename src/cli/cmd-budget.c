@@ -46,6 +46,7 @@ efflux_cmd_budget (int    argc,
     { NULL }
   };
   g_autoptr (GOptionContext) context = g_option_context_new (N_("DOSSIER... - outflow feedback on the cloud"));
+  g_autoptr (GString) s = g_string_new (NULL);
   EffluxCloud cloud;
   EffluxBudget b;
   double m_tot = 0.0, p_tot = 0.0, e_tot = 0.0, l_tot = 0.0;
@@ -118,7 +119,7 @@ efflux_cmd_budget (int    argc,
 
   if (json)
     {
-      g_autoptr (GString) s = g_string_new ("{\n");
+      g_string_append (s, "{\n");
       g_string_append_printf (s, "  \"n_sources\": %u,\n", b.n_sources);
       json_pair (s, "outflow_mass_msun", b.mass_msun, FALSE);
       json_pair (s, "outflow_momentum_msun_kms", b.momentum_msun_kms, FALSE);
@@ -147,33 +148,27 @@ efflux_cmd_budget (int    argc,
       json_pair (s, "unbound_mass_msun", b.m_unbound_msun, FALSE);
       json_pair (s, "unbound_fraction", b.unbound_fraction, TRUE);
       g_string_append (s, "}\n");
-      fputs (s->str, stdout);
     }
   else
     {
-      printf ("outflows (%u dossier%s): M = %.4g Msun, P = %.4g Msun km/s, E = %.4g erg, L = %.4g erg/s\n",
-              b.n_sources, b.n_sources == 1 ? "" : "s", b.mass_msun, b.momentum_msun_kms, b.energy_erg,
-              b.lmech_erg_s);
-      printf ("cloud: M = %.4g Msun, R = %.4g pc, FWHM = %.4g km/s (sigma_1D %.4g, sigma_3D %.4g km/s)\n",
-              mass, radius, fwhm, b.cloud.sigma_1d_kms, b.cloud.sigma_3d_kms);
-      printf ("turbulent energy       E_turb = %.5g erg           E_out/E_turb = %.3g\n",
-              b.cloud.e_turb_erg, b.e_ratio);
-      printf ("dissipation (R/sigma)  t = %.5g yr, L_turb = %.5g erg/s   L_out/L_turb = %.3g\n",
-              b.cloud.t_cross_yr, b.cloud.l_turb_erg_s, b.l_ratio);
-      printf ("dissipation (Mac Low)  eta_v = %.4g, lambda_d = %.4g pc: t = %.5g yr, L_turb = %.5g erg/s"
-              "   L_out/L_turb = %.3g\n", b.cloud.eta_v, b.cloud.driving_scale_pc, b.cloud.t_maclow_yr,
-              b.cloud.l_turb_maclow_erg_s, b.l_ratio_maclow);
-      printf ("turbulent momentum     P_turb = %.5g Msun km/s   P_out/P_turb = %.3g\n",
-              b.cloud.p_turb_msun_kms, b.p_ratio);
-      printf ("binding energy         E_grav = %.5g erg           E_out/E_grav = %.3g\n",
-              b.cloud.e_grav_erg, b.grav_ratio);
-      printf ("unbound mass           P_out/v_esc = %.4g Msun (v_esc %.4g km/s, %.3g of the cloud)\n",
-              b.m_unbound_msun, b.cloud.v_esc_kms, b.unbound_fraction);
+      g_string_append_printf (s, "outflows (%u dossier%s): M = %.4g Msun, P = %.4g Msun km/s, E = %.4g erg, L = %.4g erg/s\n",
+                              b.n_sources, b.n_sources == 1 ? "" : "s", b.mass_msun, b.momentum_msun_kms, b.energy_erg,
+                              b.lmech_erg_s);
+      g_string_append_printf (s, "cloud: M = %.4g Msun, R = %.4g pc, FWHM = %.4g km/s (sigma_1D %.4g, sigma_3D %.4g km/s)\n",
+                              mass, radius, fwhm, b.cloud.sigma_1d_kms, b.cloud.sigma_3d_kms);
+      g_string_append_printf (s, "turbulent energy       E_turb = %.5g erg           E_out/E_turb = %.3g\n",
+                              b.cloud.e_turb_erg, b.e_ratio);
+      g_string_append_printf (s, "dissipation (R/sigma)  t = %.5g yr, L_turb = %.5g erg/s   L_out/L_turb = %.3g\n",
+                              b.cloud.t_cross_yr, b.cloud.l_turb_erg_s, b.l_ratio);
+      g_string_append_printf (s, "dissipation (Mac Low)  eta_v = %.4g, lambda_d = %.4g pc: t = %.5g yr, L_turb = %.5g erg/s"
+                              "   L_out/L_turb = %.3g\n", b.cloud.eta_v, b.cloud.driving_scale_pc, b.cloud.t_maclow_yr,
+                              b.cloud.l_turb_maclow_erg_s, b.l_ratio_maclow);
+      g_string_append_printf (s, "turbulent momentum     P_turb = %.5g Msun km/s   P_out/P_turb = %.3g\n",
+                              b.cloud.p_turb_msun_kms, b.p_ratio);
+      g_string_append_printf (s, "binding energy         E_grav = %.5g erg           E_out/E_grav = %.3g\n",
+                              b.cloud.e_grav_erg, b.grav_ratio);
+      g_string_append_printf (s, "unbound mass           P_out/v_esc = %.4g Msun (v_esc %.4g km/s, %.3g of the cloud)\n",
+                              b.m_unbound_msun, b.cloud.v_esc_kms, b.unbound_fraction);
     }
-  if (fflush (stdout) != 0)
-    {
-      g_set_error (&error, EFFLUX_ERROR, EFFLUX_ERROR_IO, "standard output: cannot write");
-      return efflux_cli_fail (error);
-    }
-  return EFFLUX_EXIT_OK;
+  return efflux_cli_write_stdout (s->str, (gssize) s->len);
 }

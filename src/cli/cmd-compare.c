@@ -279,6 +279,8 @@ efflux_cmd_compare (int    argc,
     format = g_strdup ("text");
   if (strcmp (format, "text") != 0 && strcmp (format, "csv") != 0 && strcmp (format, "json") != 0)
     return efflux_cli_usage ("compare", "--format %s: expected text, csv or json", format);
+  if (output != NULL && !efflux_cli_check_output ("-o", output, &status))
+    return status;
 
   mine = efflux_dossier_load (rest[0], &error);
   if (mine == NULL)
@@ -308,10 +310,5 @@ efflux_cmd_compare (int    argc,
         return efflux_cli_fail (error);
       return EFFLUX_EXIT_OK;
     }
-  if (fwrite (s->str, 1, s->len, stdout) != s->len || fflush (stdout) != 0)
-    {
-      g_set_error (&error, EFFLUX_ERROR, EFFLUX_ERROR_IO, "standard output: cannot write");
-      return efflux_cli_fail (error);
-    }
-  return EFFLUX_EXIT_OK;
+  return efflux_cli_write_stdout (s->str, (gssize) s->len);
 }

@@ -51,6 +51,8 @@ efflux_cmd_export (int    argc,
     return efflux_cli_usage ("export", "--masks %s: expected 2d, 3d or stcs", masks);
   if (output == NULL)
     return efflux_cli_usage ("export", "-o FILE is required");
+  if (!efflux_cli_check_output ("-o", output, &status))
+    return status;
 
   dossier = efflux_dossier_load (rest[0], &error);
   if (dossier == NULL)

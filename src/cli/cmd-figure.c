@@ -120,6 +120,8 @@ efflux_cmd_figure (int    argc,
       else
         return efflux_cli_usage ("figure", "--coords '%s': expected sexagesimal or offsets", coords);
     }
+  if (!efflux_cli_check_output ("-o", output, &status))
+    return status;
   o.width_mm = width_mm;
   o.height_mm = height_mm;
   o.dpi = dpi;
@@ -138,8 +140,9 @@ efflux_cmd_figure (int    argc,
   efflux_figure_release_fonts ();
   if (!ok)
     return efflux_cli_fail (error);
-  printf ("%s\n", caption);
-  if (fflush (stdout) != 0 || ferror (stdout))
-    return efflux_cli_fail (g_error_new (EFFLUX_ERROR, EFFLUX_ERROR_IO, "standard output: write failed"));
-  return EFFLUX_EXIT_OK;
+  {
+    g_autofree char *line = g_strconcat (caption, "\n", NULL);
+
+    return efflux_cli_write_stdout (line, -1);
+  }
 }

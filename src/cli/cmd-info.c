@@ -204,10 +204,5 @@ efflux_cmd_info (int    argc,
   efflux_cube_pixel_to_icrs (cube, ((double) cube->nx - 1.0) / 2.0, ((double) cube->ny - 1.0) / 2.0, &ra, &dec);
   rms = median_rms (cube);
   text = json ? info_json (cube, ra, dec, rms) : info_text (cube, ra, dec, rms);
-  if (fputs (text, stdout) == EOF || fflush (stdout) != 0)
-    {
-      fprintf (stderr, "efflux-cli: error: cannot write the output\n");
-      return EFFLUX_EXIT_INPUT;
-    }
-  return EFFLUX_EXIT_OK;
+  return efflux_cli_write_stdout (text, -1);
 }

@@ -152,11 +152,5 @@ efflux_cmd_knots (int    argc,
             g_string_append (s, "            -\n");
         }
     }
-  fputs (s->str, stdout);
-  if (fflush (stdout) != 0)
-    {
-      g_set_error (&error, EFFLUX_ERROR, EFFLUX_ERROR_IO, "standard output: cannot write");
-      return efflux_cli_fail (error);
-    }
-  return EFFLUX_EXIT_OK;
+  return efflux_cli_write_stdout (s->str, (gssize) s->len);
 }

@@ -10,7 +10,6 @@
 #include "efflux-sample.h"
 #include "efflux-table.h"
 
-#include <errno.h>
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
@@ -156,21 +155,6 @@ spectrum_csv (GArray *all)
   return g_string_free (s, FALSE);
 }
 
-static int
-write_stdout (const char *text)
-{
-  size_t n = strlen (text);
-
-  if (fwrite (text, 1, n, stdout) != n || fflush (stdout) != 0)
-    {
-      int saved = errno;
-
-      return efflux_cli_fail (g_error_new (EFFLUX_ERROR, EFFLUX_ERROR_IO, "standard output: %s",
-                                           g_strerror (saved)));
-    }
-  return EFFLUX_EXIT_OK;
-}
-
 static gboolean
 parse_shard (const char *spec,
              guint      *k,
@@ -186,40 +170,6 @@ parse_shard (const char *spec,
     return FALSE;
   *k = (guint) a;
   *n = (guint) b;
-  return TRUE;
-}
-
-/* Refuse an output path that cannot be written before measuring for hours. */
-static gboolean
-output_writable (const char  *path,
-                 char       **why)
-{
-  g_autofree char *dir = g_path_get_dirname (path);
-
-  if (g_file_test (path, G_FILE_TEST_IS_DIR))
-    {
-      *why = g_strdup ("is a folder");
-      return FALSE;
-    }
-  if (!g_file_test (dir, G_FILE_TEST_IS_DIR))
-    {
-      *why = g_strdup_printf ("folder %s does not exist", dir);
-      return FALSE;
-    }
-  if (access (dir, W_OK) != 0)
-    {
-      int saved = errno;
-
-      *why = g_strdup_printf ("folder %s: %s", dir, g_strerror (saved));
-      return FALSE;
-    }
-  if (g_file_test (path, G_FILE_TEST_EXISTS) && access (path, W_OK) != 0)
-    {
-      int saved = errno;
-
-      *why = g_strdup (g_strerror (saved));
-      return FALSE;
-    }
   return TRUE;
 }
 
@@ -247,7 +197,6 @@ efflux_cmd_measure (int    argc,
   g_autoptr (GPtrArray) sample = g_ptr_array_new_with_free_func (g_free);
   g_autoptr (EffluxTable) table = efflux_table_new ();
   g_autofree char *text = NULL;
-  g_autofree char *why = NULL;
   EffluxTableFormat fmt = EFFLUX_TABLE_CSV;
   gboolean terminal = FALSE;
   guint shard_k = 1, shard_n = 1;
@@ -275,10 +224,11 @@ efflux_cmd_measure (int    argc,
     terminal = TRUE;
   if (shard != NULL && !parse_shard (shard, &shard_k, &shard_n))
     return efflux_cli_usage ("measure", "--shard '%s': expected K/N with 1 <= K <= N (e.g. 3/10)", shard);
-  if (output != NULL && !output_writable (output, &why))
-    return efflux_cli_usage ("measure", "-o %s: cannot write there: %s", output, why);
-  if (spectrum != NULL && !output_writable (spectrum, &why))
-    return efflux_cli_usage ("measure", "--spectrum %s: cannot write there: %s", spectrum, why);
+  /* refuse an output that cannot be written before measuring for hours */
+  if (output != NULL && !efflux_cli_check_output ("-o", output, &status))
+    return status;
+  if (spectrum != NULL && !efflux_cli_check_output ("--spectrum", spectrum, &status))
+    return status;
 
   for (int i = 1; i < argc; i++)
     {
@@ -335,7 +285,7 @@ efflux_cmd_measure (int    argc,
       if (!efflux_write_file_atomic (output, text, -1, &error))
         return efflux_cli_fail (error);
     }
-  else if ((status = write_stdout (text)) != EFFLUX_EXIT_OK)
+  else if ((status = efflux_cli_write_stdout (text, -1)) != EFFLUX_EXIT_OK)
     return status;
   if (mark)
     for (guint i = 0; i < all->len; i++)

@@ -8,10 +8,8 @@
 #include "efflux-io.h"
 #include "efflux-table.h"
 
-#include <errno.h>
 #include <stdio.h>
 #include <string.h>
-#include <unistd.h>
 
 /* efflux-cli merge PART.csv... [-o FILE] [--format csv|ecsv|votable|latex|markdown|json]
  *
@@ -19,32 +17,6 @@
  * sample: the same Efflux version, the same columns and the same sample in every part, each
  * source in one part, none missing. The merged csv equals, byte for byte, the csv of measuring
  * the whole sample at once. */
-
-static gboolean
-output_writable (const char  *path,
-                 char       **why)
-{
-  g_autofree char *dir = g_path_get_dirname (path);
-
-  if (g_file_test (path, G_FILE_TEST_IS_DIR))
-    {
-      *why = g_strdup ("is a folder");
-      return FALSE;
-    }
-  if (!g_file_test (dir, G_FILE_TEST_IS_DIR))
-    {
-      *why = g_strdup_printf ("folder %s does not exist", dir);
-      return FALSE;
-    }
-  if (access (dir, W_OK) != 0)
-    {
-      int saved = errno;
-
-      *why = g_strdup_printf ("folder %s: %s", dir, g_strerror (saved));
-      return FALSE;
-    }
-  return TRUE;
-}
 
 int
 efflux_cmd_merge (int    argc,
@@ -62,7 +34,6 @@ efflux_cmd_merge (int    argc,
   g_autoptr (GPtrArray) parts = g_ptr_array_new_with_free_func ((GDestroyNotify) efflux_table_free);
   g_autoptr (EffluxTable) merged = NULL;
   g_autofree char *text = NULL;
-  g_autofree char *why = NULL;
   EffluxTableFormat fmt = EFFLUX_TABLE_CSV;
   GError *error = NULL;
   int status;
@@ -81,8 +52,8 @@ efflux_cmd_merge (int    argc,
     return efflux_cli_usage ("merge", "unknown format '%s' (expected csv, ecsv, votable, latex, markdown or json)", format);
   if (format == NULL && output != NULL && !efflux_table_format_from_path (output, &fmt))
     fmt = EFFLUX_TABLE_CSV;
-  if (output != NULL && !output_writable (output, &why))
-    return efflux_cli_usage ("merge", "-o %s: cannot write there: %s", output, why);
+  if (output != NULL && !efflux_cli_check_output ("-o", output, &status))
+    return status;
 
   for (int i = 1; i < argc; i++)
     {
@@ -108,11 +79,5 @@ efflux_cmd_merge (int    argc,
         return efflux_cli_fail (error);
       return EFFLUX_EXIT_OK;
     }
-  if (fputs (text, stdout) < 0 || fflush (stdout) != 0)
-    {
-      int saved = errno;
-
-      return efflux_cli_fail (g_error_new (EFFLUX_ERROR, EFFLUX_ERROR_IO, "standard output: %s", g_strerror (saved)));
-    }
-  return EFFLUX_EXIT_OK;
+  return efflux_cli_write_stdout (text, -1);
 }

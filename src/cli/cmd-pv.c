@@ -50,17 +50,17 @@ efflux_cmd_pv (int    argc,
     return efflux_cli_usage ("pv", "--path is required");
   if (output == NULL)
     return efflux_cli_usage ("pv", "-o OUT.fits is required");
+  /* a malformed option value is wrong usage (2), like every option GLib cannot parse */
   if (!efflux_pv_path_parse (path_text, &ra_dec, &n_vertices, &error))
     {
-      g_prefix_error (&error, "--path ");
-      return efflux_cli_fail (error);
+      g_autoptr (GError) local = error;
+
+      return efflux_cli_usage ("pv", "--path %s", local->message);
     }
   if (!isfinite (width) || width < 0.0)
-    {
-      g_set_error (&error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                   "--width-arcsec %g: expected a width >= 0", width);
-      return efflux_cli_fail (error);
-    }
+    return efflux_cli_usage ("pv", "--width-arcsec %g: expected a width >= 0", width);
+  if (!efflux_cli_check_output ("-o", output, &status))
+    return status;
 
   load.no_noise = TRUE;
   cube = efflux_cube_load (rest[0], &load, NULL, NULL, NULL, &error);

@@ -44,6 +44,8 @@ efflux_cmd_report (int    argc,
   dot = strrchr (output, '.');
   if (dot == NULL || g_ascii_strcasecmp (dot, ".pdf") != 0)
     return efflux_cli_usage ("report", "-o %s: the report is a PDF (name ending in .pdf)", output);
+  if (!efflux_cli_check_output ("-o", output, &status))
+    return status;
 
   dossier = efflux_dossier_load (rest[0], &error);
   if (dossier == NULL)

@@ -2,9 +2,11 @@
 #include "efflux-cli.h"
 #include "efflux-error.h"
 
+#include <errno.h>
 #include <math.h>
 #include <string.h>
 #include <stdio.h>
+#include <unistd.h>
 
 int
 efflux_cli_fail (GError *error)
@@ -57,6 +59,66 @@ efflux_cli_parse (GOptionContext *context,
       return FALSE;
     }
   return TRUE;
+}
+
+/* Why path cannot be written, or NULL when it can. */
+static char *
+output_problem (const char *path)
+{
+  g_autofree char *dir = g_path_get_dirname (path);
+
+  if (*path == '\0')
+    return g_strdup ("the name is empty");
+  if (g_file_test (path, G_FILE_TEST_IS_DIR))
+    return g_strdup ("it is a folder");
+  if (!g_file_test (dir, G_FILE_TEST_EXISTS))
+    return g_strdup_printf ("folder %s does not exist", dir);
+  if (!g_file_test (dir, G_FILE_TEST_IS_DIR))
+    return g_strdup_printf ("%s is not a folder", dir);
+  if (access (dir, W_OK | X_OK) != 0)
+    {
+      int saved = errno;
+
+      return g_strdup_printf ("folder %s: %s", dir, g_strerror (saved));
+    }
+  if (g_file_test (path, G_FILE_TEST_EXISTS) && access (path, W_OK) != 0)
+    {
+      int saved = errno;
+
+      return g_strdup (g_strerror (saved));
+    }
+  return NULL;
+}
+
+gboolean
+efflux_cli_check_output (const char *option,
+                         const char *path,
+                         int        *status)
+{
+  g_autofree char *why = output_problem (path);
+
+  if (why == NULL)
+    return TRUE;
+  *status = efflux_cli_fail (g_error_new (EFFLUX_ERROR, EFFLUX_ERROR_IO, "%s %s: cannot write there: %s",
+                                          option, path, why));
+  return FALSE;
+}
+
+int
+efflux_cli_write_stdout (const char *text,
+                         gssize      length)
+{
+  size_t n = length < 0 ? strlen (text) : (size_t) length;
+
+  errno = 0;
+  if (fwrite (text, 1, n, stdout) != n || fflush (stdout) != 0)
+    {
+      int saved = errno;
+
+      return efflux_cli_fail (g_error_new (EFFLUX_ERROR, EFFLUX_ERROR_IO, "standard output: %s",
+                                           saved != 0 ? g_strerror (saved) : "write failed"));
+    }
+  return EFFLUX_EXIT_OK;
 }
 
 void

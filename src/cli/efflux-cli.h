@@ -24,6 +24,19 @@ gboolean efflux_cli_parse (GOptionContext *context,
                            char         ***argv,
                            int            *status);
 
+/* Check, before any work, that PATH (the value of OPTION, e.g. "-o") can be written: its folder
+ * exists and is writable, PATH is no folder and, when it exists, is writable. An unwritable output
+ * is refused input: on failure prints "efflux-cli: error: OPTION PATH: cannot write there: WHY"
+ * and returns FALSE with *status = 1. */
+gboolean efflux_cli_check_output (const char *option,
+                                  const char *path,
+                                  int        *status);
+
+/* Write text (length -1: up to its NUL) to standard output and flush it; returns 0, or prints
+ * "efflux-cli: error: standard output: WHY" and returns 1. */
+int efflux_cli_write_stdout (const char *text,
+                             gssize      length);
+
 /* Append a JSON string literal (quoted, escaped) to s. */
 void efflux_json_string (GString    *s,
                          const char *text);

@@ -109,6 +109,9 @@ write('gzip-garbage.fits', b'\x1f\x8b\x08\x00' + bytes(rnd.getrandbits(8) for _ 
 os.makedirs(os.path.join(out, 'folder.fits'), exist_ok=True)
 fits('unreadable.fits')
 os.chmod(os.path.join(out, 'unreadable.fits'), 0)
+# an output folder nobody may write in (root may: the test skips the case then)
+os.makedirs(os.path.join(out, 'readonly'), exist_ok=True)
+os.chmod(os.path.join(out, 'readonly'), 0o555)
 
 # --- dossiers -------------------------------------------------------------------------------------
 # the lobe outline: a square of 4 x 4 pixels around the map centre (pixel 4.5, 4 is 83.8, -5.4)
