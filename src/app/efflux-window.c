@@ -7,15 +7,19 @@
 #include <math.h>
 
 #include "efflux-assumptions.h"
+#include "efflux-banner.h"
 #include "efflux-cut-view.h"
 #include "efflux-ledger.h"
 #include "efflux-spectrum-view.h"
 #include "efflux-cube.h"
 #include "efflux-document.h"
+#include "efflux-figure-dialog.h"
 #include "efflux-dossier.h"
 #include "efflux-maps.h"
 #include "efflux-resources.h"
+#include "efflux-review-sheet.h"
 #include "efflux-sky-view.h"
+#include "efflux-sources.h"
 #include "efflux-window.h"
 
 struct _EffluxWindow
@@ -33,7 +37,8 @@ struct _EffluxWindow
   GtkWidget       *loading_box;
   GtkWidget       *empty_box;
   EffluxSkyView   *sky_view;
-  GtkListBox      *sources_list;
+  EffluxSources   *sources;
+  EffluxReviewSheet *review_sheet;
   GtkWidget       *lobe_bar;
   GtkLabel        *lobe_label;
   GtkDropDown     *kind_dropdown;
@@ -48,6 +53,7 @@ struct _EffluxWindow
   GtkRevealer     *assumptions_revealer;
   EffluxAssumptions *assumptions;
   GMenu           *recent_menu;
+  EffluxBanner    *banner;         /* the message area (efflux_window_show_error) */
 
   GCancellable    *cancellable;
   GCancellable    *measure_cancellable;
@@ -157,6 +163,7 @@ update_actions (EffluxWindow *self)
 
   gtk_widget_action_set_enabled (GTK_WIDGET (self), "win.save", has);
   gtk_widget_action_set_enabled (GTK_WIDGET (self), "win.save-as", has);
+  gtk_widget_action_set_enabled (GTK_WIDGET (self), "win.export-figure", has);
   gtk_widget_action_set_enabled (GTK_WIDGET (self), "win.undo",
                                  has && efflux_document_can_undo (self->document));
   gtk_widget_action_set_enabled (GTK_WIDGET (self), "win.redo",
@@ -537,6 +544,8 @@ set_document (EffluxWindow   *self,
   g_set_object (&self->document, document);
   efflux_sky_view_set_document (self->sky_view, document);
   efflux_assumptions_set_document (self->assumptions, document);
+  efflux_sources_set_document (self->sources, document);
+  efflux_review_sheet_set_document (self->review_sheet, document);
   if (document != NULL)
     {
       g_signal_connect (document, "changed", G_CALLBACK (document_changed), self);
@@ -815,19 +824,7 @@ cancel_clicked (EffluxWindow *self)
     g_cancellable_cancel (self->cancellable);
 }
 
-/* ---- the Sources list: every dossier or cube opened in this window, with a short status ---- */
-
-static GtkListBoxRow *
-find_source_row (EffluxWindow *self,
-                 const char   *path)
-{
-  for (GtkWidget *child = gtk_widget_get_first_child (GTK_WIDGET (self->sources_list));
-       child != NULL; child = gtk_widget_get_next_sibling (child))
-    if (GTK_IS_LIST_BOX_ROW (child)
-        && g_strcmp0 (g_object_get_data (G_OBJECT (child), "efflux-path"), path) == 0)
-      return GTK_LIST_BOX_ROW (child);
-  return NULL;
-}
+/* ---- the Sources list (efflux-sources.c): a sample's dossiers and the files opened here ---- */
 
 static void
 show_source_row (EffluxWindow *self,
@@ -835,54 +832,39 @@ show_source_row (EffluxWindow *self,
                  const char   *name,
                  const char   *detail)
 {
-  GtkListBoxRow *row = find_source_row (self, path);
-  GtkWidget *box, *title, *sub;
-
-  if (row == NULL)
-    {
-      row = GTK_LIST_BOX_ROW (gtk_list_box_row_new ());
-      g_object_set_data_full (G_OBJECT (row), "efflux-path", g_strdup (path), g_free);
-      gtk_widget_set_tooltip_text (GTK_WIDGET (row), path);
-      gtk_list_box_append (self->sources_list, GTK_WIDGET (row));
-    }
-  box = gtk_box_new (GTK_ORIENTATION_VERTICAL, 2);
-  title = gtk_label_new (name);
-  gtk_label_set_xalign (GTK_LABEL (title), 0.0);
-  gtk_label_set_ellipsize (GTK_LABEL (title), PANGO_ELLIPSIZE_END);
-  sub = gtk_label_new (detail);
-  gtk_label_set_xalign (GTK_LABEL (sub), 0.0);
-  gtk_label_set_ellipsize (GTK_LABEL (sub), PANGO_ELLIPSIZE_END);
-  gtk_widget_add_css_class (sub, "caption");
-  gtk_widget_add_css_class (sub, "dim-label");
-  gtk_box_append (GTK_BOX (box), title);
-  gtk_box_append (GTK_BOX (box), sub);
-  gtk_list_box_row_set_child (row, box);
-  gtk_list_box_select_row (self->sources_list, row);
+  efflux_sources_add_opened (self->sources, path, name, detail);
 }
 
+/* A row was activated (the question about unsaved changes, if any, was answered). */
 static void
-source_activated (EffluxWindow  *self,
-                  GtkListBoxRow *row)
+source_activated (EffluxSources *sources,
+                  const char    *path,
+                  EffluxWindow  *self)
 {
-  const char *path = g_object_get_data (G_OBJECT (row), "efflux-path");
-  g_autoptr(GFile) file = NULL;
+  g_autoptr(GFile) file = g_file_new_for_path (path);
 
-  if (path == NULL)
-    return;
-  file = g_file_new_for_path (path);
   efflux_window_open (self, file);
 }
 
 guint
 efflux_window_get_n_sources (EffluxWindow *self)
 {
-  guint n = 0;
-
   g_return_val_if_fail (EFFLUX_IS_WINDOW (self), 0);
-  for (GtkWidget *child = gtk_widget_get_first_child (GTK_WIDGET (self->sources_list));
-       child != NULL; child = gtk_widget_get_next_sibling (child))
-    n += GTK_IS_LIST_BOX_ROW (child);
-  return n;
+  return efflux_sources_get_n_rows (self->sources);
+}
+
+EffluxSources *
+efflux_window_get_sources (EffluxWindow *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_WINDOW (self), NULL);
+  return self->sources;
+}
+
+EffluxReviewSheet *
+efflux_window_get_review_sheet (EffluxWindow *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_WINDOW (self), NULL);
+  return self->review_sheet;
 }
 
 /* The cube the window shows first: the dossier's first tracer (else its first cube), and the
@@ -974,6 +956,15 @@ efflux_window_open (EffluxWindow *self,
       return;
     }
 
+  /* a folder: the sample the Sources list shows */
+  if (g_file_test (path, G_FILE_TEST_IS_DIR))
+    {
+      g_autoptr(GError) error = NULL;
+
+      if (!efflux_sources_set_folder (self->sources, path, &error))
+        efflux_window_show_error (self, error->message);
+      return;
+    }
   if (g_str_has_suffix (path, ".efflux"))
     {
       open_dossier (self, path);
@@ -1020,6 +1011,19 @@ efflux_window_get_cube (EffluxWindow *self)
 }
 
 /* ---- actions ---- */
+
+/* Export Figure: the dialog (efflux-figure-dialog.h) draws the document's current dossier. */
+static void
+export_figure_action (GtkWidget  *widget,
+                      const char *action_name,
+                      GVariant   *parameter)
+{
+  EffluxWindow *self = EFFLUX_WINDOW (widget);
+
+  if (self->document != NULL)
+    gtk_window_present (GTK_WINDOW (efflux_figure_dialog_new (GTK_WINDOW (self), self->document,
+                                                              self->sky_view)));
+}
 
 static void
 chooser_response (GtkNativeDialog *dialog,
@@ -1439,8 +1443,10 @@ efflux_window_class_init (EffluxWindowClass *klass)
   gtk_widget_class_bind_template_child (widget_class, EffluxWindow, loading_box);
   gtk_widget_class_bind_template_child (widget_class, EffluxWindow, empty_box);
   gtk_widget_class_bind_template_child (widget_class, EffluxWindow, sky_view);
-  gtk_widget_class_bind_template_child (widget_class, EffluxWindow, sources_list);
-  gtk_widget_class_bind_template_callback (widget_class, source_activated);
+  g_type_ensure (EFFLUX_TYPE_SOURCES);
+  g_type_ensure (EFFLUX_TYPE_REVIEW_SHEET);
+  gtk_widget_class_bind_template_child (widget_class, EffluxWindow, sources);
+  gtk_widget_class_bind_template_child (widget_class, EffluxWindow, review_sheet);
   gtk_widget_class_bind_template_callback (widget_class, cancel_clicked);
   gtk_widget_class_bind_template_child (widget_class, EffluxWindow, lobe_bar);
   gtk_widget_class_bind_template_child (widget_class, EffluxWindow, lobe_label);
@@ -1456,6 +1462,8 @@ efflux_window_class_init (EffluxWindowClass *klass)
   gtk_widget_class_bind_template_child (widget_class, EffluxWindow, assumptions_revealer);
   gtk_widget_class_bind_template_child (widget_class, EffluxWindow, assumptions);
   gtk_widget_class_bind_template_child (widget_class, EffluxWindow, recent_menu);
+  g_type_ensure (EFFLUX_TYPE_BANNER);
+  gtk_widget_class_bind_template_child (widget_class, EffluxWindow, banner);
 
   gtk_widget_class_install_action (widget_class, "win.save", NULL, document_action);
   gtk_widget_class_install_action (widget_class, "win.save-as", NULL, document_action);
@@ -1466,6 +1474,9 @@ efflux_window_class_init (EffluxWindowClass *klass)
   gtk_widget_class_install_property_action (widget_class, "win.assumptions", "show-assumptions");
 
   gtk_widget_class_install_action (widget_class, "win.open", NULL, open_action);
+  gtk_widget_class_install_action (widget_class, "win.export-figure", NULL, export_figure_action);
+  gtk_widget_class_add_binding_action (widget_class, GDK_KEY_e, GDK_CONTROL_MASK | GDK_SHIFT_MASK,
+                                       "win.export-figure", NULL);
   gtk_widget_class_install_action (widget_class, "win.zoom-in", NULL, zoom_action);
   gtk_widget_class_install_action (widget_class, "win.zoom-out", NULL, zoom_action);
   gtk_widget_class_install_action (widget_class, "win.zoom-fit", NULL, zoom_action);
@@ -1514,6 +1525,12 @@ efflux_window_init (EffluxWindow *self)
       g_action_map_add_action (G_ACTION_MAP (group), G_ACTION (action));
     }
   gtk_widget_insert_action_group (GTK_WIDGET (self), "view", G_ACTION_GROUP (group));
+  /* the Sources list's and the Review sheet's actions, for the menu and the keys */
+  gtk_widget_insert_action_group (GTK_WIDGET (self), "sources", efflux_sources_get_actions (self->sources));
+  gtk_widget_insert_action_group (GTK_WIDGET (self), "review",
+                                  efflux_review_sheet_get_actions (self->review_sheet));
+  g_signal_connect_object (self->sources, "open-source", G_CALLBACK (source_activated), self, 0);
+  efflux_review_sheet_set_sky_view (self->review_sheet, self->sky_view);
 
   g_signal_connect_object (self->sky_view, "notify::readout", G_CALLBACK (readout_changed), self, 0);
   g_signal_connect_object (self->sky_view, "notify::selected-lobe",
@@ -1565,4 +1582,29 @@ EffluxWindow *
 efflux_window_new (EffluxApplication *application)
 {
   return g_object_new (EFFLUX_TYPE_WINDOW, "application", application, NULL);
+}
+
+/* The message area: errors stay until closed or replaced (efflux-banner.h). */
+void
+efflux_window_show_error (EffluxWindow *self,
+                          const char   *message)
+{
+  g_return_if_fail (EFFLUX_IS_WINDOW (self));
+  g_return_if_fail (message != NULL);
+  g_debug ("error shown: %s", message);
+  efflux_banner_show (self->banner, EFFLUX_BANNER_ERROR, message, NULL);
+}
+
+const char *
+efflux_window_get_error (EffluxWindow *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_WINDOW (self), NULL);
+  return efflux_banner_get_message (self->banner);
+}
+
+GtkWidget *
+efflux_window_get_banner (EffluxWindow *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_WINDOW (self), NULL);
+  return GTK_WIDGET (self->banner);
 }

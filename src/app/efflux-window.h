@@ -7,7 +7,9 @@
 #include "efflux-assumptions.h"
 #include "efflux-cube.h"
 #include "efflux-document.h"
+#include "efflux-review-sheet.h"
 #include "efflux-sky-view.h"
+#include "efflux-sources.h"
 
 G_BEGIN_DECLS
 
@@ -36,5 +38,16 @@ EffluxAssumptions *efflux_window_get_assumptions (EffluxWindow *self);
 GtkWidget    *efflux_window_get_cut_view      (EffluxWindow *self);
 GtkWidget    *efflux_window_get_spectrum_view (EffluxWindow *self);
 GtkWidget    *efflux_window_get_ledger        (EffluxWindow *self);
+/* The Sources list (a sample's dossiers) and the Review side sheet. */
+EffluxSources     *efflux_window_get_sources      (EffluxWindow *self);
+EffluxReviewSheet *efflux_window_get_review_sheet (EffluxWindow *self);
+/* Show a one-line error in the window's message area (a banner under the header bar). It stays
+ * until closed or replaced by another message; the open dossier is not touched. */
+void          efflux_window_show_error (EffluxWindow *self,
+                                        const char   *message);
+/* The message shown in the message area, or NULL when it is closed. */
+const char   *efflux_window_get_error  (EffluxWindow *self);
+/* The message area (an EffluxBanner). */
+GtkWidget    *efflux_window_get_banner (EffluxWindow *self);
 
 G_END_DECLS
