@@ -1,0 +1,190 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* Are the wind-driven shell fit's quoted errors (efflux-shellfit.h) the right size? Coverage over
+ * noise realisations: synthetic shells (efflux-synth shape=shell, Lee et al. 2000, ApJ 542, 925,
+ * the model of REFERENCES.md 1.10 item 2) at 30, 50 and 70 deg from the line of sight, made once
+ * without noise, then N_REAL times with fresh Gaussian noise added to every voxel (uncorrelated
+ * between voxels, as efflux-synth adds it), cut along the axis and fitted. For a correct 1-sigma
+ * error, the fraction of fits whose inclination lies within 1 quoted sigma of the truth is 68.3%
+ * (the Gaussian's +-1 sigma probability: erf (1 / sqrt 2), from memory; scipy.stats.norm gives
+ * 0.6827).
+ *
+ * Tolerance. Each inclination gives 2 lobes x N_REAL fits; with 3 x 2 x 30 = 180 fits (lobes of one
+ * cut are not quite independent, so count ~90 to 180) the binomial spread of a true 68% is 3.5 to
+ * 5 points. The test accepts 52% to 84% over all fits: a 2x underestimate of the errors gives
+ * P(|z| < 0.5) = 38% and a 2x overestimate P(|z| < 2) = 95% (normal distribution, from memory),
+ * both well outside. The coverages of t0 and C are reported (g_test_message) and C's bias too. */
+
+#include <glib.h>
+
+#include "efflux-cube.h"
+#include "efflux-dossier.h"
+#include "efflux-kinematics.h"
+#include "efflux-pv.h"
+#include "efflux-shellfit.h"
+#include "efflux-synth.h"
+#include "efflux-test-util.h"
+
+#include <math.h>
+#include <string.h>
+
+#define N_REAL 30
+
+#define RECIPE_FMT \
+  "[Recipe]\nname=shell\nseed=7\n\n" \
+  "[Source]\nname=Shell test\nra-deg=83.8\ndec-deg=-5.4\ndistance-pc=300\nvsys-kms=5\n" \
+  "inclination-deg=%g\nposition-angle-deg=30\n\n" \
+  "[Grid]\nnx=81\nny=81\npixel-arcsec=0.5\nnchan=110\nvstart-kms=-22.25\ndv-kms=0.5\nbeam-arcsec=1.5\n\n" \
+  "[Physics]\ntex-k=30\nco-abundance=1e-4\n\n" \
+  "[Lobe blue]\nkind=blue\nshape=shell\nmass-msun=2e-5\nlength-au=3000\nvmin-kms=1\nvmax-kms=20\n" \
+  "shell-c-per-arcsec=1.2\n\n" \
+  "[Lobe red]\nkind=red\nshape=shell\nmass-msun=2e-5\nlength-au=3000\nvmin-kms=1\nvmax-kms=20\n" \
+  "shell-c-per-arcsec=1.2\n\n" \
+  "[Cube co]\nline=12CO 2-1\n"
+
+/* the noise per voxel, as a fraction of the noise-free cube's brightest voxel */
+#define NOISE_FRACTION 0.08
+
+typedef struct
+{
+  guint  n;
+  guint  in_i, in_t, in_c;      /* within 1 sigma of the truth */
+  double sum_zi2;               /* sum of ((fit - truth) / err)^2 for i */
+  double sum_c_ratio;           /* sum of C_fit / C_true */
+  double sum_t_ratio;
+} Tally;
+
+static void
+run_inclination (double  incl,
+                 Tally  *all)
+{
+  g_autofree char *dir = efflux_test_tmp_dir ("efflux-shellcov");
+  g_autofree char *text = g_strdup_printf (RECIPE_FMT, incl);
+  g_autofree char *dpath = g_build_filename (dir, "shell.efflux", NULL);
+  g_autofree char *cpath = g_build_filename (dir, "shell-co.fits", NULL);
+  g_autofree char *tpath = g_build_filename (dir, "shell.truth", NULL);
+  g_autoptr (GError) error = NULL;
+  g_autoptr (EffluxSynthRecipe) rc = NULL;
+  g_autoptr (EffluxDossier) dossier = NULL;
+  g_autoptr (EffluxCube) cube = NULL;
+  g_autoptr (GKeyFile) truth = g_key_file_new ();
+  g_autofree float *clean = NULL;
+  g_autoptr (GRand) rand = g_rand_new_with_seed ((guint32) (1000 + incl));
+  EffluxCubeLoadOptions load = { 0 };
+  const EffluxDossierCut *cut;
+  g_autofree double *ra_dec = NULL;
+  double t0, c_true, peak = 0.0, rms, sx, sy;
+  gsize nvox;
+  Tally t = { 0 };
+
+  rc = efflux_synth_recipe_load_data (text, "shell.recipe", &error);
+  g_assert_no_error (error);
+  g_assert_true (efflux_synth_run (rc, dir, &error));
+  g_assert_no_error (error);
+  g_assert_true (g_key_file_load_from_file (truth, tpath, G_KEY_FILE_NONE, &error));
+  t0 = g_key_file_get_double (truth, "Lobe blue", "t0-yr", &error);
+  g_assert_no_error (error);
+  c_true = g_key_file_get_double (truth, "Lobe blue", "shell-c-per-arcsec", &error);
+  g_assert_no_error (error);
+  dossier = efflux_dossier_load (dpath, &error);
+  g_assert_no_error (error);
+  load.no_noise = TRUE;
+  cube = efflux_cube_load (cpath, &load, NULL, NULL, NULL, &error);
+  g_assert_no_error (error);
+  nvox = cube->nx * cube->ny * cube->nchan;
+  clean = g_memdup2 (cube->data, nvox * sizeof (float));
+  for (gsize v = 0; v < nvox; v++)
+    peak = MAX (peak, clean[v]);
+  rms = NOISE_FRACTION * peak;
+  cut = g_ptr_array_index (dossier->cuts, 0);
+  ra_dec = efflux_dossier_cut_path (cut);
+  g_assert_true (efflux_cube_icrs_to_pixel (cube, dossier->ra_deg, dossier->dec_deg, &sx, &sy));
+
+  for (guint r = 0; r < N_REAL; r++)
+    {
+      g_autoptr (EffluxPv) pv = NULL;
+      g_autoptr (EffluxShellFit) fit = NULL;
+      EffluxShellfitOptions opt = { NAN, NAN, NAN };
+      double soff;
+
+      /* Gaussian noise by Box-Muller from GRand's uniform doubles */
+      for (gsize v = 0; v + 1 < nvox; v += 2)
+        {
+          double u1 = g_rand_double (rand), u2 = g_rand_double (rand);
+          double rr = sqrt (-2.0 * log (MAX (u1, 1e-300)));
+
+          cube->data[v] = clean[v] + (float) (rms * rr * cos (2.0 * G_PI * u2));
+          cube->data[v + 1] = clean[v + 1] + (float) (rms * rr * sin (2.0 * G_PI * u2));
+        }
+      pv = efflux_pv_cut (cube, ra_dec, cut->n_vertices, cut->width_arcsec, &error);
+      g_assert_no_error (error);
+      g_assert_true (efflux_kinematics_offset_on_cut (pv, sx, sy, &soff, NULL));
+      /* the cut's noise: the voxel noise over the samples averaged across it (a lower bound:
+       * neighbouring samples share voxels through the interpolation) */
+      opt.noise_k = rms / sqrt (2.0 * pv->half_width + 1.0);
+      opt.vmin_kms = 1.0;   /* the lobes' vmin-kms */
+      fit = efflux_shellfit_pv (pv, soff, dossier->vsys_kms, dossier->distance_pc, cube->bmaj_arcsec, &opt,
+                                &error);
+      g_assert_no_error (error);
+      g_assert_cmpuint (fit->n_lobes, ==, 2);
+      for (guint l = 0; l < 2; l++)
+        {
+          const EffluxShellLobeFit *lf = &fit->lobes[l];
+          double zi;
+
+          g_assert_true (lf->ok);
+          g_assert_cmpfloat (lf->inclination_err_deg, >, 0.0);
+          zi = (lf->inclination_deg - incl) / lf->inclination_err_deg;
+          t.n++;
+          t.in_i += fabs (zi) <= 1.0;
+          t.in_t += fabs (lf->age_yr - t0) <= lf->age_err_yr;
+          t.in_c += fabs (lf->c_per_arcsec - c_true) <= lf->c_err_per_arcsec;
+          t.sum_zi2 += zi * zi;
+          t.sum_c_ratio += lf->c_per_arcsec / c_true;
+          t.sum_t_ratio += lf->age_yr / t0;
+          g_test_message ("i = %g, realisation %u, lobe %u: i %.2f +- %.2f, t0 %.0f +- %.0f (truth %.0f), "
+                          "C %.3f +- %.3f (truth %.3f)", incl, r, l, lf->inclination_deg,
+                          lf->inclination_err_deg, lf->age_yr, lf->age_err_yr, t0, lf->c_per_arcsec,
+                          lf->c_err_per_arcsec, c_true);
+        }
+    }
+  g_test_message ("i = %g: %u fits; within 1 sigma: i %.1f%%, t0 %.1f%%, C %.1f%%; rms z(i) %.2f; "
+                  "mean C / truth %.3f, mean t0 / truth %.3f", incl, t.n, 100.0 * t.in_i / t.n,
+                  100.0 * t.in_t / t.n, 100.0 * t.in_c / t.n, sqrt (t.sum_zi2 / t.n), t.sum_c_ratio / t.n,
+                  t.sum_t_ratio / t.n);
+  all->n += t.n;
+  all->in_i += t.in_i;
+  all->in_t += t.in_t;
+  all->in_c += t.in_c;
+  all->sum_zi2 += t.sum_zi2;
+  all->sum_c_ratio += t.sum_c_ratio;
+  all->sum_t_ratio += t.sum_t_ratio;
+  efflux_test_remove_tree (dir);
+}
+
+static void
+test_coverage (void)
+{
+  Tally all = { 0 };
+  double cov;
+
+  run_inclination (30.0, &all);
+  run_inclination (50.0, &all);
+  run_inclination (70.0, &all);
+  cov = (double) all.in_i / all.n;
+  g_test_message ("all: %u fits; within 1 sigma: i %.1f%%, t0 %.1f%%, C %.1f%%; rms z(i) %.2f; mean C / truth "
+                  "%.3f, mean t0 / truth %.3f", all.n, 100.0 * cov, 100.0 * all.in_t / all.n,
+                  100.0 * all.in_c / all.n, sqrt (all.sum_zi2 / all.n), all.sum_c_ratio / all.n,
+                  all.sum_t_ratio / all.n);
+  /* 68.3% expected (see the top of the file) */
+  g_assert_cmpfloat (cov, >=, 0.52);
+  g_assert_cmpfloat (cov, <=, 0.84);
+}
+
+int
+main (int    argc,
+      char **argv)
+{
+  g_test_init (&argc, &argv, NULL);
+  g_test_add_func ("/shellfit/coverage", test_coverage);
+  return g_test_run ();
+}
