@@ -10,6 +10,7 @@
 #include "efflux-cube.h"
 #include "efflux-lobe.h"
 #include "efflux-maps.h"
+#include "efflux-test-util.h"
 
 #define NX 23
 #define NY 17
@@ -79,11 +80,10 @@ write_inputs (const EffluxCube     *cube,
               GString              *job)
 {
   g_autoptr (GError) error = NULL;
-  char *dir = g_dir_make_tmp ("efflux-maps-XXXXXX", &error);
+  char *dir = efflux_test_tmp_dir ("efflux-maps");
   g_autofree char *p = NULL;
   g_autofree guint8 *mask = g_new0 (guint8, NX * NY);
 
-  g_assert_no_error (error);
   p = g_build_filename (dir, "cube.f32", NULL);
   g_file_set_contents (p, (const char *) cube->data, (gssize) (NX * NY * NCHAN * sizeof (float)),
                        &error);
@@ -109,56 +109,16 @@ write_inputs (const EffluxCube     *cube,
   return dir;
 }
 
-static void
-run_python (const char *script,
-            const char *dir)
-{
-  const char *python = g_getenv ("EFFLUX_PYTHON");
-  g_autofree char *path = g_test_build_filename (G_TEST_DIST, "ref", script, NULL);
-  g_autofree char *out = NULL;
-  g_autofree char *err = NULL;
-  g_autoptr (GError) error = NULL;
-  int status = 0;
-  const char *argv[] = { python, path, dir, NULL };
-
-  /* a missing interpreter is a failure, not a skip */
-  g_assert_nonnull (python);
-  g_assert_cmpstr (python, !=, "");
-  g_spawn_sync (NULL, (char **) argv, NULL, G_SPAWN_DEFAULT, NULL, NULL, &out, &err, &status,
-                &error);
-  g_assert_no_error (error);
-  if (!g_spawn_check_wait_status (status, NULL))
-    g_error ("%s failed: %s", script, err);
-}
-
 static double *
 read_ref (const char *dir,
           const char *name,
           gsize       n)
 {
-  g_autofree char *p = g_strdup_printf ("%s/%s.f64", dir, name);
-  g_autoptr (GError) error = NULL;
-  char *data = NULL;
   gsize len = 0;
+  double *data = efflux_test_read_f64 (dir, name, &len);
 
-  g_file_get_contents (p, &data, &len, &error);
-  g_assert_no_error (error);
-  g_assert_cmpuint (len, ==, n * sizeof (double));
-  return (double *) data;
-}
-
-static void
-remove_dir (const char *dir)
-{
-  g_autoptr (GDir) d = g_dir_open (dir, 0, NULL);
-  const char *name;
-
-  while (d != NULL && (name = g_dir_read_name (d)) != NULL)
-    {
-      g_autofree char *p = g_build_filename (dir, name, NULL);
-      g_unlink (p);
-    }
-  g_rmdir (dir);
+  g_assert_cmpuint (len, ==, n);
+  return data;
 }
 
 /* Compare a map with its reference: NaN at the same pixels, and |c - r| <= 1e-5 x max(|r|, 1% of
@@ -229,7 +189,7 @@ check_against_numpy (gboolean reversed)
                                 orders[o], ranges[r].v1, ranges[r].v2, clips[c]);
   g_string_append (job, "spec-mean spectrum mean\nspec-sum spectrum sum\n");
   dir = write_inputs (cube, lobe, job);
-  run_python ("maps_ref.py", dir);
+  g_free (efflux_test_python ("maps_ref.py", (const char *[]) { dir, NULL }));
 
   cache = efflux_moment_cache_new (cube, &error);
   g_assert_no_error (error);
@@ -362,7 +322,7 @@ check_against_numpy (gboolean reversed)
   g_assert_false (efflux_spectrum_at_pixel (cube, NX, 0, spec, &error));
   g_assert_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT);
 
-  remove_dir (dir);
+  efflux_test_remove_tree (dir);
 }
 
 static void

@@ -6,6 +6,7 @@
 
 #include "efflux-mvfit.h"
 #include "efflux-sampling.h"
+#include "efflux-test-util.h"
 
 #include <glib/gstdio.h>
 #include <math.h>
@@ -13,56 +14,14 @@
 
 /* ---- running the numpy reference ---------------------------------------------------------- */
 
-/* Run tests/ref/mvfit_check.py with args; return its stdout lines as doubles (NULL and a test
- * failure when python is missing or fails). */
+/* Run tests/ref/mvfit_check.py with args; return its stdout lines as doubles (a missing python or
+ * a failing script fails the test). */
 static GArray *
 run_reference (const char * const *args)
 {
-  const char *python = g_getenv ("EFFLUX_PYTHON");
-  g_autofree char *script = g_test_build_filename (G_TEST_DIST, "ref", "mvfit_check.py", NULL);
-  g_autoptr(GPtrArray) argv = g_ptr_array_new ();
-  g_autoptr(GError) error = NULL;
-  g_autofree char *out = NULL;
-  g_autofree char *err = NULL;
-  g_auto(GStrv) lines = NULL;
-  GArray *values;
-  int status = 0;
-  guint i;
+  g_autofree char *out = efflux_test_python ("mvfit_check.py", args);
 
-  if (python == NULL || *python == '\0')
-    {
-      g_test_message ("EFFLUX_PYTHON is not set: the numpy reference cannot run "
-                      "(run through meson test, which sets it)");
-      g_test_fail ();
-      return NULL;
-    }
-  g_ptr_array_add (argv, (gpointer) python);
-  g_ptr_array_add (argv, script);
-  for (i = 0; args[i] != NULL; i++)
-    g_ptr_array_add (argv, (gpointer) args[i]);
-  g_ptr_array_add (argv, NULL);
-
-  if (!g_spawn_sync (NULL, (char **) argv->pdata, NULL, G_SPAWN_DEFAULT, NULL, NULL, &out, &err,
-                     &status, &error)
-      || !g_spawn_check_wait_status (status, &error))
-    {
-      g_test_message ("%s failed: %s\n%s", script, error->message, err != NULL ? err : "");
-      g_test_fail ();
-      return NULL;
-    }
-
-  values = g_array_new (FALSE, FALSE, sizeof (double));
-  lines = g_strsplit (out, "\n", -1);
-  for (i = 0; lines[i] != NULL; i++)
-    {
-      double v;
-
-      if (*lines[i] == '\0')
-        continue;
-      v = g_ascii_strtod (lines[i], NULL);
-      g_array_append_val (values, v);
-    }
-  return values;
+  return efflux_test_parse_numbers (out);
 }
 
 static char *
@@ -92,14 +51,6 @@ write_columns (const char   *dir,
   g_file_set_contents (path, s->str, -1, &error);
   g_assert_no_error (error);
   return path;
-}
-
-static void
-assert_close (double got,
-              double ref,
-              double rel)
-{
-  g_assert_cmpfloat_with_epsilon (got, ref, rel * MAX (fabs (ref), 1e-300));
 }
 
 /* ---- single power law ------------------------------------------------------------------------ */
@@ -136,14 +87,14 @@ test_single_exact (void)
    * without errors, with negative velocities (|v| is used) and with skipped channels. */
   power_spectrum (v, m, e, 30, 1.5, 0.5, 2.0e-3, 1.8, 0.1);
   g_assert_true (efflux_mvfit_single (v, m, e, 30, &fit));
-  assert_close (fit.gamma, 1.8, 1e-6);
-  assert_close (fit.log10_a, log10 (2.0e-3), 1e-6);
+  efflux_test_assert_rel (fit.gamma, 1.8, 1e-6);
+  efflux_test_assert_rel (fit.log10_a, log10 (2.0e-3), 1e-6);
   g_assert_cmpuint (fit.n_used, ==, 30);
   g_assert_cmpint (fit.dof, ==, 28);
   g_assert_false (fit.errors_scaled);
   g_assert_cmpfloat (fit.chi2, <, 1e-18);
   g_assert_cmpfloat (fit.gamma_err, >, 0.0);
-  assert_close (efflux_mvfit_single_eval (&fit, 7.0), 2.0e-3 * pow (7.0, -1.8), 1e-6);
+  efflux_test_assert_rel (efflux_mvfit_single_eval (&fit, 7.0), 2.0e-3 * pow (7.0, -1.8), 1e-6);
 
   power_spectrum (v, m, NULL, 30, 2.0, 1.0, 5.0e-2, 6.5, 0.0);
   for (guint i = 0; i < 30; i++)
@@ -152,7 +103,7 @@ test_single_exact (void)
   m[4] = -1e-5;   /* skipped */
   m[5] = NAN;     /* skipped */
   g_assert_true (efflux_mvfit_single (v, m, NULL, 30, &fit));
-  assert_close (fit.gamma, 6.5, 1e-6);
+  efflux_test_assert_rel (fit.gamma, 6.5, 1e-6);
   g_assert_cmpuint (fit.n_used, ==, 27);
   g_assert_true (fit.errors_scaled);
   g_assert_cmpfloat (fit.gamma_err, <, 1e-8);
@@ -200,7 +151,7 @@ test_single_noisy (void)
 static void
 test_against_numpy_polyfit (void)
 {
-  g_autofree char *dir = g_dir_make_tmp ("efflux-mvfit-XXXXXX", NULL);
+  g_autofree char *dir = efflux_test_tmp_dir ("efflux-mvfit");
   g_autoptr(EffluxRng) rng = efflux_rng_new (7);
   double v[18], m[18], e[18], x[18], y[18], sy[18];
   EffluxPowerLawFit fit;
@@ -227,11 +178,11 @@ test_against_numpy_polyfit (void)
       {
         g_assert_cmpuint (ref->len, ==, 6);
         /* numpy: y = c0 + c1 x with c1 = -gamma */
-        assert_close (fit.log10_a, g_array_index (ref, double, 0), 1e-10);
-        assert_close (fit.gamma, -g_array_index (ref, double, 1), 1e-10);
-        assert_close (fit.log10_a_err, sqrt (g_array_index (ref, double, 2)), 1e-9);
-        assert_close (fit.cov_log10a_gamma, -g_array_index (ref, double, 3), 1e-9);
-        assert_close (fit.gamma_err, sqrt (g_array_index (ref, double, 5)), 1e-9);
+        efflux_test_assert_rel (fit.log10_a, g_array_index (ref, double, 0), 1e-10);
+        efflux_test_assert_rel (fit.gamma, -g_array_index (ref, double, 1), 1e-10);
+        efflux_test_assert_rel (fit.log10_a_err, sqrt (g_array_index (ref, double, 2)), 1e-9);
+        efflux_test_assert_rel (fit.cov_log10a_gamma, -g_array_index (ref, double, 3), 1e-9);
+        efflux_test_assert_rel (fit.gamma_err, sqrt (g_array_index (ref, double, 5)), 1e-9);
       }
     g_unlink (path);
   }
@@ -259,9 +210,9 @@ test_against_numpy_polyfit (void)
       {
         g_assert_cmpuint (ref->len, ==, 12);
         for (i = 0; i < 3; i++)
-          assert_close (coef[i], g_array_index (ref, double, i), 1e-10);
+          efflux_test_assert_rel (coef[i], g_array_index (ref, double, i), 1e-10);
         for (i = 0; i < 9; i++)
-          assert_close (cov[i], g_array_index (ref, double, 3 + i), 1e-9);
+          efflux_test_assert_rel (cov[i], g_array_index (ref, double, 3 + i), 1e-9);
       }
     g_unlink (path);
   }
@@ -302,13 +253,13 @@ test_broken_exact (void)
   g_assert_true (efflux_mvfit_broken (v, m, e, 40, &fit));
   g_test_message ("exact: vb %.9g gamma1 %.9g gamma2 %.9g chi2 %.3g", fit.vb_kms, fit.gamma1,
                   fit.gamma2, fit.chi2);
-  assert_close (fit.vb_kms, 12.3, 1e-6);
-  assert_close (fit.gamma1, 1.8, 1e-6);
-  assert_close (fit.gamma2, 4.5, 1e-6);
-  assert_close (fit.log10_ab, log10 (4.0e-4), 1e-6);
+  efflux_test_assert_rel (fit.vb_kms, 12.3, 1e-6);
+  efflux_test_assert_rel (fit.gamma1, 1.8, 1e-6);
+  efflux_test_assert_rel (fit.gamma2, 4.5, 1e-6);
+  efflux_test_assert_rel (fit.log10_ab, log10 (4.0e-4), 1e-6);
   g_assert_cmpint (fit.dof, ==, 36);
-  assert_close (efflux_mvfit_broken_eval (&fit, 30.0), 4.0e-4 * pow (30.0 / 12.3, -4.5), 1e-5);
-  assert_close (efflux_mvfit_broken_eval (&fit, 3.0), 4.0e-4 * pow (3.0 / 12.3, -1.8), 1e-5);
+  efflux_test_assert_rel (efflux_mvfit_broken_eval (&fit, 30.0), 4.0e-4 * pow (30.0 / 12.3, -4.5), 1e-5);
+  efflux_test_assert_rel (efflux_mvfit_broken_eval (&fit, 3.0), 4.0e-4 * pow (3.0 / 12.3, -1.8), 1e-5);
   g_assert_true (fit.vb_bounded);
   g_assert_cmpfloat (fit.vb_lo, <, 12.3);
   g_assert_cmpfloat (fit.vb_hi, >, 12.3);
@@ -401,7 +352,7 @@ test_hidden_mass (void)
   fit.cov_log10a_gamma = -0.003;
 
   g_assert_true (efflux_mvfit_hidden_mass (&fit, lo, hi, &h));
-  assert_close (h.mass_msun, exact, 1e-12);
+  efflux_test_assert_rel (h.mass_msun, exact, 1e-12);
   g_assert_cmpfloat (h.v_lo_kms, ==, lo);
   g_assert_cmpfloat (h.v_hi_kms, ==, hi);
   /* error: analytic derivatives of M = A (hi^(1-g) - lo^(1-g)) / (1-g):
@@ -413,16 +364,16 @@ test_hidden_mass (void)
                        + (pow (hi, s) - pow (lo, s)) / (s * s));
     double var = dmda * dmda * 0.05 * 0.05 + dmdg * dmdg * 0.01 + 2.0 * dmda * dmdg * -0.003;
 
-    assert_close (h.mass_err_msun, sqrt (var), 1e-6);
+    efflux_test_assert_rel (h.mass_err_msun, sqrt (var), 1e-6);
   }
 
   /* gamma = 1: A ln(hi/lo) */
   fit.gamma = 1.0;
   g_assert_true (efflux_mvfit_hidden_mass (&fit, lo, hi, &h));
-  assert_close (h.mass_msun, a * log (hi / lo), 1e-14);
+  efflux_test_assert_rel (h.mass_msun, a * log (hi / lo), 1e-14);
   fit.gamma = 1.0 + 1e-12;
   g_assert_true (efflux_mvfit_hidden_mass (&fit, lo, hi, &h));
-  assert_close (h.mass_msun, a * log (hi / lo), 1e-9);
+  efflux_test_assert_rel (h.mass_msun, a * log (hi / lo), 1e-9);
 
   /* refused ranges */
   g_assert_false (efflux_mvfit_hidden_mass (&fit, 0.0, hi, &h));
@@ -438,7 +389,7 @@ test_hidden_mass (void)
     power_spectrum (v, m, e, 20, 2.5, 1.0, 1.0e-3, 1.7, 0.05);
     g_assert_true (efflux_mvfit_single (v, m, e, 20, &f2));
     g_assert_true (efflux_mvfit_hidden_mass (&f2, 0.5, 2.0, &h));
-    assert_close (h.mass_msun, 1.0e-3 * (pow (2.0, -0.7) - pow (0.5, -0.7)) / -0.7, 1e-6);
+    efflux_test_assert_rel (h.mass_msun, 1.0e-3 * (pow (2.0, -0.7) - pow (0.5, -0.7)) / -0.7, 1e-6);
     g_assert_cmpfloat (h.mass_err_msun, >, 0.0);
   }
 }
@@ -533,7 +484,7 @@ test_rng_distributions (void)
 static void
 test_percentiles (void)
 {
-  g_autofree char *dir = g_dir_make_tmp ("efflux-pct-XXXXXX", NULL);
+  g_autofree char *dir = efflux_test_tmp_dir ("efflux-pct");
   g_autoptr(EffluxRng) rng = efflux_rng_new (2024);
   double x[37], with_nan[39];
   g_autofree char *path = NULL;
@@ -572,15 +523,15 @@ test_percentiles (void)
       g_assert_cmpuint (ref->len, ==, G_N_ELEMENTS (qs));
       for (i = 0; i < G_N_ELEMENTS (qs); i++)
         {
-          assert_close (efflux_percentile (x, 37, qs[i]), g_array_index (ref, double, i), 1e-14);
+          efflux_test_assert_rel (efflux_percentile (x, 37, qs[i]), g_array_index (ref, double, i), 1e-14);
           /* NaN and infinities are skipped */
-          assert_close (efflux_percentile (with_nan, 39, qs[i]), g_array_index (ref, double, i),
-                        1e-14);
+          efflux_test_assert_rel (efflux_percentile (with_nan, 39, qs[i]), g_array_index (ref, double, i),
+                                  1e-14);
         }
       g_assert_cmpuint (efflux_spread (with_nan, 39, &spread), ==, 37);
-      assert_close (spread.p16, g_array_index (ref, double, 1), 1e-14);
-      assert_close (spread.p50, g_array_index (ref, double, 2), 1e-14);
-      assert_close (spread.p84, g_array_index (ref, double, 3), 1e-14);
+      efflux_test_assert_rel (spread.p16, g_array_index (ref, double, 1), 1e-14);
+      efflux_test_assert_rel (spread.p50, g_array_index (ref, double, 2), 1e-14);
+      efflux_test_assert_rel (spread.p84, g_array_index (ref, double, 3), 1e-14);
     }
   g_unlink (path);
   g_rmdir (dir);

@@ -14,6 +14,7 @@
 #include "efflux-fitsout.h"
 #include "efflux-maps.h"
 #include "efflux-pv.h"
+#include "efflux-test-util.h"
 
 #define NX 40
 #define NY 30
@@ -50,74 +51,13 @@ static const Path paths[] = {
   { "steep", 0.9, 3, { 20.0, 21.0, 21.0 }, { 1.0, 28.5, 28.5 } }, /* repeated last vertex */
 };
 
-static char *
-make_dir (void)
-{
-  g_autoptr (GError) error = NULL;
-  char *dir = g_dir_make_tmp ("efflux-pv-XXXXXX", &error);
-
-  g_assert_no_error (error);
-  return dir;
-}
-
-static void
-remove_dir (const char *dir)
-{
-  g_autoptr (GDir) d = g_dir_open (dir, 0, NULL);
-  const char *name;
-
-  while (d != NULL && (name = g_dir_read_name (d)) != NULL)
-    {
-      g_autofree char *p = g_build_filename (dir, name, NULL);
-      g_unlink (p);
-    }
-  g_rmdir (dir);
-}
-
-static void
-run_python (const char *script,
-            const char *dir)
-{
-  const char *python = g_getenv ("EFFLUX_PYTHON");
-  g_autofree char *path = g_test_build_filename (G_TEST_DIST, "ref", script, NULL);
-  g_autofree char *err = NULL;
-  g_autoptr (GError) error = NULL;
-  int status = 0;
-  const char *argv[] = { python, path, dir, NULL };
-
-  /* a missing interpreter is a failure, not a skip */
-  g_assert_nonnull (python);
-  g_assert_cmpstr (python, !=, "");
-  g_spawn_sync (NULL, (char **) argv, NULL, G_SPAWN_DEFAULT, NULL, NULL, NULL, &err, &status,
-                &error);
-  g_assert_no_error (error);
-  if (!g_spawn_check_wait_status (status, NULL))
-    g_error ("%s failed: %s", script, err);
-}
-
-static double *
-read_doubles (const char *dir,
-              const char *name,
-              gsize      *n)
-{
-  g_autofree char *p = g_strdup_printf ("%s/%s.f64", dir, name);
-  g_autoptr (GError) error = NULL;
-  char *data = NULL;
-  gsize len = 0;
-
-  g_file_get_contents (p, &data, &len, &error);
-  g_assert_no_error (error);
-  *n = len / sizeof (double);
-  return (double *) data;
-}
-
 static void
 test_against_scipy (void)
 {
   g_autoptr (EffluxCube) cube = make_cube ();
   g_autoptr (GError) error = NULL;
   g_autoptr (GString) job = g_string_new (NULL);
-  g_autofree char *dir = make_dir ();
+  g_autofree char *dir = efflux_test_tmp_dir ("efflux-pv");
   g_autofree char *p = g_build_filename (dir, "cube.f32", NULL);
 
   g_file_set_contents (p, (const char *) cube->data, NX * NY * NCHAN * sizeof (float), &error);
@@ -134,7 +74,7 @@ test_against_scipy (void)
   p = g_build_filename (dir, "job.txt", NULL);
   g_file_set_contents (p, job->str, -1, &error);
   g_assert_no_error (error);
-  run_python ("pv_ref.py", dir);
+  g_free (efflux_test_python ("pv_ref.py", (const char *[]) { dir, NULL }));
 
   for (guint i = 0; i < G_N_ELEMENTS (paths); i++)
     {
@@ -147,8 +87,8 @@ test_against_scipy (void)
       double worst = 0.0;
 
       g_assert_no_error (error);
-      ref = read_doubles (dir, paths[i].name, &nref);
-      pos = read_doubles (dir, posname, &npos);
+      ref = efflux_test_read_f64 (dir, paths[i].name, &nref);
+      pos = efflux_test_read_f64 (dir, posname, &npos);
       g_assert_cmpuint (npos, ==, 2 * pv->n_offsets);
       g_assert_cmpuint (nref, ==, NCHAN * pv->n_offsets);
       g_assert_cmpuint (pv->nchan, ==, NCHAN);
@@ -195,7 +135,7 @@ test_against_scipy (void)
     g_assert_cmpfloat_with_epsilon (hypot (b->x[20] - 20.3, b->y[20] - 12.2),
                                     20.0 - hypot (14.8, -12.9), 1e-9);
   }
-  remove_dir (dir);
+  efflux_test_remove_tree (dir);
 }
 
 static void
@@ -230,7 +170,7 @@ test_fits_axes (void)
   g_autoptr (EffluxPv) pv = NULL;
   g_autoptr (EffluxPv) pvp = NULL;
   g_autoptr (GError) error = NULL;
-  g_autofree char *dir = make_dir ();
+  g_autofree char *dir = efflux_test_tmp_dir ("efflux-pv");
   g_autofree char *out = g_build_filename (dir, "cut.fits", NULL);
   g_autofree float *back = NULL;
   const Path *path = &paths[2];
@@ -299,7 +239,7 @@ test_fits_axes (void)
   g_assert_cmpmem (back, pv->n_offsets * NCHAN * sizeof (float), pv->data,
                    pv->n_offsets * NCHAN * sizeof (float));
   fits_close_file (f, &status);
-  remove_dir (dir);
+  efflux_test_remove_tree (dir);
 }
 
 /* f is linear in the tangent-plane offsets (arcsec) and in velocity, so bilinear sampling and
@@ -425,21 +365,10 @@ static int
 run_cli (char      **argv_tail,
          char      **err_out)
 {
-  const char *cli = g_getenv ("EFFLUX_CLI");
-  g_autoptr (GPtrArray) argv = g_ptr_array_new ();
-  g_autoptr (GError) error = NULL;
-  int status = 0;
+  int status = efflux_test_run_cli ((const char * const *) argv_tail, NULL, err_out);
 
-  g_assert_nonnull (cli);
-  g_ptr_array_add (argv, (char *) cli);
-  for (char **a = argv_tail; *a != NULL; a++)
-    g_ptr_array_add (argv, *a);
-  g_ptr_array_add (argv, NULL);
-  g_spawn_sync (NULL, (char **) argv->pdata, NULL, G_SPAWN_STDOUT_TO_DEV_NULL, NULL, NULL, NULL,
-                err_out, &status, &error);
-  g_assert_no_error (error);
-  g_assert_true (WIFEXITED (status));
-  return WEXITSTATUS (status);
+  g_assert_cmpint (status, >=, 0);
+  return status;
 }
 
 static void
@@ -447,7 +376,7 @@ test_commands (void)
 {
   g_autoptr (EffluxCube) cube = make_cube ();
   g_autoptr (GError) error = NULL;
-  g_autofree char *dir = make_dir ();
+  g_autofree char *dir = efflux_test_tmp_dir ("efflux-pv");
   g_autofree char *cube_path = g_build_filename (dir, "cube.fits", NULL);
   g_autofree char *mom_path = g_build_filename (dir, "mom0.fits", NULL);
   g_autofree char *pv_path = g_build_filename (dir, "pv.fits", NULL);
@@ -579,7 +508,8 @@ test_commands (void)
     char *argv[] = { "pv", cube_path, "--path", "83.8,-5.39", "-o", pv_path, NULL };
     g_autofree char *err = NULL;
 
-    g_assert_cmpint (run_cli (argv, &err), ==, 1);
+    /* a malformed option value is wrong usage (issue 7) */
+    g_assert_cmpint (run_cli (argv, &err), ==, 2);
     g_assert_nonnull (strstr (err, "--path"));
   }
   {
@@ -588,7 +518,7 @@ test_commands (void)
 
     g_assert_cmpint (run_cli (argv, &err), ==, 2);
   }
-  remove_dir (dir);
+  efflux_test_remove_tree (dir);
 }
 
 int

@@ -7,6 +7,7 @@
 #include <glib.h>
 
 #include "efflux-constants.h"
+#include "efflux-test-util.h"
 
 #include <math.h>
 #include <string.h>
@@ -15,53 +16,9 @@
 static GHashTable *
 astropy_values (const char * const *names)
 {
-  const char *python = g_getenv ("EFFLUX_PYTHON");
-  g_autofree char *script = g_test_build_filename (G_TEST_DIST, "ref", "units_check.py", NULL);
-  g_autoptr(GPtrArray) argv = g_ptr_array_new ();
-  g_autoptr(GError) error = NULL;
-  g_autofree char *out = NULL;
-  g_autofree char *err = NULL;
-  g_auto(GStrv) lines = NULL;
-  GHashTable *values;
-  int status = 0;
-  guint i;
+  g_autofree char *out = efflux_test_python ("units_check.py", names);
 
-  if (python == NULL || *python == '\0')
-    {
-      g_test_message ("EFFLUX_PYTHON is not set: astropy cannot be run (run through meson test)");
-      g_test_fail ();
-      return NULL;
-    }
-  g_ptr_array_add (argv, (gpointer) python);
-  g_ptr_array_add (argv, script);
-  for (i = 0; names[i] != NULL; i++)
-    g_ptr_array_add (argv, (gpointer) names[i]);
-  g_ptr_array_add (argv, NULL);
-
-  if (!g_spawn_sync (NULL, (char **) argv->pdata, NULL, G_SPAWN_DEFAULT, NULL, NULL, &out, &err,
-                     &status, &error)
-      || !g_spawn_check_wait_status (status, &error))
-    {
-      g_test_message ("%s failed: %s\n%s", script, error->message, err != NULL ? err : "");
-      g_test_fail ();
-      return NULL;
-    }
-
-  values = g_hash_table_new_full (g_str_hash, g_str_equal, g_free, g_free);
-  lines = g_strsplit (out, "\n", -1);
-  for (i = 0; lines[i] != NULL; i++)
-    {
-      char *space = strchr (lines[i], ' ');
-      double *v;
-
-      if (space == NULL)
-        continue;
-      *space = '\0';
-      v = g_new (double, 1);
-      *v = g_ascii_strtod (space + 1, NULL);
-      g_hash_table_insert (values, g_strdup (lines[i]), v);
-    }
-  return values;
+  return efflux_test_parse_named (out);
 }
 
 static void
