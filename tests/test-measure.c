@@ -782,9 +782,11 @@ star_step (Star  *s,
     }
 }
 
+/* skip_broken: the broken power-law columns must be NaN in got (EFFLUX_MEASURE_FINISH_NO_BROKEN_FIT) */
 static void
 assert_same_result (const EffluxMeasureResult *got,
                     const EffluxMeasureResult *want,
+                    gboolean                   skip_broken,
                     const char                *what)
 {
   const char * const *cols = efflux_measure_columns ();
@@ -797,6 +799,12 @@ assert_same_result (const EffluxMeasureResult *got,
         double a = efflux_measure_value (g_ptr_array_index (got->rows, r), c, &is_text);
         double b = efflux_measure_value (g_ptr_array_index (want->rows, r), c, &is_text);
 
+        if (skip_broken && (strcmp (cols[c], "mv_break_kms") == 0 || strcmp (cols[c], "mv_gamma_low") == 0
+                            || strcmp (cols[c], "mv_gamma_high") == 0))
+          {
+            g_assert_true (isnan (a));
+            continue;
+          }
         if (is_text || (isnan (a) && isnan (b)) || a == b)
           continue;
         if (!(fabs (a - b) <= 1e-9 * MAX (fabs (a), fabs (b))))
@@ -876,6 +884,7 @@ incremental_case (guint64     seed,
   for (int step = 0; step < 40; step++)
     {
       g_autoptr (EffluxMeasureResult) got = NULL;
+      g_autoptr (EffluxMeasureResult) quick = NULL;
       g_autoptr (EffluxMeasureResult) want = NULL;
       g_autofree char *what = g_strdup_printf ("seed %" G_GUINT64_FORMAT " step %d", seed, step);
       int choice = g_rand_int_range (rand, 0, 5);
@@ -899,7 +908,10 @@ incremental_case (guint64     seed,
       g_assert_no_error (error);
       want = efflux_measure_dossier (d, NULL, &error);
       g_assert_no_error (error);
-      assert_same_result (got, want, what);
+      assert_same_result (got, want, FALSE, what);
+      quick = efflux_measure_finish_flags (prep, d, EFFLUX_MEASURE_FINISH_NO_BROKEN_FIT, &error);
+      g_assert_no_error (error);
+      assert_same_result (quick, want, TRUE, what);
     }
   /* most outline changes went by difference */
   g_assert_cmpuint (efflux_measure_prep_n_incremental (prep) - before, >=, 10);

@@ -595,6 +595,8 @@ prepare_lobe_end (LobeWork *w)
     }
 }
 
+static void build_order (LobeWork *w);
+
 static gboolean
 prepare_lobe (const EffluxDossier      *d,
               const EffluxDossierLobe  *dl,
@@ -618,7 +620,9 @@ prepare_lobe (const EffluxDossier      *d,
   if (!prepare_lobe_pass (w, cancellable, error))
     return FALSE;
   prepare_lobe_end (w);
-  /* kept for outline changes; the dossier's cube records are not */
+  /* kept for outline changes (the order now, so that the first change of a drag is not slower);
+   * the dossier's cube records are not */
+  build_order (w);
   w->dc = NULL;
   w->ic = NULL;
   pl->work = g_steal_pointer (&w);
@@ -1288,6 +1292,7 @@ static EffluxMassSpectrum *
 lobe_spectrum (const EffluxDossier *d,
                const FinLobe       *fl,
                const Draw          *w,
+               gboolean             broken_fit,
                EffluxMeasureRow    *row)
 {
   const PrepLobe *pl = fl->pl;
@@ -1355,7 +1360,7 @@ lobe_spectrum (const EffluxDossier *d,
             row->hidden_mass_err = hidden.mass_err_msun;
           }
       }
-    if (efflux_mvfit_broken (s->v_offset_kms, sig, have_err ? s->dmdv_err : NULL, n, &broken))
+    if (broken_fit && efflux_mvfit_broken (s->v_offset_kms, sig, have_err ? s->dmdv_err : NULL, n, &broken))
       {
         row->mv_break_kms = broken.vb_kms;
         row->mv_gamma_low = broken.gamma1;
@@ -1421,6 +1426,15 @@ EffluxMeasureResult *
 efflux_measure_finish (EffluxMeasurePrep    *prep,
                        const EffluxDossier  *d,
                        GError              **error)
+{
+  return efflux_measure_finish_flags (prep, d, EFFLUX_MEASURE_FINISH_ALL, error);
+}
+
+EffluxMeasureResult *
+efflux_measure_finish_flags (EffluxMeasurePrep        *prep,
+                             const EffluxDossier      *d,
+                             EffluxMeasureFinishFlags  flags,
+                             GError                  **error)
 {
   g_autoptr (EffluxMeasureResult) res = g_new0 (EffluxMeasureResult, 1);
   guint nl = d->lobes->len;
@@ -1544,7 +1558,8 @@ efflux_measure_finish (EffluxMeasurePrep    *prep,
       row->inclination_deg = w0.has_inclination ? w0.incl_rad * 180.0 / G_PI : NAN;
       row->pm_kms = row->momentum_msun_kms / row->mass_msun;
       row->age_pm_yr = row->rmax_au * EFFLUX_AU / (row->pm_kms * EFFLUX_KM) / EFFLUX_YR;
-      g_ptr_array_add (res->spectra, lobe_spectrum (d, &fl[i], &w0, row));
+      g_ptr_array_add (res->spectra, lobe_spectrum (d, &fl[i], &w0, !(flags & EFFLUX_MEASURE_FINISH_NO_BROKEN_FIT),
+                                                    row));
       g_ptr_array_add (res->rows, row);
 
       total->voxels += row->voxels;

@@ -160,6 +160,21 @@ EffluxMeasureResult *efflux_measure_finish  (EffluxMeasurePrep    *prep,
                                              GError              **error);
 void                 efflux_measure_result_free (EffluxMeasureResult *result);
 
+/* What finish may leave out. NO_BROKEN_FIT: no broken power-law fit of the mass-velocity
+ * spectrum (mv_break_kms, mv_gamma_low, mv_gamma_high stay NaN): it is most of finish's time
+ * (a profile over 400 breaks), and the desktop program's ledger, which does not show it, leaves it
+ * out while an outline or a range is dragged and finishes completely when the drag rests. */
+typedef enum
+{
+  EFFLUX_MEASURE_FINISH_ALL = 0,
+  EFFLUX_MEASURE_FINISH_NO_BROKEN_FIT = 1 << 0
+} EffluxMeasureFinishFlags;
+
+EffluxMeasureResult *efflux_measure_finish_flags (EffluxMeasurePrep        *prep,
+                                                  const EffluxDossier      *dossier,
+                                                  EffluxMeasureFinishFlags  flags,
+                                                  GError                  **error);
+
 /* Load every cube the dossier's lobes need (id -> EffluxCube *, owning). */
 GHashTable          *efflux_measure_load_cubes (const EffluxDossier *dossier,
                                                 GCancellable        *cancellable,
