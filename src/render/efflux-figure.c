@@ -127,31 +127,75 @@ cube_needed (const EffluxDossier     *d,
   return FALSE;
 }
 
+/* Progress of one cube's reading as a share of all the cubes read. */
+typedef struct
+{
+  EffluxProgressFunc progress;
+  gpointer           data;
+  guint              done, total;
+} LoadProgress;
+
+static void
+load_progress (double   fraction,
+               gpointer user_data)
+{
+  LoadProgress *lp = user_data;
+
+  lp->progress ((lp->done + CLAMP (fraction, 0.0, 1.0)) / MAX (lp->total, 1), lp->data);
+}
+
+/* Whether the figure reads the cube dc, after n_read others. */
+static gboolean
+cube_read (const EffluxDossier     *dossier,
+           const EffluxDossierCube *dc,
+           guint                    n_read)
+{
+  /* With no lobe and no cut, the first tracer is the sky map's cube. */
+  return cube_needed (dossier, dc)
+         || (n_read == 0 && dossier->lobes->len == 0 && dossier->cuts->len == 0
+             && dc->role == EFFLUX_CUBE_ROLE_TRACER);
+}
+
 EffluxFigure *
 efflux_figure_new (const EffluxDossier  *dossier,
                    GError              **error)
 {
+  return efflux_figure_new_full (dossier, NULL, NULL, NULL, error);
+}
+
+EffluxFigure *
+efflux_figure_new_full (const EffluxDossier  *dossier,
+                        GCancellable         *cancellable,
+                        EffluxProgressFunc    progress,
+                        gpointer              progress_data,
+                        GError              **error)
+{
   g_autoptr (GHashTable) cubes = g_hash_table_new_full (g_str_hash, g_str_equal, g_free,
                                                         (GDestroyNotify) efflux_cube_free);
+  LoadProgress lp = { progress, progress_data, 0, 0 };
   EffluxFigure *figure;
 
   g_return_val_if_fail (dossier != NULL, NULL);
+  for (guint i = 0, n = 0; i < dossier->cubes->len; i++)
+    if (cube_read (dossier, g_ptr_array_index (dossier->cubes, i), n))
+      n = ++lp.total;
   for (guint i = 0; i < dossier->cubes->len; i++)
     {
       const EffluxDossierCube *dc = g_ptr_array_index (dossier->cubes, i);
       EffluxCubeLoadOptions options = { 0 };
       EffluxCube *cube;
 
-      /* With no lobe and no cut, the first tracer is the sky map's cube. */
-      if (!cube_needed (dossier, dc)
-          && !(g_hash_table_size (cubes) == 0 && dossier->lobes->len == 0
-               && dossier->cuts->len == 0 && dc->role == EFFLUX_CUBE_ROLE_TRACER))
+      if (!cube_read (dossier, dc, g_hash_table_size (cubes)))
         continue;
       options.no_noise = isfinite (dc->rms_k);
-      cube = efflux_cube_load (dc->abs_path, &options, NULL, NULL, NULL, error);
+      cube = efflux_cube_load (dc->abs_path, &options, cancellable,
+                               progress != NULL ? load_progress : NULL, &lp, error);
       if (cube == NULL)
         return NULL;
       g_hash_table_insert (cubes, g_strdup (dc->id), cube);
+      lp.done++;
+      if (progress != NULL)
+        progress ((double) lp.done / lp.total, progress_data);
     }
   if (g_hash_table_size (cubes) == 0)
     {
@@ -1764,10 +1808,17 @@ draw_channels (EffluxFigure              *figure,
   g_autofree gsize *chans = NULL;
   g_autofree float *planes = NULL;
   g_autofree char *cap_markup = NULL;
+  gboolean given_range = isfinite (o->channel_v1_kms) && isfinite (o->channel_v2_kms)
+                         && o->channel_v1_kms < o->channel_v2_kms;
 
   if (cube == NULL)
     return -1;
-  for (guint i = 0; i < d->lobes->len; i++)
+  if (given_range)
+    {
+      vlo = o->channel_v1_kms;
+      vhi = o->channel_v2_kms;
+    }
+  for (guint i = 0; i < d->lobes->len && !given_range; i++)
     {
       const EffluxDossierLobe *lobe = g_ptr_array_index (d->lobes, i);
 
@@ -1793,7 +1844,7 @@ draw_channels (EffluxFigure              *figure,
     g_autoptr (GArray) cand = g_array_new (FALSE, FALSE, sizeof (gsize));
     gboolean any_lobe = FALSE;
 
-    for (guint i = 0; i < d->lobes->len; i++)
+    for (guint i = 0; i < d->lobes->len && !given_range; i++)
       {
         const EffluxDossierLobe *lobe = g_ptr_array_index (d->lobes, i);
 
@@ -1846,12 +1897,20 @@ draw_channels (EffluxFigure              *figure,
       return -1;
     }
   g_string_truncate (figure->caption, 0);
-  g_string_append_printf (figure->caption,
-                          "%s, %s: %u channel maps from %.2f to %.2f km/s (channel width %.3g km/s) within "
-                          "the lobes' velocity ranges, brightness in K on one colour scale; the channel-centre velocity in each panel. "
-                          "Dashed outlines: lobes; cross: source; ellipse: beam.",
-                          d->name != NULL ? d->name : "", cube_id, n_panels, cube->velocity[chans[0]],
-                          cube->velocity[chans[n_panels - 1]], fabs (cube->dv));
+  if (given_range)
+    g_string_append_printf (figure->caption,
+                            "%s, %s: %u channel maps from %.2f to %.2f km/s (channel width %.3g km/s) within "
+                            "the chosen range %.2f to %.2f km/s, brightness in K on one colour scale; the channel-centre velocity in each panel. "
+                            "Dashed outlines: lobes; cross: source; ellipse: beam.",
+                            d->name != NULL ? d->name : "", cube_id, n_panels, cube->velocity[chans[0]],
+                            cube->velocity[chans[n_panels - 1]], fabs (cube->dv), vlo, vhi);
+  else
+    g_string_append_printf (figure->caption,
+                            "%s, %s: %u channel maps from %.2f to %.2f km/s (channel width %.3g km/s) within "
+                            "the lobes' velocity ranges, brightness in K on one colour scale; the channel-centre velocity in each panel. "
+                            "Dashed outlines: lobes; cross: source; ellipse: beam.",
+                            d->name != NULL ? d->name : "", cube_id, n_panels, cube->velocity[chans[0]],
+                            cube->velocity[chans[n_panels - 1]], fabs (cube->dv));
   cap_markup = escape (figure->caption->str);
   cap_h = paragraph (cr, 0, 0, width, SMALL_PT, cap_markup, FALSE);
 

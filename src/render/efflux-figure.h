@@ -67,6 +67,11 @@ typedef struct
   EffluxStretchKind   stretch;
   EffluxSkyGridStyle  coords;
   double              limits_percent;  /* colour limits keep this percent of the values (99.5) */
+  /* Added for the program's figure dialog: channels spread over every channel from
+   * channel_v1_kms to channel_v2_kms (lobes or not) when channel_v1_kms < channel_v2_kms;
+   * 0 and 0 (the default): over the lobes' velocity ranges. */
+  double              channel_v1_kms;
+  double              channel_v2_kms;
 } EffluxFigureOptions;
 
 /* Defaults: sky, 120 mm wide, height from the layout, 300 dpi, 3 x 3 channels, cubehelix, linear,
@@ -88,6 +93,14 @@ typedef struct _EffluxFigure EffluxFigure;
 EffluxFigure *efflux_figure_new  (const EffluxDossier  *dossier,
                                   GError              **error);
 void          efflux_figure_free (EffluxFigure *figure);
+/* As efflux_figure_new, for a worker thread: reading the cubes stops with EFFLUX_ERROR_CANCELLED
+ * when cancellable is cancelled, and progress (may be NULL; called on the caller's thread) gets
+ * the fraction of the cubes read so far. */
+EffluxFigure *efflux_figure_new_full (const EffluxDossier  *dossier,
+                                      GCancellable         *cancellable,
+                                      EffluxProgressFunc    progress,
+                                      gpointer              progress_data,
+                                      GError              **error);
 
 /* Draw one view at the current origin of cr, width_pt wide; height_pt 0 lets the layout choose.
  * Returns the height used (points), or a negative number with an error (an unknown cut or lobe,
