@@ -5,7 +5,9 @@
 #include "efflux-constants.h"
 #include "efflux-io.h"
 
+#include <glib/gstdio.h>
 #include <math.h>
+#include <stdlib.h>
 #include <string.h>
 
 #define GROUP_SOURCE      "Source"
@@ -959,4 +961,235 @@ efflux_dossier_cut_path (const EffluxDossierCut *cut)
       ra_dec[2 * i + 1] = cut->dec_deg[i];
     }
   return ra_dec;
+}
+
+/* ---------------------------------------------------------------------------------------------- */
+/* Save As: the dossier at a new place, its file paths still naming the same files                 */
+
+/* An absolute, lexically clean form of path (relative paths against the working directory). */
+static char *
+absolute_path (const char *path)
+{
+  return g_canonicalize_filename (path, NULL);
+}
+
+/* The physical form of an absolute path: the deepest existing ancestor resolved through its
+ * symbolic links (realpath), the rest appended as written. */
+static char *
+physical_path (const char *abs)
+{
+  g_autofree char *head = g_strdup (abs);
+  g_autoptr (GString) tail = g_string_new (NULL);
+
+  for (;;)
+    {
+      g_autofree char *real = realpath (head, NULL);
+      g_autofree char *base = NULL;
+      char *slash;
+
+      if (real != NULL)
+        {
+          if (tail->len == 0)
+            return g_steal_pointer (&real);
+          return g_build_filename (real, tail->str, NULL);
+        }
+      slash = strrchr (head, G_DIR_SEPARATOR);
+      if (slash == NULL || slash == head)
+        return g_strdup (abs);
+      base = g_strdup (slash + 1);
+      *slash = '\0';
+      if (tail->len > 0)
+        g_string_prepend_c (tail, G_DIR_SEPARATOR);
+      g_string_prepend (tail, base);
+    }
+}
+
+/* The device of the deepest existing ancestor of an absolute path (0 when none). */
+static dev_t
+path_device (const char *abs)
+{
+  g_autofree char *p = g_strdup (abs);
+
+  for (;;)
+    {
+      GStatBuf st;
+      char *slash;
+
+      if (g_stat (p, &st) == 0)
+        return st.st_dev;
+      slash = strrchr (p, G_DIR_SEPARATOR);
+      if (slash == NULL)
+        return 0;
+      if (slash == p)
+        {
+          p[1] = '\0';
+          return g_stat (p, &st) == 0 ? st.st_dev : 0;
+        }
+      *slash = '\0';
+    }
+}
+
+static gboolean
+same_directory (const char *a,
+                const char *b)
+{
+  GStatBuf sa, sb;
+
+  if (g_strcmp0 (a, b) == 0)
+    return TRUE;
+  return g_stat (a, &sa) == 0 && g_stat (b, &sb) == 0 && sa.st_dev == sb.st_dev
+         && sa.st_ino == sb.st_ino;
+}
+
+char *
+efflux_dossier_relocate_path (const char *value,
+                              const char *from_dir,
+                              const char *to_dir)
+{
+  g_autofree char *from = NULL;
+  g_autofree char *to = NULL;
+  g_autofree char *target = NULL;
+  g_auto (GStrv) to_parts = NULL;
+  g_auto (GStrv) target_parts = NULL;
+  g_autoptr (GString) rel = NULL;
+  guint common = 0, n_to, n_target;
+
+  g_return_val_if_fail (value != NULL && from_dir != NULL && to_dir != NULL, NULL);
+
+  if (*value == '\0' || g_path_is_absolute (value))
+    return g_strdup (value);
+  from = absolute_path (from_dir);
+  to = absolute_path (to_dir);
+  /* the same directory (also through a link): the path as the user wrote it */
+  if (same_directory (from, to))
+    return g_strdup (value);
+  {
+    g_autofree char *physical_from = physical_path (from);
+    g_autofree char *through = g_canonicalize_filename (value, physical_from);
+
+    /* ".." in the value steps up from the physical directory (where the kernel starts too) */
+    target = physical_path (through);
+  }
+  {
+    g_autofree char *physical_to = physical_path (to);
+
+    g_free (to);
+    to = g_steal_pointer (&physical_to);
+  }
+  /* another file system (a mount): an absolute path, since the two need not travel together */
+  if (path_device (to) != path_device (target))
+    return g_steal_pointer (&target);
+  to_parts = g_strsplit (to + 1, G_DIR_SEPARATOR_S, -1);
+  target_parts = g_strsplit (target + 1, G_DIR_SEPARATOR_S, -1);
+  n_to = g_strv_length (to_parts);
+  n_target = g_strv_length (target_parts);
+  /* "/" splits to one empty part */
+  if (n_to == 1 && *to_parts[0] == '\0')
+    n_to = 0;
+  while (common < n_to && common + 1 < n_target && g_str_equal (to_parts[common], target_parts[common]))
+    common++;
+  /* nothing in common but the root: absolute (a relative path up to / and down again says less) */
+  if (common == 0)
+    return g_steal_pointer (&target);
+  rel = g_string_new (NULL);
+  for (guint i = common; i < n_to; i++)
+    g_string_append (rel, ".." G_DIR_SEPARATOR_S);
+  for (guint i = common; i < n_target; i++)
+    {
+      g_string_append (rel, target_parts[i]);
+      if (i + 1 < n_target)
+        g_string_append_c (rel, G_DIR_SEPARATOR);
+    }
+  return g_string_free (g_steal_pointer (&rel), FALSE);
+}
+
+/* The groups and keys that name files, relative to the dossier: [Cube ID] path and [Review]
+ * reviewed. ([Cut ID] path is a list of sky positions, not a file.) */
+static gboolean
+is_file_key (const char *group,
+             const char *key)
+{
+  return (g_str_has_prefix (group, "Cube ") && g_str_equal (key, "path"))
+         || (g_str_equal (group, "Review") && g_str_equal (key, "reviewed"));
+}
+
+gboolean
+efflux_dossier_is_file_key (const char *group,
+                            const char *key)
+{
+  g_return_val_if_fail (group != NULL && key != NULL, FALSE);
+  return is_file_key (group, key);
+}
+
+gboolean
+efflux_dossier_save_as (EffluxDossier  *d,
+                        const char     *path,
+                        GError        **error)
+{
+  g_autofree char *dir_name = NULL;
+  g_autofree char *new_dir = NULL;
+  g_autofree char *old_dir = NULL;
+  g_autofree char *data = NULL;
+  g_autoptr (GKeyFile) kf = g_key_file_new ();
+  g_auto (GStrv) groups = NULL;
+  gsize length = 0;
+
+  g_return_val_if_fail (d != NULL && path != NULL, FALSE);
+
+  dir_name = g_path_get_dirname (path);
+  new_dir = absolute_path (dir_name);
+  old_dir = absolute_path (d->dir != NULL ? d->dir : ".");
+  data = efflux_dossier_to_data (d, &length);
+  g_key_file_set_list_separator (kf, ';');
+  if (!g_key_file_load_from_data (kf, data, length, G_KEY_FILE_KEEP_COMMENTS, NULL))
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: cannot copy the dossier's key file",
+                   d->path);
+      return FALSE;
+    }
+  groups = g_key_file_get_groups (kf, NULL);
+  for (gsize g = 0; groups[g] != NULL; g++)
+    {
+      g_auto (GStrv) keys = g_key_file_get_keys (kf, groups[g], NULL, NULL);
+
+      for (gsize k = 0; keys != NULL && keys[k] != NULL; k++)
+        {
+          g_autofree char *value = NULL;
+          g_autofree char *moved = NULL;
+
+          if (!is_file_key (groups[g], keys[k]))
+            continue;
+          value = g_strstrip (g_key_file_get_value (kf, groups[g], keys[k], NULL));
+          moved = efflux_dossier_relocate_path (value, old_dir, new_dir);
+          if (!g_str_equal (moved, value))
+            g_key_file_set_value (kf, groups[g], keys[k], moved);
+        }
+    }
+  g_clear_pointer (&data, g_free);
+  data = g_key_file_to_data (kf, &length, NULL);
+  if (!efflux_write_file_atomic (path, data, (gssize) length, error))
+    return FALSE;
+
+  /* written: the dossier is now the one at path */
+  g_key_file_unref (d->keyfile);
+  d->keyfile = g_steal_pointer (&kf);
+  g_free (d->path);
+  d->path = g_strdup (path);
+  g_free (d->dir);
+  d->dir = g_steal_pointer (&new_dir);
+  for (guint i = 0; i < d->cubes->len; i++)
+    {
+      EffluxDossierCube *c = g_ptr_array_index (d->cubes, i);
+      g_autofree char *group = g_strconcat ("Cube ", c->id, NULL);
+      char *value = get_raw (d->keyfile, group, "path");
+
+      if (value == NULL)
+        continue;
+      g_free (c->path);
+      c->path = value;
+      g_free (c->abs_path);
+      c->abs_path = g_path_is_absolute (c->path) ? g_strdup (c->path)
+                                                 : g_build_filename (d->dir, c->path, NULL);
+    }
+  return TRUE;
 }

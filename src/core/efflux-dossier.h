@@ -199,6 +199,26 @@ const char    *efflux_dossier_author            (const EffluxDossier *dossier);
 /* The cut's vertices as interleaved (ra, dec) ICRS degrees, the form efflux-pv.h takes; g_free it. */
 double        *efflux_dossier_cut_path      (const EffluxDossierCut *cut);
 
+/* Save As: write the dossier to path, a new place, with the keys that name files ([Cube ID] path,
+ * [Review] reviewed) rewritten so that they still name the same files from there
+ * (efflux_dossier_relocate_path). Comments and unknown keys are kept. On success the dossier is
+ * the one at path (path, dir, key file, cube paths); on error nothing changes and no file is
+ * left. */
+gboolean       efflux_dossier_save_as       (EffluxDossier  *dossier,
+                                             const char     *path,
+                                             GError        **error);
+/* A path value as a dossier in to_dir writes it, for the value a dossier in from_dir holds:
+ * absolute values stay as they are, and so does every value when the two directories are the
+ * same; otherwise the file's physical place (symbolic links resolved) relative to to_dir, or
+ * absolute when the two lie on different file systems (mounts) or share no directory but the
+ * root. Newly allocated. */
+char          *efflux_dossier_relocate_path (const char     *value,
+                                             const char     *from_dir,
+                                             const char     *to_dir);
+/* TRUE for the keys whose values are file paths relative to the dossier. */
+gboolean       efflux_dossier_is_file_key   (const char     *group,
+                                             const char     *key);
+
 G_DEFINE_AUTOPTR_CLEANUP_FUNC (EffluxDossier, efflux_dossier_free)
 
 G_END_DECLS
