@@ -47,12 +47,25 @@ efflux_application_activate (GApplication *app)
   EffluxApplication *self = EFFLUX_APPLICATION (app);
   EffluxWindow *window = get_or_create_window (self);
   g_autofree char *demo = efflux_application_find_demo ();
+  GSettings *settings = efflux_settings_get ();
+  g_autofree char *sample = NULL;
 
   if (demo != NULL)
     {
       g_autoptr(GFile) file = g_file_new_for_path (demo);
       efflux_window_open (window, file);
     }
+  /* the sample folder of the last session, when it is still there (efflux-sources.h) */
+  if (settings != NULL)
+    {
+      g_autoptr(GSettingsSchema) schema = NULL;
+
+      g_object_get (settings, "settings-schema", &schema, NULL);
+      if (schema != NULL && g_settings_schema_has_key (schema, "sample-folder"))
+        sample = g_settings_get_string (settings, "sample-folder");
+    }
+  if (sample != NULL && *sample != '\0' && g_file_test (sample, G_FILE_TEST_IS_DIR))
+    efflux_sources_set_folder (efflux_window_get_sources (window), sample, NULL);
   gtk_window_present (GTK_WINDOW (window));
 }
 
@@ -129,6 +142,7 @@ efflux_application_startup (GApplication *app)
     { "win.undo", { "<Control>z", NULL } },
     { "win.redo", { "<Shift><Control>z", "<Control>y", NULL } },
     { "win.assumptions", { "F9", NULL } },
+    { "review.show", { "F8", NULL } },
     { "app.help", { "F1", NULL } },
   };
 
