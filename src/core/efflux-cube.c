@@ -46,6 +46,7 @@
 /* In-memory cubes                                                                            */
 
 static float *alloc_voxels (gsize bytes);
+static void *alloc_voxels_huge (gsize bytes);
 
 EffluxCube *
 efflux_cube_new_simple (gsize   nx,
@@ -844,13 +845,103 @@ transpose_chunk (const guint32 *in,
 #endif
 }
 
+/* The common case of the float32 reader, where the spectral axis is the slowest file axis: a
+ * chunk of cn slices (channels), each n1 rows of n0 big-endian words (in[j * in_plane + i1 * n0 +
+ * i0]), goes to out[i0 * s0 + i1 * s1 + j]. With SSE2 (every x86-64) it runs by 4 x 4 blocks:
+ * four loads of four neighbouring pixels from four channels, the byte swap in registers, a 4 x 4
+ * transpose by unpacks, and four 16-byte stores of four channels of one pixel (non-temporal when
+ * aligned: the stores of one pixel's 16 channels fill one cache line). Measured on the 256 MiB
+ * float32 cube of bench-load: the transpose took 5x the kernel's page-cache copy as a scalar
+ * gather through a tile (51 % of the CPU time of a load) and about 1x now (see bench-load). */
+#ifdef __SSE2__
+static inline __m128i
+bswap32x4 (__m128i v)
+{
+  v = _mm_shufflelo_epi16 (v, _MM_SHUFFLE (2, 3, 0, 1));
+  v = _mm_shufflehi_epi16 (v, _MM_SHUFFLE (2, 3, 0, 1));
+  return _mm_or_si128 (_mm_slli_epi16 (v, 8), _mm_srli_epi16 (v, 8));
+}
+#endif
+
+static void
+swap_transpose_slices (const guint32 *in,
+                       gsize          in_plane,
+                       gsize          n0,
+                       gsize          n1,
+                       gsize          cn,
+                       guint32       *out,
+                       gsize          s0,
+                       gsize          s1)
+{
+  gsize i0_vec = 0, j_vec = 0;
+
+#ifdef __SSE2__
+  {
+    /* aligned when every output offset is a multiple of four words */
+    gboolean nt = ((guintptr) out & 15) == 0 && s0 % 4 == 0 && s1 % 4 == 0;
+
+    i0_vec = n0 / 4 * 4;
+    j_vec = cn / 4 * 4;
+    for (gsize i1 = 0; i1 < n1; i1++)
+      for (gsize i0 = 0; i0 < i0_vec; i0 += 4)
+        {
+          const guint32 *p = in + i1 * n0 + i0;
+          guint32 *o = out + i0 * s0 + i1 * s1;
+
+          /* 16 channels at a time (4 blocks), kept in registers, so that each pixel's stores
+           * follow one another and fill its line at once */
+          for (gsize j0 = 0; j0 < j_vec; j0 += 16)
+            {
+              __m128i c[4][4];
+              gsize nb = MIN ((gsize) 4, (j_vec - j0) / 4);
+
+              for (gsize b = 0; b < nb; b++)
+                {
+                  const guint32 *q = p + (j0 + 4 * b) * in_plane;
+                  __m128i r0 = bswap32x4 (_mm_loadu_si128 ((const __m128i *) q));
+                  __m128i r1 = bswap32x4 (_mm_loadu_si128 ((const __m128i *) (q + in_plane)));
+                  __m128i r2 = bswap32x4 (_mm_loadu_si128 ((const __m128i *) (q + 2 * in_plane)));
+                  __m128i r3 = bswap32x4 (_mm_loadu_si128 ((const __m128i *) (q + 3 * in_plane)));
+                  __m128i t0 = _mm_unpacklo_epi32 (r0, r1), t1 = _mm_unpacklo_epi32 (r2, r3);
+                  __m128i t2 = _mm_unpackhi_epi32 (r0, r1), t3 = _mm_unpackhi_epi32 (r2, r3);
+
+                  c[b][0] = _mm_unpacklo_epi64 (t0, t1);
+                  c[b][1] = _mm_unpackhi_epi64 (t0, t1);
+                  c[b][2] = _mm_unpacklo_epi64 (t2, t3);
+                  c[b][3] = _mm_unpackhi_epi64 (t2, t3);
+                }
+              for (gsize i = 0; i < 4; i++)
+                for (gsize b = 0; b < nb; b++)
+                  {
+                    __m128i *d = (__m128i *) (o + i * s0 + j0 + 4 * b);
+
+                    if (nt)
+                      _mm_stream_si128 (d, c[b][i]);
+                    else
+                      _mm_storeu_si128 (d, c[b][i]);
+                  }
+            }
+        }
+    _mm_sfence ();
+  }
+#endif
+  /* what the blocks left: the last channels (cn not a multiple of 4) of every pixel, and every
+   * channel of the last pixels of each row (n0 not a multiple of 4) */
+  for (gsize i1 = 0; i1 < n1; i1++)
+    for (gsize i0 = 0; i0 < n0; i0++)
+      for (gsize j = i0 < i0_vec ? j_vec : 0; j < cn; j++)
+        out[i0 * s0 + i1 * s1 + j] = GUINT32_FROM_BE (in[j * in_plane + i1 * n0 + i0]);
+}
+
 /* The fast path for uncompressed, unscaled BITPIX = -32 data: pread () the big-endian words and
- * swap them while transposing, on two threads. A unit of work is a block of chunk_n = 16 slices
- * of the slowest file axis by `rows` rows of the middle one: chunk_n short preads of
- * rows x n_fast words, about 512 KiB in all, small enough to stay in a core's L2 cache between
- * the read and the transpose. 16 slices give each spectrum whole 64-byte lines per unit, written
- * with non-temporal stores (4 slices per chunk, as before, wrote 16-byte pieces of lines and took
- * 1.7x the CPU time: 0.25 s against 0.14 s for 256 MiB, measured on a loaded machine). */
+ * swap them while transposing, on two threads. A unit of work is a block of chunk_n = 64 slices
+ * of the slowest file axis by `rows` rows of the middle one: chunk_n preads of rows x n_fast
+ * words, about 2 MiB in all (a buffer in one huge page per thread), then swap_transpose_slices.
+ * History, CPU time of a 256 MiB load on a loaded machine (both threads, medians, see bench-load):
+ * 4 slices per unit and 16-byte pieces of lines 0.25 s; 16 slices, whole lines 0.14-0.18 s; with
+ * the SIMD swap-transpose, 64 slices and a 2 MiB huge-page buffer 0.14-0.15 s against 0.17-0.18 s
+ * for 16 slices and 512 KiB measured back to back. What is left is mostly the kernel: zeroing the
+ * fresh huge pages of the voxel array and copying from the page cache. */
 typedef struct
 {
   int            fd;
@@ -878,7 +969,7 @@ static gpointer
 raw_read_worker (gpointer data)
 {
   RawRead *r = data;
-  g_autofree guint32 *buf = g_try_malloc (r->n_fast * r->rows * r->chunk_n * sizeof (guint32));
+  g_autofree guint32 *buf = alloc_voxels_huge (r->n_fast * r->rows * r->chunk_n * sizeof (guint32));
 
   if (buf == NULL)
     {
@@ -928,7 +1019,12 @@ raw_read_worker (gpointer data)
       loops[1].n = yn;
       loops[2].n = cn;
       loops[2].s_in = yn * r->n_fast;
-      transpose_chunk (buf, r->out + j0 * r->slow_stride_out + y0 * r->mid_stride_out, loops, TRUE);
+      if (loops[2].s_out == 1)
+        swap_transpose_slices (buf, loops[2].s_in, loops[0].n, yn, cn,
+                               r->out + j0 * r->slow_stride_out + y0 * r->mid_stride_out,
+                               loops[0].s_out, loops[1].s_out);
+      else
+        transpose_chunk (buf, r->out + j0 * r->slow_stride_out + y0 * r->mid_stride_out, loops, TRUE);
       g_atomic_int_inc (&r->done);
     }
   return NULL;
@@ -948,6 +1044,25 @@ alloc_voxels (gsize bytes)
     return NULL;
 #ifdef MADV_HUGEPAGE
   madvise (p, bytes - bytes % huge, MADV_HUGEPAGE);
+#endif
+  return p;
+}
+
+/* A buffer of at least 1 MiB in whole transparent huge pages (one fault per 2 MiB instead of 512:
+ * on a virtual machine a 4 KiB page fault can cost 20 us). Freed with g_free. */
+static void *
+alloc_voxels_huge (gsize bytes)
+{
+  const gsize huge = 2u * 1024u * 1024u;
+  void *p = NULL;
+
+  if (bytes < huge / 2)
+    return g_try_malloc (bytes);
+  bytes = (bytes + huge - 1) / huge * huge;
+  if (posix_memalign (&p, huge, bytes) != 0)
+    return NULL;
+#ifdef MADV_HUGEPAGE
+  madvise (p, bytes, MADV_HUGEPAGE);
 #endif
   return p;
 }
@@ -1960,10 +2075,14 @@ efflux_cube_load (const char                  *path,
         r.plane = plane;
         r.n_fast = (gsize) naxes[a0];
         r.n_mid = (gsize) naxes[a1];
-        /* 16 slices: each spectrum gets whole 64-byte lines of 16 channels (non-temporal stores
-         * of whole lines); rows to make about 512 KiB */
-        r.chunk_n = MIN ((gsize) 16, n_slow);
-        r.rows = MAX ((gsize) 1, (512u * 1024u / sizeof (guint32)) / (r.chunk_n * r.n_fast));
+        /* 64 slices: each spectrum gets runs of 256 bytes (four whole lines, stored one after
+         * the other); fewer for very wide rows, down to 16 (one line); rows to make about 2 MiB
+         * (one huge page per thread) */
+        r.chunk_n = 64;
+        while (r.chunk_n > 16 && r.chunk_n * r.n_fast * sizeof (guint32) > 2u * 1024u * 1024u)
+          r.chunk_n /= 2;
+        r.chunk_n = MIN (r.chunk_n, n_slow);
+        r.rows = MAX ((gsize) 1, (2u * 1024u * 1024u / sizeof (guint32)) / (r.chunk_n * r.n_fast));
         r.rows = MIN (r.rows, r.n_mid);
         r.row_blocks = (r.n_mid + r.rows - 1) / r.rows;
         r.n_slow = n_slow;
