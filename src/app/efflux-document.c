@@ -486,6 +486,60 @@ efflux_document_save (EffluxDocument  *self,
   return TRUE;
 }
 
+/* Save As (lasting): the core rewrites the file paths; the history's follow. */
+gboolean
+efflux_document_save_as (EffluxDocument  *self,
+                         const char      *path,
+                         GError         **error)
+{
+  g_autofree char *old_dir = NULL;
+  GQueue *stacks[2];
+  gboolean was_modified;
+  Command *top;
+
+  g_return_val_if_fail (EFFLUX_IS_DOCUMENT (self), FALSE);
+  g_return_val_if_fail (path != NULL, FALSE);
+  old_dir = g_canonicalize_filename (self->dossier->dir ? self->dossier->dir : ".", NULL);
+  if (!efflux_dossier_save_as (self->dossier, path, error))
+    return FALSE;
+  stacks[0] = &self->undo;
+  stacks[1] = &self->redo;
+  for (guint s = 0; s < G_N_ELEMENTS (stacks); s++)
+    for (GList *l = stacks[s]->head; l != NULL; l = l->next)
+      {
+        Command *command = l->data;
+
+        for (guint i = 0; i < command->changes->len; i++)
+          {
+            Change *c = g_ptr_array_index (command->changes, i);
+            char **values[2] = { &c->before, &c->after };
+
+            if (!efflux_dossier_is_file_key (c->group, c->key))
+              continue;
+            for (guint v = 0; v < 2; v++)
+              if (*values[v] != NULL)
+                {
+                  char *moved = efflux_dossier_relocate_path (*values[v], old_dir, self->dossier->dir);
+
+                  g_free (*values[v]);
+                  *values[v] = moved;
+                }
+          }
+      }
+  was_modified = efflux_document_get_modified (self);
+  top = g_queue_peek_tail (&self->undo);
+  self->saved_serial = top ? top->serial : 0;
+  if (g_strcmp0 (path, self->path) != 0)
+    {
+      g_free (self->path);
+      self->path = g_strdup (path);
+      g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_PATH]);
+    }
+  if (was_modified)
+    g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_MODIFIED]);
+  return TRUE;
+}
+
 /* ---- edits ---- */
 
 static char *

@@ -63,6 +63,13 @@ gboolean        efflux_document_redo             (EffluxDocument  *self);
 gboolean        efflux_document_save             (EffluxDocument  *self,
                                                   const char      *path,
                                                   GError         **error);
+/* Save As: write to path, a new place, with the dossier's file paths ([Cube ID] path, [Review]
+ * reviewed) rewritten to name the same files from there (efflux_dossier_save_as); the undo and
+ * redo history's paths follow, so undo keeps naming the same files. On success the document is
+ * unmodified, its path and folder are the new ones; on error nothing changes. */
+gboolean        efflux_document_save_as          (EffluxDocument  *self,
+                                                  const char      *path,
+                                                  GError         **error);
 
 /* Generic edit: set (value != NULL) or remove (value == NULL) one key. */
 gboolean        efflux_document_set_key          (EffluxDocument  *self,

@@ -7,6 +7,7 @@
 #include <math.h>
 
 #include "efflux-assumptions.h"
+#include "efflux-autosave.h"
 #include "efflux-banner.h"
 #include "efflux-cut-view.h"
 #include "efflux-ledger.h"
@@ -54,6 +55,7 @@ struct _EffluxWindow
   EffluxAssumptions *assumptions;
   GMenu           *recent_menu;
   EffluxBanner    *banner;         /* the message area (efflux_window_show_error) */
+  EffluxAutosave  *autosave;       /* the document's recovery file (efflux-autosave.h) */
 
   GCancellable    *cancellable;
   GCancellable    *measure_cancellable;
@@ -389,6 +391,8 @@ show_edit_error (EffluxWindow *self,
                  const GError *error)
 {
   gtk_label_set_text (self->edit_error_label, error ? error->message : "");
+  if (error != NULL)
+    efflux_window_show_error (self, error->message);
 }
 
 static void
@@ -497,6 +501,8 @@ document_measured (EffluxDocument *document,
                    EffluxWindow   *self)
 {
   update_ledger (self);
+  if (efflux_document_get_measure_error (document) != NULL)
+    efflux_window_show_error (self, efflux_document_get_measure_error (document));
 }
 
 static void
@@ -520,7 +526,10 @@ cubes_loaded (GObject      *object,
       && !g_error_matches (error, G_IO_ERROR, G_IO_ERROR_CANCELLED)
       && !g_error_matches (error, EFFLUX_ERROR, EFFLUX_ERROR_CANCELLED)
       && EFFLUX_DOCUMENT (object) == self->document)
-    gtk_label_set_text (self->ledger_label, error->message);
+    {
+      gtk_label_set_text (self->ledger_label, error->message);
+      efflux_window_show_error (self, error->message);
+    }
 }
 
 static void
@@ -536,6 +545,11 @@ static void
 set_document (EffluxWindow   *self,
               EffluxDocument *document)
 {
+  if (self->autosave != NULL)
+    efflux_autosave_close (self->autosave);
+  g_clear_object (&self->autosave);
+  if (document != NULL)
+    self->autosave = efflux_autosave_new (document, self->banner);
   if (self->document != NULL)
     g_signal_handlers_disconnect_by_data (self->document, self);
   if (self->measure_cancellable != NULL)
@@ -729,7 +743,10 @@ load_done (GObject      *object,
     {
       if (!g_error_matches (error, G_IO_ERROR, G_IO_ERROR_CANCELLED)
           && !g_error_matches (error, EFFLUX_ERROR, EFFLUX_ERROR_CANCELLED))
-        gtk_label_set_text (self->detail_label, error->message);
+        {
+          gtk_label_set_text (self->detail_label, error->message);
+          efflux_window_show_error (self, error->message);
+        }
       else
         gtk_label_set_text (self->detail_label, _("Loading cancelled."));
       return;
@@ -883,12 +900,15 @@ open_dossier (EffluxWindow *self,
   if (document == NULL)
     {
       gtk_label_set_text (self->detail_label, error->message);
+      efflux_window_show_error (self, error->message);
       return;
     }
   dossier = efflux_document_get_dossier (document);
   g_free (self->source_name);
   self->source_name = g_strdup (dossier->name);
   set_document (self, document);
+  /* unsaved edits left by a crash: offer them */
+  efflux_autosave_offer_recovery (self->autosave, GTK_WINDOW (self));
   add_recent (path);
   fill_recent_menu (self);
   g_free (self->source_name);
@@ -923,6 +943,7 @@ open_dossier (EffluxWindow *self,
     {
       g_autofree char *msg = g_strdup_printf (_("%s: the dossier names no cube"), path);
       gtk_label_set_text (self->detail_label, msg);
+      efflux_window_show_error (self, msg);
       return;
     }
   for (guint i = 0; i < dossier->lobes->len && lobe == NULL; i++)
@@ -953,6 +974,7 @@ efflux_window_open (EffluxWindow *self,
       g_autofree char *uri = g_file_get_uri (file);
       g_autofree char *msg = g_strdup_printf (_("%s: only local files can be opened"), uri);
       gtk_label_set_text (self->detail_label, msg);
+      efflux_window_show_error (self, msg);
       return;
     }
 
@@ -1090,8 +1112,9 @@ save_response (GtkNativeDialog *dialog,
 
       if (path != NULL)
         {
-          if (!efflux_document_save (self->document, path, &error))
-            gtk_label_set_text (self->detail_label, error->message);
+          /* Save As: the dossier's file paths follow it to the new place */
+          if (!efflux_document_save_as (self->document, path, &error))
+            efflux_window_show_error (self, error->message);
           else
             add_recent (path);
         }
@@ -1133,6 +1156,7 @@ save_now (EffluxWindow *self)
   if (!efflux_document_save (self->document, NULL, &error))
     {
       gtk_label_set_text (self->detail_label, error->message);
+      efflux_window_show_error (self, error->message);
       return FALSE;
     }
   add_recent (efflux_document_get_path (self->document));
@@ -1226,6 +1250,8 @@ close_response (GtkDialog *dialog,
     }
   else if (response != GTK_RESPONSE_REJECT)
     return;
+  else if (self->autosave != NULL)
+    efflux_autosave_discard (self->autosave);
   self->close_confirmed = TRUE;
   gtk_window_close (GTK_WINDOW (self));
 }
@@ -1379,6 +1405,9 @@ efflux_window_dispose (GObject *object)
     g_cancellable_cancel (self->measure_cancellable);
   g_clear_object (&self->measure_cancellable);
   g_clear_handle_id (&self->spectrum_timeout, g_source_remove);
+  if (self->autosave != NULL)
+    efflux_autosave_close (self->autosave);
+  g_clear_object (&self->autosave);
   if (self->document != NULL)
     {
       g_signal_handlers_disconnect_by_data (self->document, self);

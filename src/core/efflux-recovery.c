@@ -35,6 +35,20 @@ efflux_recovery_write (EffluxDossier  *dossier,
 }
 
 gboolean
+efflux_recovery_write_data (const char  *dossier_path,
+                            const char  *data,
+                            GError     **error)
+{
+  g_autofree char *path = efflux_recovery_path (dossier_path);
+  g_autofree char *base = g_path_get_basename (dossier_path);
+  g_autoptr (GDateTime) now = g_date_time_new_now_utc ();
+  g_autofree char *when = g_date_time_format (now, "%Y-%m-%dT%H:%M:%SZ");
+  g_autofree char *text = g_strdup_printf (MARK "%s, unsaved edits of %s\n%s", base, when, data);
+
+  return efflux_write_file_atomic (path, text, -1, error);
+}
+
+gboolean
 efflux_recovery_exists (const char *dossier_path,
                         gint64     *mtime_us)
 {

@@ -35,6 +35,12 @@ gboolean       efflux_recovery_write  (EffluxDossier  *dossier,
                                        const char     *dossier_path,
                                        GError        **error);
 
+/* The same for a dossier's text already made (efflux_dossier_to_data on the caller's thread), so
+ * that the write, with its fsync, can run on another thread. */
+gboolean       efflux_recovery_write_data (const char  *dossier_path,
+                                           const char  *data,
+                                           GError     **error);
+
 /* TRUE when a recovery file exists; *mtime_us (may be NULL) gets its modification time
  * (microseconds since 1970). */
 gboolean       efflux_recovery_exists (const char *dossier_path,
