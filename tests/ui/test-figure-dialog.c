@@ -381,7 +381,8 @@ test_unsaved_edit (void)
   remove_tree (dir);
 }
 
-/* Path operators in the inflated content streams of a PDF written by Cairo. */
+/* Path operators in the inflated content streams of a PDF written by Cairo (binary data: memmem,
+ * not string functions that stop at a zero byte). */
 static void
 pdf_operators (const char *data,
                gsize       length,
@@ -395,7 +396,7 @@ pdf_operators (const char *data,
   *n_lineto = *n_stroke = 0;
   while (p < end)
     {
-      const char *s = g_strstr_len (p, end - p, "stream\n");
+      const char *s = memmem (p, end - p, "stream\n", strlen ("stream\n"));
       const char *e;
       g_autoptr(GConverter) z = NULL;
       g_autoptr(GByteArray) out = g_byte_array_new ();
@@ -406,7 +407,7 @@ pdf_operators (const char *data,
       if (s == NULL)
         break;
       s += strlen ("stream\n");
-      e = g_strstr_len (s, end - s, "endstream");
+      e = memmem (s, end - s, "endstream", strlen ("endstream"));
       if (e == NULL)
         break;
       z = G_CONVERTER (g_zlib_decompressor_new (G_ZLIB_COMPRESSOR_FORMAT_ZLIB));
@@ -500,7 +501,7 @@ test_vector_formats (void)
   g_assert_true (g_str_has_prefix (data, "%PDF-"));
   {
     /* the page: 180 mm = 510.24 pt wide (ISO 32000-1 8.3.2.3: 1/72 inch per unit) */
-    const char *box = g_strstr_len (data, length, "/MediaBox [");
+    const char *box = memmem (data, length, "/MediaBox [", strlen ("/MediaBox ["));
     double x0, y0, x1;
     char *endp;
 
@@ -683,6 +684,46 @@ test_errors_and_cancel (void)
   remove_tree (dir);
 }
 
+static gboolean
+count_frame (GtkWidget     *widget,
+             GdkFrameClock *clock,
+             gpointer       user_data)
+{
+  (*(int *) user_data)++;
+  return G_SOURCE_CONTINUE;
+}
+
+/* A picture of the dialog in the build directory, for the eye (and the help). */
+static void
+save_screenshot (GtkWidget  *widget,
+                 const char *name)
+{
+  g_autoptr(GdkPaintable) paintable = NULL;
+  g_autoptr(GtkSnapshot) snapshot = gtk_snapshot_new ();
+  g_autoptr(GskRenderNode) node = NULL;
+  g_autoptr(GdkTexture) texture = NULL;
+  g_autofree char *path = NULL;
+  gint64 deadline = g_get_monotonic_time () + 20 * G_USEC_PER_SEC;
+  int frames = 0, w, h;
+  guint id = gtk_widget_add_tick_callback (widget, count_frame, &frames, NULL);
+
+  while ((frames < 3 || gtk_widget_get_width (widget) == 0) && g_get_monotonic_time () < deadline)
+    g_main_context_iteration (NULL, TRUE);
+  gtk_widget_remove_tick_callback (widget, id);
+  g_assert_true (gtk_widget_get_mapped (widget));
+  w = gtk_widget_get_width (widget);
+  h = gtk_widget_get_height (widget);
+  paintable = gtk_widget_paintable_new (widget);
+  gdk_paintable_snapshot (paintable, GDK_SNAPSHOT (snapshot), w, h);
+  node = gtk_snapshot_free_to_node (g_steal_pointer (&snapshot));
+  g_assert_nonnull (node);
+  texture = gsk_renderer_render_texture (gtk_native_get_renderer (gtk_widget_get_native (widget)), node,
+                                         &GRAPHENE_RECT_INIT (0, 0, w, h));
+  path = g_build_filename (g_getenv ("G_TEST_BUILDDIR"), name, NULL);
+  g_assert_true (gdk_texture_save_to_png (texture, path));
+  g_test_message ("screenshot: %s", path);
+}
+
 /* win.export-figure (the dossier menu's Export Figure…, Ctrl+Shift+E) opens the dialog. */
 static void
 test_window_action (void)
@@ -702,6 +743,7 @@ test_window_action (void)
   g_assert_nonnull (found);
   g_assert_true (gtk_window_get_modal (found));
   g_assert_true (gtk_window_get_transient_for (found) == GTK_WINDOW (window));
+  save_screenshot (GTK_WIDGET (found), "figure-dialog.png");
   close_all (window, EFFLUX_FIGURE_DIALOG (found));
 }
 
