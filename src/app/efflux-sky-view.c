@@ -72,7 +72,31 @@ struct _EffluxSkyView
   gssize              hover_vertex;
   char               *edit_error;
   GskRenderNode      *overlay_node; /* lobes, cuts, draft; dropped on edits and view changes */
+
+  /* a colleague's lobes (copies), drawn dashed, never edited */
+  GPtrArray          *other_lobes;  /* OtherLobe * */
+  char               *other_author;
+  GskRenderNode      *other_node;   /* dropped on overlay and view changes */
 };
+
+typedef struct
+{
+  char           *name;
+  EffluxLobeKind  kind;
+  gsize           n;
+  double         *ra, *dec;
+} OtherLobe;
+
+static void
+other_lobe_free (gpointer data)
+{
+  OtherLobe *lobe = data;
+
+  g_free (lobe->name);
+  g_free (lobe->ra);
+  g_free (lobe->dec);
+  g_free (lobe);
+}
 
 enum {
   DRAG_PAN,
@@ -109,6 +133,7 @@ invalidate (EffluxSkyView *self)
 {
   g_clear_pointer (&self->node, gsk_render_node_unref);
   g_clear_pointer (&self->overlay_node, gsk_render_node_unref);
+  g_clear_pointer (&self->other_node, gsk_render_node_unref);
   gtk_widget_queue_draw (GTK_WIDGET (self));
 }
 
@@ -1270,6 +1295,128 @@ draw_overlays (EffluxSkyView *self,
     }
 }
 
+/* ---- a colleague's lobes ---- */
+
+void
+efflux_sky_view_set_overlay (EffluxSkyView       *self,
+                             const EffluxDossier *other,
+                             const char          *author)
+{
+  g_return_if_fail (EFFLUX_IS_SKY_VIEW (self));
+
+  g_ptr_array_set_size (self->other_lobes, 0);
+  g_clear_pointer (&self->other_author, g_free);
+  if (other != NULL)
+    {
+      for (guint k = 0; k < other->lobes->len; k++)
+        {
+          const EffluxDossierLobe *lobe = g_ptr_array_index (other->lobes, k);
+          OtherLobe *copy;
+
+          if (lobe->n_vertices < 3)
+            continue;
+          copy = g_new0 (OtherLobe, 1);
+          copy->name = g_strdup (lobe->name);
+          copy->kind = lobe->kind;
+          copy->n = lobe->n_vertices;
+          copy->ra = g_memdup2 (lobe->ra_deg, lobe->n_vertices * sizeof (double));
+          copy->dec = g_memdup2 (lobe->dec_deg, lobe->n_vertices * sizeof (double));
+          g_ptr_array_add (self->other_lobes, copy);
+        }
+      self->other_author = g_strdup (author != NULL ? author : efflux_dossier_author (other));
+      if (self->other_author != NULL && *self->other_author == '\0')
+        g_clear_pointer (&self->other_author, g_free);
+    }
+  g_clear_pointer (&self->other_node, gsk_render_node_unref);
+  gtk_widget_queue_draw (GTK_WIDGET (self));
+}
+
+const char *
+efflux_sky_view_get_overlay_author (EffluxSkyView *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_SKY_VIEW (self), NULL);
+  return self->other_author;
+}
+
+guint
+efflux_sky_view_get_n_overlay_lobes (EffluxSkyView *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_SKY_VIEW (self), 0);
+  return self->other_lobes->len;
+}
+
+static void draw_label (EffluxSkyView *self,
+                        cairo_t       *cr,
+                        const char    *text,
+                        double         x,
+                        double         y,
+                        double         xalign,
+                        double         yalign);
+
+/* The colleague's outlines: dashed, a dark dashed line under the coloured one so that they read
+ * on any colour, no fill (the own lobes stay the filled ones); a label "name (author)" above the
+ * outline's highest vertex. */
+static void
+draw_other_lobes (EffluxSkyView *self,
+                  cairo_t       *cr)
+{
+  static const double dash[] = { 7.0, 4.0 };
+
+  if (self->cube == NULL || self->cube->sky == NULL)
+    return;
+  cairo_set_line_join (cr, CAIRO_LINE_JOIN_ROUND);
+  for (guint k = 0; k < self->other_lobes->len; k++)
+    {
+      const OtherLobe *lobe = g_ptr_array_index (self->other_lobes, k);
+      g_autofree double *px = NULL, *py = NULL;
+      g_autofree char *label = NULL;
+      gboolean blue = lobe->kind == EFFLUX_LOBE_BLUE;
+      double top_x = 0, top_y = G_MAXDOUBLE;
+
+      if (!outline_to_pixels (self, lobe->ra, lobe->dec, lobe->n, &px, &py))
+        continue;
+      path_outline (cr, self, px, py, lobe->n, TRUE);
+      cairo_set_dash (cr, dash, G_N_ELEMENTS (dash), 0);
+      cairo_set_source_rgba (cr, 0, 0, 0, 0.7);
+      cairo_set_line_width (cr, 4.0);
+      cairo_stroke_preserve (cr);
+      if (blue)
+        cairo_set_source_rgba (cr, 0.45, 0.75, 1.0, 1.0);
+      else
+        cairo_set_source_rgba (cr, 1.0, 0.45, 0.4, 1.0);
+      cairo_set_line_width (cr, 2.0);
+      cairo_stroke (cr);
+      cairo_set_dash (cr, NULL, 0, 0);
+      for (gsize i = 0; i < lobe->n; i++)
+        {
+          double wx, wy;
+
+          efflux_sky_view_pixel_to_widget (self, px[i], py[i], &wx, &wy);
+          if (wy < top_y)
+            {
+              top_x = wx;
+              top_y = wy;
+            }
+        }
+      if (self->other_author != NULL)
+        /* Translators: a colleague's lobe on the map: its name and who drew it */
+        label = g_strdup_printf (_("%s (%s)"), lobe->name, self->other_author);
+      else
+        label = g_strdup (lobe->name);
+      {
+        /* kept inside the view */
+        g_autoptr(PangoLayout) layout = gtk_widget_create_pango_layout (GTK_WIDGET (self), label);
+        int lw, lh, w = gtk_widget_get_width (GTK_WIDGET (self));
+
+        pango_layout_get_pixel_size (layout, &lw, &lh);
+        top_x = MAX (top_x, lw / 2.0 + 4.0);
+        top_x = MIN (top_x, w - lw / 2.0 - 4.0);
+        top_y = MAX (top_y, lh + 8.0);
+      }
+      draw_label (self, cr, label, top_x, top_y - 4, 0.5, 1.0);
+    }
+}
+
 /* ---- drawing ---- */
 
 /* The visible part of the map, resampled nearest-neighbour at the device resolution into a
@@ -1718,6 +1865,17 @@ efflux_sky_view_snapshot (GtkWidget   *widget,
     self->node = build_scene (self, w, h);
   if (self->node != NULL)
     gtk_snapshot_append_node (snapshot, self->node);
+  if (self->other_node == NULL && self->other_lobes->len > 0)
+    {
+      GtkSnapshot *other = gtk_snapshot_new ();
+      cairo_t *cr = gtk_snapshot_append_cairo (other, &GRAPHENE_RECT_INIT (0, 0, w, h));
+
+      draw_other_lobes (self, cr);
+      cairo_destroy (cr);
+      self->other_node = gtk_snapshot_free_to_node (other);
+    }
+  if (self->other_node != NULL)
+    gtk_snapshot_append_node (snapshot, self->other_node);
   if (self->overlay_node == NULL && (self->document != NULL || self->draft_x->len > 0))
     {
       GtkSnapshot *overlay = gtk_snapshot_new ();
@@ -2028,6 +2186,9 @@ efflux_sky_view_finalize (GObject *object)
 
   g_clear_pointer (&self->node, gsk_render_node_unref);
   g_clear_pointer (&self->overlay_node, gsk_render_node_unref);
+  g_clear_pointer (&self->other_node, gsk_render_node_unref);
+  g_ptr_array_unref (self->other_lobes);
+  g_free (self->other_author);
   if (self->document != NULL)
     g_signal_handlers_disconnect_by_func (self->document, document_changed, self);
   g_clear_object (&self->document);
@@ -2149,6 +2310,7 @@ efflux_sky_view_init (EffluxSkyView *self)
   self->draft_y = g_array_new (FALSE, FALSE, sizeof (double));
   self->hover_vertex = -1;
   self->new_kind = EFFLUX_LOBE_BLUE;
+  self->other_lobes = g_ptr_array_new_with_free_func (other_lobe_free);
 
   g_signal_connect (motion, "motion", G_CALLBACK (motion_cb), self);
   g_signal_connect (motion, "leave", G_CALLBACK (leave_cb), self);

@@ -128,4 +128,18 @@ guint       efflux_sky_view_get_n_draft    (EffluxSkyView    *self);
 /* The last edit the view could not make (the core's message), or NULL. */
 const char *efflux_sky_view_get_edit_error (EffluxSkyView    *self);
 
+/* ---- a colleague's lobes ----
+ *
+ * Another dossier's lobes drawn dashed over the map (blue or red by kind), each labelled with its
+ * name and the author's name; they are not editable and never hit-tested. The view copies what
+ * it needs (names, kinds, outlines): other may be freed after the call. other NULL removes the
+ * overlay. author NULL: the other dossier's own author (efflux_dossier_author), else none. */
+void        efflux_sky_view_set_overlay    (EffluxSkyView       *self,
+                                            const EffluxDossier *other,
+                                            const char          *author);
+/* The overlay's author as shown, or NULL when there is no overlay or it names no author. */
+const char *efflux_sky_view_get_overlay_author (EffluxSkyView *self);
+/* The number of lobes in the overlay (0: none). */
+guint       efflux_sky_view_get_n_overlay_lobes (EffluxSkyView *self);
+
 G_END_DECLS

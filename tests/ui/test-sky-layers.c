@@ -1,0 +1,286 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* UI suite (xvfb-run): the Sky view's layers on a synthetic map drawn with the grey colour map (so
+ * that blue and red lines stand out from it):
+ *   - a colleague's lobes (efflux_sky_view_set_overlay): the view is rendered to a texture and the
+ *     pixels along an outline's edge are read back: part of them in the overlay's colour and part
+ *     not (a dashed line), none after the overlay is removed; the author shown.
+ * Screenshots go to the build directory. */
+#include "config.h"
+
+#include <gtk/gtk.h>
+#include <math.h>
+#include <string.h>
+
+#include "efflux-cube.h"
+#include "efflux-dossier.h"
+#include "efflux-sky-view.h"
+
+#define NX 40
+#define NY 30
+
+static gboolean
+count_frame (GtkWidget     *widget,
+             GdkFrameClock *clock,
+             gpointer       user_data)
+{
+  (*(int *) user_data)++;
+  return G_SOURCE_CONTINUE;
+}
+
+static void
+wait_for_frames (GtkWidget *widget,
+                 int        n)
+{
+  int frames = 0;
+  gint64 deadline = g_get_monotonic_time () + 20 * G_USEC_PER_SEC;
+  guint id = gtk_widget_add_tick_callback (widget, count_frame, &frames, NULL);
+
+  while ((frames < n || gtk_widget_get_width (widget) == 0) && g_get_monotonic_time () < deadline)
+    g_main_context_iteration (NULL, TRUE);
+  gtk_widget_remove_tick_callback (widget, id);
+  g_assert_cmpint (frames, >=, n);
+}
+
+/* The widget drawn into a texture by the window's renderer. */
+static GdkTexture *
+render (GtkWidget *widget)
+{
+  g_autoptr(GdkPaintable) paintable = gtk_widget_paintable_new (widget);
+  GtkSnapshot *snapshot = gtk_snapshot_new ();
+  g_autoptr(GskRenderNode) node = NULL;
+  int w = gtk_widget_get_width (widget);
+  int h = gtk_widget_get_height (widget);
+
+  gdk_paintable_snapshot (paintable, GDK_SNAPSHOT (snapshot), w, h);
+  node = gtk_snapshot_free_to_node (snapshot);
+  g_assert_nonnull (node);
+  return gsk_renderer_render_texture (gtk_native_get_renderer (gtk_widget_get_native (widget)),
+                                      node, &GRAPHENE_RECT_INIT (0, 0, w, h));
+}
+
+static void
+save_screenshot (GtkWidget  *widget,
+                 const char *name)
+{
+  g_autoptr(GdkTexture) texture = render (widget);
+  g_autofree char *path = g_build_filename (g_getenv ("G_TEST_BUILDDIR"), name, NULL);
+
+  g_assert_true (gdk_texture_save_to_png (texture, path));
+  g_test_message ("screenshot: %s", path);
+}
+
+typedef struct
+{
+  int     w, h;
+  guint8 *data;   /* cairo ARGB32 as gdk_texture_download gives it: B, G, R, A in memory */
+} Pixels;
+
+static Pixels
+download (GdkTexture *texture)
+{
+  Pixels p;
+
+  p.w = gdk_texture_get_width (texture);
+  p.h = gdk_texture_get_height (texture);
+  p.data = g_malloc ((gsize) p.w * p.h * 4);
+  gdk_texture_download (texture, p.data, (gsize) p.w * 4);
+  return p;
+}
+
+static void
+pixel_rgb (const Pixels *p,
+           int           x,
+           int           y,
+           int           rgb[3])
+{
+  const guint8 *q = p->data + ((gsize) y * p->w + x) * 4;
+
+  rgb[0] = q[2];
+  rgb[1] = q[1];
+  rgb[2] = q[0];
+}
+
+/* Along the segment between widget points a and b (leaving out 12 pixels at each end, near the
+ * vertices), the fraction of screen pixels within 1 pixel of the line whose colour matches the
+ * test (the closest match of the 3 x 3 neighbourhood counts). */
+static double
+fraction_along (const Pixels *p,
+                double        ax,
+                double        ay,
+                double        bx,
+                double        by,
+                gboolean    (*match) (const int rgb[3]))
+{
+  double len = hypot (bx - ax, by - ay);
+  int n = 0, hits = 0;
+
+  for (double s = 12.0; s <= len - 12.0; s += 1.0)
+    {
+      int x = (int) floor (ax + (bx - ax) * s / len);
+      int y = (int) floor (ay + (by - ay) * s / len);
+      gboolean hit = FALSE;
+
+      for (int dy = -1; dy <= 1 && !hit; dy++)
+        for (int dx = -1; dx <= 1 && !hit; dx++)
+          {
+            int rgb[3];
+
+            if (x + dx < 0 || y + dy < 0 || x + dx >= p->w || y + dy >= p->h)
+              continue;
+            pixel_rgb (p, x + dx, y + dy, rgb);
+            hit = match (rgb);
+          }
+      n++;
+      hits += hit;
+    }
+  g_assert_cmpint (n, >, 20);
+  return hits / (double) n;
+}
+
+/* The overlay's colours (efflux-sky-view.c draw_other_lobes): light blue (0.45, 0.75, 1.0) and
+ * light red (1.0, 0.45, 0.4); the grey map has r = g = b. */
+static gboolean
+is_overlay_blue (const int rgb[3])
+{
+  return rgb[2] > 200 && rgb[2] - rgb[0] > 80;
+}
+
+static gboolean
+is_overlay_red (const int rgb[3])
+{
+  return rgb[0] > 200 && rgb[0] - rgb[2] > 80;
+}
+
+/* A dossier with one blue and one red lobe, squares on the pixel grid of cube. */
+static EffluxDossier *
+colleague_dossier (const EffluxCube *cube,
+                   const double      squares[2][4])
+{
+  g_autoptr(GString) text = g_string_new (NULL);
+  g_autoptr(GError) error = NULL;
+  EffluxDossier *d;
+  const char *kinds[] = { "blue", "red" };
+
+  g_string_append (text, "[Source]\nname=Layers\nra-deg=83.8221\ndec-deg=-5.3911\n"
+                   "distance-pc=400\nvsys-kms=0\n\n[Assumptions]\ntex-k=30\nco-abundance=1e-4\n\n"
+                   "[Cube co]\npath=co.fits\nline=12CO 2-1\nrole=tracer\n\n");
+  for (int k = 0; k < 2; k++)
+    {
+      const double *s = squares[k];
+      double xs[4] = { s[0], s[2], s[2], s[0] }, ys[4] = { s[1], s[1], s[3], s[3] };
+
+      g_string_append_printf (text, "[Lobe %s-colleague]\nkind=%s\ncube=co\npolygon=", kinds[k],
+                              kinds[k]);
+      for (int i = 0; i < 4; i++)
+        {
+          double ra, dec;
+          char buf[2][G_ASCII_DTOSTR_BUF_SIZE];
+
+          g_assert_true (efflux_cube_pixel_to_icrs (cube, xs[i], ys[i], &ra, &dec));
+          g_string_append_printf (text, "%s%s,%s", i ? ";" : "",
+                                  g_ascii_dtostr (buf[0], sizeof buf[0], ra),
+                                  g_ascii_dtostr (buf[1], sizeof buf[1], dec));
+        }
+      g_string_append_printf (text, "\nvelocity-kms=%s\nauthor=Dossier Author\n\n",
+                              k == 0 ? "-10;-2" : "2;10");
+    }
+  d = efflux_dossier_new_from_data (text->str, -1, "colleague.efflux", "/nonexistent", &error);
+  g_assert_no_error (error);
+  return d;
+}
+
+static void
+test_overlay (void)
+{
+  g_autoptr(EffluxCube) cube = efflux_cube_new_simple (NX, NY, 1, 83.8221, -5.3911, 0.5, 0.0, 1.0,
+                                                        230.538e9);
+  const double squares[2][4] = { { 4, 4, 16, 14 }, { 22, 12, 35, 25 } };
+  float map[NX * NY];
+  GtkWidget *window = gtk_window_new ();
+  GtkWidget *widget = efflux_sky_view_new ();
+  EffluxSkyView *view = EFFLUX_SKY_VIEW (widget);
+  EffluxDossier *other;
+  double ax, ay, bx, by;
+
+  for (int y = 0; y < NY; y++)
+    for (int x = 0; x < NX; x++)
+      map[y * NX + x] = 10.0f * y + x;
+  gtk_window_set_default_size (GTK_WINDOW (window), 800, 600);
+  gtk_window_set_child (GTK_WINDOW (window), widget);
+  gtk_window_present (GTK_WINDOW (window));
+  efflux_sky_view_set_map (view, cube, map, NX, NY, "K");
+  g_object_set (view, "colormap", "grey", "grid", "none", NULL);
+  wait_for_frames (window, 2);
+
+  /* the overlay keeps its own copy: the dossier is freed right away */
+  other = colleague_dossier (cube, squares);
+  efflux_sky_view_set_overlay (view, other, "A. Colleague");
+  efflux_dossier_free (other);
+  g_assert_cmpstr (efflux_sky_view_get_overlay_author (view), ==, "A. Colleague");
+  g_assert_cmpuint (efflux_sky_view_get_n_overlay_lobes (view), ==, 2);
+  wait_for_frames (window, 2);
+  {
+    g_autoptr(GdkTexture) texture = render (widget);
+    Pixels p = download (texture);
+    double f;
+
+    /* the bottom edge of the blue square, (4, 4) -> (16, 4) in map pixels */
+    efflux_sky_view_pixel_to_widget (view, squares[0][0], squares[0][1], &ax, &ay);
+    efflux_sky_view_pixel_to_widget (view, squares[0][2], squares[0][1], &bx, &by);
+    f = fraction_along (&p, ax, ay, bx, by, is_overlay_blue);
+    g_test_message ("blue dashed edge: %.2f of its pixels in the overlay's colour", f);
+    /* dashes 7 on, 4 off: about 0.64 (the 3 x 3 neighbourhood widens the dashes a little) */
+    g_assert_cmpfloat (f, >, 0.4);
+    g_assert_cmpfloat (f, <, 0.95);
+    g_assert_cmpfloat (fraction_along (&p, ax, ay, bx, by, is_overlay_red), ==, 0.0);
+    /* the left edge of the red square, (22, 12) -> (22, 25) */
+    efflux_sky_view_pixel_to_widget (view, squares[1][0], squares[1][1], &ax, &ay);
+    efflux_sky_view_pixel_to_widget (view, squares[1][0], squares[1][3], &bx, &by);
+    f = fraction_along (&p, ax, ay, bx, by, is_overlay_red);
+    g_test_message ("red dashed edge: %.2f of its pixels in the overlay's colour", f);
+    g_assert_cmpfloat (f, >, 0.4);
+    g_assert_cmpfloat (f, <, 0.95);
+    /* inside the blue square, away from its edges and its label: the map's grey */
+    {
+      double cx, cy;
+      int rgb[3];
+
+      efflux_sky_view_pixel_to_widget (view, 10, 8, &cx, &cy);
+      pixel_rgb (&p, (int) cx, (int) cy, rgb);
+      g_assert_cmpint (abs (rgb[0] - rgb[2]), <=, 2);
+    }
+    g_free (p.data);
+  }
+  save_screenshot (window, "screenshot-sky-overlay.png");
+
+  /* without an author argument: the dossier's own */
+  other = colleague_dossier (cube, squares);
+  efflux_sky_view_set_overlay (view, other, NULL);
+  efflux_dossier_free (other);
+  g_assert_cmpstr (efflux_sky_view_get_overlay_author (view), ==, "Dossier Author");
+
+  /* removed: nothing of its colour left on the edge */
+  efflux_sky_view_set_overlay (view, NULL, NULL);
+  g_assert_null (efflux_sky_view_get_overlay_author (view));
+  g_assert_cmpuint (efflux_sky_view_get_n_overlay_lobes (view), ==, 0);
+  wait_for_frames (window, 2);
+  {
+    g_autoptr(GdkTexture) texture = render (widget);
+    Pixels p = download (texture);
+
+    efflux_sky_view_pixel_to_widget (view, squares[0][0], squares[0][1], &ax, &ay);
+    efflux_sky_view_pixel_to_widget (view, squares[0][2], squares[0][1], &bx, &by);
+    g_assert_cmpfloat (fraction_along (&p, ax, ay, bx, by, is_overlay_blue), ==, 0.0);
+    g_free (p.data);
+  }
+  gtk_window_destroy (GTK_WINDOW (window));
+}
+
+int
+main (int    argc,
+      char **argv)
+{
+  gtk_test_init (&argc, &argv, NULL);
+  g_test_add_func ("/ui/sky-layers/overlay", test_overlay);
+  return g_test_run ();
+}
