@@ -7,6 +7,7 @@
 #include <string.h>
 
 #include "efflux-document.h"
+#include "efflux-cube-store.h"
 
 /* One key's change inside a command. */
 typedef struct
@@ -29,7 +30,9 @@ typedef struct
 {
   gboolean    full;        /* prepare again */
   gboolean    finish;      /* finish only */
-  GHashTable *lobes;       /* names whose masks to rebuild (set) */
+  gboolean    complete;    /* an edit that is no drag (merge id 0), an undo, a load: the complete
+                            * finish; during a drag the broken power-law fit waits until it rests */
+  GHashTable *lobes;       /* names whose masks (by difference) to rebuild (set) */
 } Work;
 
 struct _EffluxDocument
@@ -57,6 +60,7 @@ struct _EffluxDocument
   guint                edits_since_load;
   GCancellable        *job_cancellable;
   guint                idle_id;
+  guint                settle_id;    /* the complete finish once a drag rests */
 };
 
 G_DEFINE_FINAL_TYPE (EffluxDocument, efflux_document, G_TYPE_OBJECT)
@@ -117,6 +121,7 @@ work_init (Work *work)
 {
   work->full = FALSE;
   work->finish = FALSE;
+  work->complete = FALSE;
   work->lobes = g_hash_table_new_full (g_str_hash, g_str_equal, g_free, NULL);
 }
 
@@ -125,6 +130,7 @@ work_clear (Work *work)
 {
   work->full = FALSE;
   work->finish = FALSE;
+  work->complete = FALSE;
   g_hash_table_remove_all (work->lobes);
 }
 
@@ -144,6 +150,7 @@ work_merge (Work *dst,
 
   dst->full |= src->full;
   dst->finish |= src->finish;
+  dst->complete |= src->complete;
   g_hash_table_iter_init (&iter, src->lobes);
   while (g_hash_table_iter_next (&iter, &key, NULL))
     g_hash_table_add (dst->lobes, g_strdup (key));
@@ -253,6 +260,8 @@ apply_changes (EffluxDocument *self,
   self->dossier = fresh;
   for (guint i = 0; i < changes->len; i++)
     note_work (self, g_ptr_array_index (changes, i));
+  /* an edit: the complete finish waits until the edits rest again */
+  g_clear_handle_id (&self->settle_id, g_source_remove);
   self->edits_since_load++;
   return TRUE;
 }
@@ -316,6 +325,8 @@ push_changes (EffluxDocument *self,
       g_ptr_array_unref (changes);
       return FALSE;
     }
+  if (merge_id == 0)
+    self->pending.complete = TRUE;
   g_queue_clear_full (&self->redo, command_free);
   if (merge_id != 0 && last != NULL && last->merge_id == merge_id
       && same_keys (last->changes, changes))
@@ -389,6 +400,7 @@ undo_redo (EffluxDocument *self,
       return FALSE;
     }
   self->applying = FALSE;
+  self->pending.complete = TRUE;
   if (undo)
     g_queue_push_head (&self->redo, command);
   else
@@ -841,6 +853,7 @@ typedef struct
   GHashTable          *cubes;     /* borrowed (load: owned result) */
   EffluxMeasurePrep   *prep;      /* borrowed, exclusive while the job runs */
   gboolean             full;
+  gboolean             quick;     /* finish without the broken power-law fit (a drag) */
   char               **lobes;
   /* results */
   EffluxMeasurePrep   *new_prep;
@@ -893,7 +906,9 @@ measure_worker (GTask        *task,
       }
   if (g_task_return_error_if_cancelled (task))
     return;
-  job->result = efflux_measure_finish (prep, job->dossier, &error);
+  job->result = efflux_measure_finish_flags (prep, job->dossier,
+                                             job->quick ? EFFLUX_MEASURE_FINISH_NO_BROKEN_FIT
+                                                        : EFFLUX_MEASURE_FINISH_ALL, &error);
   if (job->result == NULL)
     {
       g_task_return_error (task, g_steal_pointer (&error));
@@ -908,6 +923,21 @@ set_measure_error (EffluxDocument *self,
 {
   g_free (self->measure_error);
   self->measure_error = g_strdup (message);
+}
+
+/* A drag rested (no edit for SETTLE_MS after a quick result): finish completely. */
+#define SETTLE_MS 120
+
+static gboolean
+settle_cb (gpointer user_data)
+{
+  EffluxDocument *self = user_data;
+
+  self->settle_id = 0;
+  self->pending.finish = TRUE;
+  self->pending.complete = TRUE;
+  schedule_measure (self);
+  return G_SOURCE_REMOVE;
 }
 
 static void
@@ -948,6 +978,8 @@ measure_done (GObject      *object,
       self->result = g_steal_pointer (&job->result);
       set_measure_error (self, NULL);
       g_signal_emit (self, signals[SIGNAL_MEASURED], 0);
+      if (job->quick && work_empty (&self->pending) && self->settle_id == 0)
+        self->settle_id = g_timeout_add (SETTLE_MS, settle_cb, self);
     }
   if (!work_empty (&self->pending))
     schedule_measure (self);
@@ -973,6 +1005,7 @@ start_job (EffluxDocument *self)
   job->cubes = self->cubes;
   job->prep = self->prep;
   job->full = self->running.full || self->prep == NULL;
+  job->quick = !self->running.complete;
   names = g_ptr_array_new ();
   g_hash_table_iter_init (&iter, self->running.lobes);
   while (g_hash_table_iter_next (&iter, &key, NULL))
@@ -1023,7 +1056,7 @@ gboolean
 efflux_document_is_measuring (EffluxDocument *self)
 {
   g_return_val_if_fail (EFFLUX_IS_DOCUMENT (self), FALSE);
-  return self->loading || self->job_running || self->idle_id != 0;
+  return self->loading || self->job_running || self->idle_id != 0 || self->settle_id != 0;
 }
 
 const EffluxMeasureResult *
@@ -1050,6 +1083,7 @@ efflux_document_set_cubes (EffluxDocument *self,
     return FALSE;
   self->cubes = cubes;
   self->pending.full = TRUE;
+  self->pending.complete = TRUE;
   schedule_measure (self);
   return TRUE;
 }
@@ -1064,6 +1098,41 @@ efflux_document_get_cube (EffluxDocument *self,
   return g_hash_table_lookup (self->cubes, id);
 }
 
+/* The cubes the lobes need (as efflux_measure_load_cubes), through the cube store: a cube the
+ * window has read already is not read again. */
+static GHashTable *
+load_cubes_shared (const EffluxDossier  *d,
+                   GCancellable         *cancellable,
+                   GError              **error)
+{
+  g_autoptr(GHashTable) cubes = g_hash_table_new_full (g_str_hash, g_str_equal, g_free,
+                                                       (GDestroyNotify) efflux_cube_store_release);
+  EffluxCubeLoadOptions options = { 0 };
+
+  for (guint i = 0; i < d->cubes->len; i++)
+    {
+      const EffluxDossierCube *dc = g_ptr_array_index (d->cubes, i);
+      gboolean needed = dc->role == EFFLUX_CUBE_ROLE_ISOTOPOLOGUE
+                        && d->opacity == EFFLUX_OPACITY_FROM_ISOTOPOLOGUE;
+      EffluxCube *cube;
+
+      for (guint j = 0; j < d->lobes->len && !needed; j++)
+        if (g_str_equal (((EffluxDossierLobe *) g_ptr_array_index (d->lobes, j))->cube_id, dc->id))
+          needed = TRUE;
+      if (!needed)
+        continue;
+      options.no_noise = isfinite (dc->rms_k);
+      cube = efflux_cube_store_load (dc->abs_path, &options, cancellable, NULL, NULL, error);
+      if (cube == NULL)
+        {
+          g_prefix_error (error, "%s: [Cube %s] path: ", d->path, dc->id);
+          return NULL;
+        }
+      g_hash_table_insert (cubes, g_strdup (dc->id), cube);
+    }
+  return g_steal_pointer (&cubes);
+}
+
 static void
 load_worker (GTask        *task,
              gpointer      source_object,
@@ -1073,7 +1142,7 @@ load_worker (GTask        *task,
   Job *job = task_data;
   g_autoptr(GError) error = NULL;
 
-  job->cubes = efflux_measure_load_cubes (job->dossier, cancellable, &error);
+  job->cubes = load_cubes_shared (job->dossier, cancellable, &error);
   if (job->cubes == NULL)
     {
       g_task_return_error (task, g_steal_pointer (&error));
@@ -1163,6 +1232,7 @@ efflux_document_load_cubes_finish (EffluxDocument  *self,
     {
       /* edits made while the cubes were read: measure again from the start */
       self->pending.full = TRUE;
+      self->pending.complete = TRUE;
       schedule_measure (self);
     }
   else
@@ -1206,6 +1276,7 @@ efflux_document_dispose (GObject *object)
   EffluxDocument *self = EFFLUX_DOCUMENT (object);
 
   g_clear_handle_id (&self->idle_id, g_source_remove);
+  g_clear_handle_id (&self->settle_id, g_source_remove);
   G_OBJECT_CLASS (efflux_document_parent_class)->dispose (object);
 }
 

@@ -22,13 +22,18 @@ G_BEGIN_DECLS
  * is one command); while undoing or redoing nothing is recorded. "can-undo", "can-redo" and
  * "modified" are properties; "modified" is FALSE again after a save or after undoing back to it.
  *
- * The measurement: efflux_document_load_cubes_async reads the cubes the lobes need and prepares
+ * The measurement: efflux_document_load_cubes_async reads the cubes the lobes need (through the
+ * cube store, efflux-cube-store.h: a file the window has read is not read again) and prepares
  * the measurement (efflux-measure.h) off the UI thread. After each edit a job is scheduled once
  * per main-loop turn (so a burst of motion events makes one job) and runs in a GTask worker on a
- * copy of the dossier: outline changes rebuild that lobe's mask only, velocity ranges and
- * assumptions only re-finish, source position, clip or cube changes prepare again. A newer edit
- * cancels the running job and replaces it. "measured" is emitted on the main thread with the new
- * result (efflux_document_get_result).
+ * copy of the dossier: outline changes update that lobe's sums by difference (the pixels that
+ * entered or left the mask), velocity ranges and assumptions only re-finish, source position,
+ * clip or cube changes prepare again. A newer edit cancels a running preparation and replaces
+ * it. During a drag (edits with a merge id) the jobs leave out the broken power-law fit of the
+ * mass-velocity spectrum, which the ledger does not show and which is most of a finish; once no
+ * edit came for 120 ms a complete finish follows (efflux_document_is_measuring stays TRUE until
+ * then). "measured" is emitted on the main thread with each new result
+ * (efflux_document_get_result).
  *
  * Signals:
  *   changed (const char *group): the dossier changed; group is the key-file group of the last
