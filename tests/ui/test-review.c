@@ -1,0 +1,528 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* UI suite (under xvfb-run): the Review side sheet (src/app/efflux-review-sheet.c).
+ *
+ * Two dossiers of one source on one cube of 1 K everywhere (the layout of tests/test-compare.c):
+ * mine at 300 pc with blue-1 over pixels x 10..19, y 10..19; the colleague's at 600 pc with
+ * blue-1 over x 15..24 (half the side further) and a red lobe elsewhere. The checks are analytic:
+ * - two 10 x 10 pixel squares offset by half their side share 50 pixels: intersection over union
+ *   = 50 / (100 + 100 - 50) = 1/3;
+ * - mass is proportional to the pixel area, distance^2 x pixel solid angle (CONTRACT.md 4): the
+ *   same number of pixels of the same brightness at twice the distance has 4 x the mass, momentum
+ *   and energy; the squares are mirror images about the source's meridian (the TAN projection is
+ *   symmetric about the reference pixel's column), so rmax in au doubles and tdyn doubles;
+ * and the sheet shows what the core computes (efflux_compare_dossiers, called here directly).
+ * A dossier of another source is refused naming both files; the colleague's outlines go to the
+ * Sky view with their author; a note is one undoable command, survives save and reload (the
+ * colleague's dossier opens again from [Review] reviewed), and undo removes it; the reviewer's
+ * name is asked once. */
+#include "config.h"
+
+#include <gtk/gtk.h>
+#include <glib/gstdio.h>
+#include <math.h>
+#include <string.h>
+
+#include "efflux-compare.h"
+#include "efflux-cube.h"
+#include "efflux-dossier.h"
+#include "efflux-fitsout.h"
+#include "efflux-review.h"
+#include "efflux-review-sheet.h"
+#include "efflux-sample.h"
+#include "efflux-sky-view.h"
+#include "efflux-window.h"
+
+#define REST_12CO21 230.538e9
+#define RA0 83.8
+#define DEC0 -5.4
+#define NX 35
+#define NY 40
+
+typedef struct
+{
+  char       *dir;
+  EffluxCube *cube;
+  char       *mine;
+  char       *theirs;
+  char       *other;
+} Fixture;
+
+static void
+iterate (void)
+{
+  if (!g_main_context_iteration (NULL, FALSE))
+    g_usleep (2000);
+}
+
+static void
+spin (double seconds)
+{
+  gint64 end = g_get_monotonic_time () + (gint64) (seconds * G_USEC_PER_SEC);
+
+  while (g_get_monotonic_time () < end)
+    iterate ();
+}
+
+static void
+wait_loaded (EffluxWindow *window)
+{
+  gint64 deadline = g_get_monotonic_time () + 60 * G_USEC_PER_SEC;
+
+  while (efflux_window_is_loading (window) && g_get_monotonic_time () < deadline)
+    iterate ();
+  g_assert_false (efflux_window_is_loading (window));
+}
+
+static void
+wait_compared (EffluxReviewSheet *sheet)
+{
+  gint64 deadline = g_get_monotonic_time () + 60 * G_USEC_PER_SEC;
+
+  while (efflux_review_sheet_is_busy (sheet) && g_get_monotonic_time () < deadline)
+    iterate ();
+  g_assert_false (efflux_review_sheet_is_busy (sheet));
+}
+
+/* "ra,dec;..." of the pixel square whose pixel centres x0..x1, y0..y1 (inclusive) are inside. */
+static char *
+square (const EffluxCube *cube,
+        int x0, int y0,
+        int x1, int y1)
+{
+  double xs[4] = { x0 - 0.5, x1 + 0.5, x1 + 0.5, x0 - 0.5 };
+  double ys[4] = { y0 - 0.5, y0 - 0.5, y1 + 0.5, y1 + 0.5 };
+  GString *s = g_string_new (NULL);
+
+  for (int i = 0; i < 4; i++)
+    {
+      double ra, dec;
+      char a[G_ASCII_DTOSTR_BUF_SIZE], b[G_ASCII_DTOSTR_BUF_SIZE];
+
+      g_assert_true (efflux_cube_pixel_to_icrs (cube, xs[i], ys[i], &ra, &dec));
+      g_string_append_printf (s, "%s%s,%s", i ? ";" : "", g_ascii_formatd (a, sizeof a, "%.12f", ra),
+                              g_ascii_formatd (b, sizeof b, "%.12f", dec));
+    }
+  return g_string_free (s, FALSE);
+}
+
+static char *
+write_dossier (Fixture    *f,
+               const char *file,
+               const char *name,
+               double      distance_pc,
+               const char *lobes)
+{
+  double ra, dec;
+  char a[G_ASCII_DTOSTR_BUF_SIZE], b[G_ASCII_DTOSTR_BUF_SIZE];
+  g_autofree char *text = NULL;
+  g_autoptr(GError) error = NULL;
+  char *path = g_build_filename (f->dir, file, NULL);
+
+  /* the source on the reference pixel's column (x = 17) */
+  g_assert_true (efflux_cube_pixel_to_icrs (f->cube, 17.0, 5.0, &ra, &dec));
+  text = g_strdup_printf ("# a comment that must survive\n"
+                          "[Source]\nname=%s\nra-deg=%s\ndec-deg=%s\ndistance-pc=%g\nvsys-kms=0\n"
+                          "[Assumptions]\ntex-k=20\nco-abundance=1e-4\nmc-samples=0\n"
+                          "[Cube co]\npath=co.fits\nline=12CO 2-1\nrms-k=0.1\n%s",
+                          name, g_ascii_formatd (a, sizeof a, "%.12f", ra),
+                          g_ascii_formatd (b, sizeof b, "%.12f", dec), distance_pc, lobes);
+  g_assert_true (g_file_set_contents (path, text, -1, &error));
+  g_assert_no_error (error);
+  return path;
+}
+
+static char *
+lobe (const char *name,
+      const char *kind,
+      const char *polygon,
+      const char *velocity,
+      const char *author)
+{
+  return g_strdup_printf ("[Lobe %s]\nkind=%s\ncube=co\npolygon=%s\nvelocity-kms=%s\nauthor=%s\n",
+                          name, kind, polygon, velocity, author);
+}
+
+static void
+fixture_set_up (Fixture      *f,
+                gconstpointer data)
+{
+  g_autoptr(GError) error = NULL;
+  g_autofree char *path = NULL;
+  g_autofree char *a = NULL, *b = NULL, *c = NULL, *d = NULL;
+  g_autofree char *m1 = NULL, *m2 = NULL, *t1 = NULL, *t2 = NULL, *o1 = NULL;
+  g_autofree char *mine = NULL, *theirs = NULL;
+
+  f->dir = g_dir_make_tmp ("efflux-review-XXXXXX", &error);
+  g_assert_no_error (error);
+  f->cube = efflux_cube_new_simple (NX, NY, 12, RA0, DEC0, 2.0, -5.5, 1.0, REST_12CO21);
+  g_assert_nonnull (f->cube);
+  for (gsize i = 0; i < (gsize) NX * NY * 12; i++)
+    f->cube->data[i] = 1.0f;
+  path = g_build_filename (f->dir, "co.fits", NULL);
+  g_assert_true (efflux_fits_write_cube (f->cube, path, NULL, &error));
+  g_assert_no_error (error);
+
+  a = square (f->cube, 10, 10, 19, 19);
+  b = square (f->cube, 15, 10, 24, 19);
+  c = square (f->cube, 10, 25, 19, 34);
+  d = square (f->cube, 26, 2, 30, 6);
+  m1 = lobe ("blue-1", "blue", a, "-5.5;-0.5", "Me");
+  m2 = lobe ("red-1", "red", c, "0.5;5.5", "Me");
+  t1 = lobe ("blue-1", "blue", b, "-5.5;-0.5", "A. Colleague");
+  t2 = lobe ("R-far", "red", d, "0.5;5.5", "A. Colleague");
+  o1 = lobe ("blue-1", "blue", a, "-5.5;-0.5", "Someone");
+  mine = g_strconcat (m1, m2, NULL);
+  theirs = g_strconcat (t1, t2, NULL);
+  /* the same source, written a little differently by the colleague */
+  f->mine = write_dossier (f, "mine.efflux", "Test Source 1", 300, mine);
+  f->theirs = write_dossier (f, "theirs.efflux", "test source 1", 600, theirs);
+  f->other = write_dossier (f, "other.efflux", "Another Source", 300, o1);
+}
+
+static void
+fixture_tear_down (Fixture      *f,
+                   gconstpointer data)
+{
+  g_autoptr(GDir) d = g_dir_open (f->dir, 0, NULL);
+  const char *name;
+
+  while (d != NULL && (name = g_dir_read_name (d)) != NULL)
+    {
+      g_autofree char *p = g_build_filename (f->dir, name, NULL);
+
+      g_assert_cmpint (g_unlink (p), ==, 0);
+    }
+  g_assert_cmpint (g_rmdir (f->dir), ==, 0);
+  g_free (f->dir);
+  g_free (f->mine);
+  g_free (f->theirs);
+  g_free (f->other);
+  efflux_cube_free (f->cube);
+}
+
+static EffluxWindow *
+open_window (const char *path)
+{
+  g_autoptr(GFile) file = g_file_new_for_path (path);
+  EffluxWindow *window = efflux_window_new (NULL);
+
+  gtk_window_set_default_size (GTK_WINDOW (window), 1300, 720);
+  gtk_window_present (GTK_WINDOW (window));
+  efflux_window_open (window, file);
+  wait_loaded (window);
+  g_assert_nonnull (efflux_window_get_document (window));
+  return window;
+}
+
+static int
+find_row (EffluxReviewSheet *sheet,
+          const char        *mine,
+          const char        *theirs)
+{
+  const EffluxComparison *c = efflux_review_sheet_get_comparison (sheet);
+
+  g_assert_nonnull (c);
+  g_assert_cmpuint (efflux_review_sheet_get_n_rows (sheet), ==, c->rows->len);
+  for (guint i = 0; i < c->rows->len; i++)
+    {
+      const EffluxCompareRow *r = g_ptr_array_index (c->rows, i);
+
+      if (g_strcmp0 (r->mine, mine) == 0 && g_strcmp0 (r->theirs, theirs) == 0)
+        return (int) i;
+    }
+  g_error ("no row %s / %s", mine ? mine : "-", theirs ? theirs : "-");
+  return -1;
+}
+
+static void
+test_compare_and_notes (Fixture      *f,
+                        gconstpointer data)
+{
+  g_autoptr(GError) error = NULL;
+  g_autoptr(EffluxDossier) mine = NULL;
+  g_autoptr(EffluxDossier) theirs = NULL;
+  g_autoptr(EffluxComparison) core = NULL;
+  g_autofree char *canon_theirs = g_canonicalize_filename (f->theirs, NULL);
+  EffluxWindow *window;
+  EffluxReviewSheet *sheet;
+  EffluxDocument *document;
+  EffluxSkyView *view;
+  const EffluxCompareRow *r;
+  EffluxReviewStatus status;
+  int i;
+  guint n_undo;
+
+  window = open_window (f->mine);
+  sheet = efflux_window_get_review_sheet (window);
+  view = efflux_window_get_sky_view (window);
+  document = efflux_window_get_document (window);
+  g_assert_nonnull (sheet);
+  g_assert_null (efflux_review_sheet_get_colleague (sheet));
+  g_assert_cmpuint (efflux_sky_view_get_n_overlay_lobes (view), ==, 0);
+
+  /* another source: refused, naming both files; nothing drawn */
+  g_assert_false (efflux_review_sheet_open (sheet, f->other, &error));
+  g_assert_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT);
+  g_test_message ("refused: %s", error->message);
+  g_assert_nonnull (strstr (error->message, "other.efflux"));
+  g_assert_nonnull (strstr (error->message, "mine.efflux"));
+  g_assert_nonnull (strstr (error->message, "Another Source"));
+  g_assert_cmpstr (efflux_review_sheet_get_message (sheet), ==, error->message);
+  g_assert_null (efflux_review_sheet_get_colleague (sheet));
+  g_assert_cmpuint (efflux_sky_view_get_n_overlay_lobes (view), ==, 0);
+  g_clear_error (&error);
+
+  /* the colleague's dossier: compared in a worker; outlines on the Sky view with the author */
+  /* the header toggle: review.show reveals the sheet */
+  g_assert_false (gtk_revealer_get_reveal_child (GTK_REVEALER (gtk_widget_get_first_child (GTK_WIDGET (sheet)))));
+  g_assert_true (gtk_widget_activate_action (GTK_WIDGET (window), "review.show", NULL));
+  g_assert_true (gtk_revealer_get_reveal_child (GTK_REVEALER (gtk_widget_get_first_child (GTK_WIDGET (sheet)))));
+  g_assert_true (efflux_review_sheet_open (sheet, f->theirs, &error));
+  g_assert_no_error (error);
+  g_assert_true (efflux_review_sheet_is_busy (sheet));
+  wait_compared (sheet);
+  g_assert_null (efflux_review_sheet_get_message (sheet));
+  g_assert_cmpstr (efflux_review_sheet_get_colleague (sheet), ==, canon_theirs);
+  g_assert_cmpstr (efflux_review_sheet_get_author (sheet), ==, "A. Colleague");
+  g_assert_cmpstr (efflux_sky_view_get_overlay_author (view), ==, "A. Colleague");
+  g_assert_cmpuint (efflux_sky_view_get_n_overlay_lobes (view), ==, 2);
+
+  /* the core, here: the sheet shows its rows and numbers */
+  mine = efflux_dossier_load (f->mine, &error);
+  g_assert_no_error (error);
+  theirs = efflux_dossier_load (f->theirs, &error);
+  g_assert_no_error (error);
+  core = efflux_compare_dossiers (mine, theirs, NULL, &error);
+  g_assert_no_error (error);
+  g_assert_cmpuint (efflux_review_sheet_get_n_rows (sheet), ==, core->rows->len);
+  /* blue-1 by name, red-1 alone (R-far overlaps nothing), R-far alone */
+  g_assert_cmpuint (core->rows->len, ==, 3);
+  i = find_row (sheet, "blue-1", "blue-1");
+  r = g_ptr_array_index (efflux_review_sheet_get_comparison (sheet)->rows, i);
+  g_assert_cmpint (r->match, ==, EFFLUX_MATCH_NAME);
+  g_assert_cmpuint (r->n_mine, ==, 100);
+  g_assert_cmpuint (r->n_theirs, ==, 100);
+  g_assert_cmpuint (r->n_both, ==, 50);
+  /* 50 / (100 + 100 - 50) = 1/3, analytic */
+  g_assert_cmpfloat_with_epsilon (r->iou, 1.0 / 3.0, 1e-15);
+  g_assert_cmpfloat (r->iou, ==, ((const EffluxCompareRow *) g_ptr_array_index (core->rows, i))->iou);
+  g_assert_cmpfloat (r->dv1_kms, ==, 0.0);
+  g_assert_cmpfloat (r->dv2_kms, ==, 0.0);
+  /* distance x 2: mass, momentum, energy x 4; tdyn x 2 (see the top) */
+  g_assert_cmpfloat_with_epsilon (r->ratio[EFFLUX_RATIO_MASS], 4.0, 1e-9);
+  g_assert_cmpfloat_with_epsilon (r->ratio[EFFLUX_RATIO_MOMENTUM], 4.0, 1e-9);
+  g_assert_cmpfloat_with_epsilon (r->ratio[EFFLUX_RATIO_ENERGY], 4.0, 1e-9);
+  g_assert_cmpfloat_with_epsilon (r->ratio[EFFLUX_RATIO_TDYN], 2.0, 1e-9);
+  g_test_message ("row: %s", efflux_review_sheet_get_row_text (sheet, (guint) i));
+  g_assert_nonnull (strstr (efflux_review_sheet_get_row_text (sheet, (guint) i), "blue-1 ↔ blue-1 (by name)"));
+  g_assert_nonnull (strstr (efflux_review_sheet_get_row_text (sheet, (guint) i), "IoU 0.333"));
+  g_assert_nonnull (strstr (efflux_review_sheet_get_row_text (sheet, (guint) i), "mass ×4 "));
+  g_assert_nonnull (strstr (efflux_review_sheet_get_row_text (sheet, (guint) i), "tdyn ×2"));
+  g_assert_false (efflux_review_sheet_get_row_status (sheet, (guint) i, NULL));
+  g_assert_cmpstr (efflux_review_sheet_get_row_note (sheet, (guint) i), ==, "");
+  i = find_row (sheet, NULL, "R-far");
+  g_assert_nonnull (strstr (efflux_review_sheet_get_row_text (sheet, (guint) i), "R-far: only theirs"));
+
+  /* a note: one command that writes the core's review groups into my dossier */
+  efflux_review_sheet_set_reviewer (sheet, "A. Reviewer");
+  n_undo = efflux_document_get_n_undo (document);
+  g_assert_false (efflux_document_get_modified (document));
+  g_assert_true (efflux_review_sheet_set_note (sheet, "blue-1", TRUE, EFFLUX_REVIEW_QUESTIONED,
+                                               "takes in the ambient cloud to the east", &error));
+  g_assert_no_error (error);
+  g_assert_cmpuint (efflux_document_get_n_undo (document), ==, n_undo + 1);
+  g_assert_true (efflux_document_get_modified (document));
+  {
+    g_autoptr(EffluxReview) review = efflux_review_read (efflux_document_get_dossier (document), &error);
+    const EffluxReviewNote *n;
+
+    g_assert_no_error (error);
+    g_assert_cmpstr (review->reviewer, ==, "A. Reviewer");
+    /* the colleague's dossier, relative to mine (the same folder) */
+    g_assert_cmpstr (review->reviewed, ==, "theirs.efflux");
+    g_assert_cmpuint (review->notes->len, ==, 1);
+    n = efflux_review_find (review, "blue-1");
+    g_assert_nonnull (n);
+    g_assert_cmpint (n->status, ==, EFFLUX_REVIEW_QUESTIONED);
+    g_assert_cmpstr (n->note, ==, "takes in the ambient cloud to the east");
+    g_assert_cmpstr (n->mine, ==, "blue-1");
+    g_assert_nonnull (n->date);
+    /* and the source reads as reviewed in a sample */
+    g_assert_cmpint (efflux_sample_state (efflux_document_get_dossier (document)->keyfile), ==,
+                     EFFLUX_SOURCE_REVIEWED);
+  }
+  i = find_row (sheet, "blue-1", "blue-1");
+  g_assert_true (efflux_review_sheet_get_row_status (sheet, (guint) i, &status));
+  g_assert_cmpint (status, ==, EFFLUX_REVIEW_QUESTIONED);
+  g_assert_cmpstr (efflux_review_sheet_get_row_note (sheet, (guint) i), ==,
+                   "takes in the ambient cloud to the east");
+
+  /* undo removes it, all of it, in one step; redo brings it back */
+  g_assert_true (efflux_document_undo (document));
+  {
+    g_autoptr(EffluxReview) review = efflux_review_read (efflux_document_get_dossier (document), &error);
+
+    g_assert_no_error (error);
+    g_assert_cmpuint (review->notes->len, ==, 0);
+    g_assert_null (review->reviewer);
+    g_assert_cmpint (efflux_sample_state (efflux_document_get_dossier (document)->keyfile), ==,
+                     EFFLUX_SOURCE_NOT_MEASURED);
+  }
+  g_assert_false (efflux_document_get_modified (document));
+  g_assert_false (efflux_review_sheet_get_row_status (sheet, (guint) i, NULL));
+  g_assert_cmpstr (efflux_review_sheet_get_row_note (sheet, (guint) i), ==, "");
+  g_assert_true (efflux_document_redo (document));
+  g_assert_true (efflux_review_sheet_get_row_status (sheet, (guint) i, &status));
+  g_assert_cmpint (status, ==, EFFLUX_REVIEW_QUESTIONED);
+
+  /* a status change on the same lobe: one more command; "no note" removes it (and undo of that
+   * brings it back) */
+  g_assert_true (efflux_review_sheet_set_note (sheet, "blue-1", TRUE, EFFLUX_REVIEW_CHANGED,
+                                               "redrawn on my side", &error));
+  g_assert_no_error (error);
+  g_assert_cmpuint (efflux_document_get_n_undo (document), ==, n_undo + 2);
+  g_assert_true (efflux_review_sheet_set_note (sheet, "blue-1", FALSE, EFFLUX_REVIEW_AGREED, "", &error));
+  g_assert_no_error (error);
+  g_assert_false (efflux_review_sheet_get_row_status (sheet, (guint) i, NULL));
+  g_assert_true (efflux_document_undo (document));
+  g_assert_true (efflux_review_sheet_get_row_status (sheet, (guint) i, &status));
+  g_assert_cmpint (status, ==, EFFLUX_REVIEW_CHANGED);
+  g_assert_cmpstr (efflux_review_sheet_get_row_note (sheet, (guint) i), ==, "redrawn on my side");
+
+  /* save, then open the dossier again: the note is kept, the colleague's dossier opens again */
+  g_assert_true (efflux_document_save (document, NULL, &error));
+  g_assert_no_error (error);
+  gtk_window_destroy (GTK_WINDOW (window));
+  spin (0.1);
+  {
+    g_autofree char *text = NULL;
+
+    g_assert_true (g_file_get_contents (f->mine, &text, NULL, NULL));
+    g_assert_nonnull (strstr (text, "# a comment that must survive"));
+    g_assert_nonnull (strstr (text, "[Review blue-1]"));
+    g_assert_nonnull (strstr (text, "note=redrawn on my side"));
+  }
+  window = open_window (f->mine);
+  sheet = efflux_window_get_review_sheet (window);
+  view = efflux_window_get_sky_view (window);
+  g_assert_cmpstr (efflux_review_sheet_get_colleague (sheet), ==, canon_theirs);
+  wait_compared (sheet);
+  g_assert_cmpstr (efflux_sky_view_get_overlay_author (view), ==, "A. Colleague");
+  i = find_row (sheet, "blue-1", "blue-1");
+  g_assert_true (efflux_review_sheet_get_row_status (sheet, (guint) i, &status));
+  g_assert_cmpint (status, ==, EFFLUX_REVIEW_CHANGED);
+  g_assert_cmpstr (efflux_review_sheet_get_row_note (sheet, (guint) i), ==, "redrawn on my side");
+  g_assert_false (efflux_document_get_modified (efflux_window_get_document (window)));
+
+  /* stop reviewing: the outlines go, the notes stay */
+  g_assert_true (gtk_widget_activate_action (GTK_WIDGET (window), "review.stop", NULL));
+  g_assert_null (efflux_review_sheet_get_colleague (sheet));
+  g_assert_cmpuint (efflux_sky_view_get_n_overlay_lobes (view), ==, 0);
+  g_assert_cmpuint (efflux_review_sheet_get_n_rows (sheet), ==, 0);
+  g_assert_false (efflux_document_get_modified (efflux_window_get_document (window)));
+
+  gtk_window_destroy (GTK_WINDOW (window));
+  spin (0.1);
+}
+
+static GtkDialog *
+find_dialog (void)
+{
+  g_autoptr(GList) windows = gtk_window_list_toplevels ();
+
+  for (GList *l = windows; l != NULL; l = l->next)
+    if (GTK_IS_DIALOG (l->data) && gtk_widget_get_visible (l->data))
+      return l->data;
+  return NULL;
+}
+
+static GtkEditable *
+find_entry (GtkWidget *widget)
+{
+  if (GTK_IS_ENTRY (widget))
+    return GTK_EDITABLE (widget);
+  for (GtkWidget *c = gtk_widget_get_first_child (widget); c != NULL; c = gtk_widget_get_next_sibling (c))
+    {
+      GtkEditable *e = find_entry (c);
+
+      if (e != NULL)
+        return e;
+    }
+  return NULL;
+}
+
+/* No reviewer known: the first note asks for the name (default: the real name, or the user name
+ * when the system knows none); the answer signs that note; the next note does not ask. */
+static void
+test_reviewer_asked_once (Fixture      *f,
+                          gconstpointer data)
+{
+  g_autoptr(GError) error = NULL;
+  EffluxWindow *window = open_window (f->mine);
+  EffluxReviewSheet *sheet = efflux_window_get_review_sheet (window);
+  EffluxDocument *document = efflux_window_get_document (window);
+  GtkDialog *dialog;
+  GtkEditable *entry;
+  const char *real = g_get_real_name ();
+
+  g_assert_true (efflux_review_sheet_open (sheet, f->theirs, &error));
+  g_assert_no_error (error);
+  wait_compared (sheet);
+  g_assert_null (find_dialog ());
+  /* not written yet: the name is asked */
+  g_assert_false (efflux_review_sheet_set_note (sheet, "blue-1", TRUE, EFFLUX_REVIEW_AGREED, "fine", &error));
+  g_assert_no_error (error);
+  g_assert_false (efflux_document_get_modified (document));
+  spin (0.1);
+  dialog = find_dialog ();
+  g_assert_nonnull (dialog);
+  entry = find_entry (GTK_WIDGET (dialog));
+  g_assert_nonnull (entry);
+  g_assert_cmpstr (gtk_editable_get_text (entry), ==,
+                   g_strcmp0 (real, "Unknown") != 0 && *real != '\0' ? real : g_get_user_name ());
+  gtk_editable_set_text (entry, "B. Checker");
+  gtk_dialog_response (dialog, GTK_RESPONSE_ACCEPT);
+  spin (0.1);
+  g_assert_null (find_dialog ());
+  {
+    g_autoptr(EffluxReview) review = efflux_review_read (efflux_document_get_dossier (document), &error);
+
+    g_assert_no_error (error);
+    g_assert_cmpstr (review->reviewer, ==, "B. Checker");
+    g_assert_cmpint (efflux_review_find (review, "blue-1")->status, ==, EFFLUX_REVIEW_AGREED);
+    g_assert_cmpstr (efflux_review_find (review, "blue-1")->note, ==, "fine");
+  }
+  /* the second note: no question */
+  g_assert_true (efflux_review_sheet_set_note (sheet, "R-far", TRUE, EFFLUX_REVIEW_QUESTIONED,
+                                               "no emission there", &error));
+  g_assert_no_error (error);
+  spin (0.05);
+  g_assert_null (find_dialog ());
+  {
+    g_autoptr(EffluxReview) review = efflux_review_read (efflux_document_get_dossier (document), &error);
+
+    g_assert_no_error (error);
+    g_assert_cmpuint (review->notes->len, ==, 2);
+    g_assert_cmpstr (efflux_review_find (review, "R-far")->note, ==, "no emission there");
+    /* R-far was matched with none of mine */
+    g_assert_null (efflux_review_find (review, "R-far")->mine);
+  }
+  /* closing with unsaved notes asks; leave without saving */
+  efflux_document_undo (document);
+  efflux_document_undo (document);
+  g_assert_false (efflux_document_get_modified (document));
+  gtk_window_destroy (GTK_WINDOW (window));
+  spin (0.1);
+}
+
+int
+main (int   argc,
+      char *argv[])
+{
+  gtk_test_init (&argc, &argv, NULL);
+  g_test_add ("/review/compare-and-notes", Fixture, NULL, fixture_set_up, test_compare_and_notes,
+              fixture_tear_down);
+  g_test_add ("/review/reviewer-asked-once", Fixture, NULL, fixture_set_up, test_reviewer_asked_once,
+              fixture_tear_down);
+  return g_test_run ();
+}
