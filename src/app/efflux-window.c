@@ -9,6 +9,7 @@
 #include "efflux-assumptions.h"
 #include "efflux-autosave.h"
 #include "efflux-banner.h"
+#include "efflux-cube-store.h"
 #include "efflux-cut-view.h"
 #include "efflux-ledger.h"
 #include "efflux-spectrum-view.h"
@@ -624,11 +625,19 @@ efflux_window_get_assumptions (EffluxWindow *self)
 
 /* ---- loading a cube and its first map, off the UI thread ---- */
 
+static void commit_dossier (EffluxWindow *self, const char *path, EffluxDocument *document,
+                            const char *shown_id);
+static void commit_bare_cube (EffluxWindow *self, const char *path);
+
 typedef struct
 {
   char     *path;
   gboolean  has_range;
   double    v1, v2;
+  /* what becomes the window's when the cube is there (open_path NULL: only the map changes) */
+  char           *open_path;   /* the dossier or bare cube opened */
+  EffluxDocument *document;    /* the dossier's document; NULL for a bare cube */
+  char           *shown_id;    /* the dossier's cube shown */
 } LoadRequest;
 
 typedef struct
@@ -638,12 +647,30 @@ typedef struct
   double      v1, v2;
 } LoadResult;
 
+static LoadRequest *
+load_request_new (const char *path,
+                  gboolean    has_range,
+                  double      v1,
+                  double      v2)
+{
+  LoadRequest *request = g_new0 (LoadRequest, 1);
+
+  request->path = g_strdup (path);
+  request->has_range = has_range;
+  request->v1 = v1;
+  request->v2 = v2;
+  return request;
+}
+
 static void
 load_request_free (gpointer data)
 {
   LoadRequest *request = data;
 
   g_free (request->path);
+  g_free (request->open_path);
+  g_clear_object (&request->document);
+  g_free (request->shown_id);
   g_free (request);
 }
 
@@ -652,7 +679,7 @@ load_result_free (gpointer data)
 {
   LoadResult *result = data;
 
-  g_clear_pointer (&result->cube, efflux_cube_free);
+  g_clear_pointer (&result->cube, efflux_cube_store_release);
   g_free (result->map);
   g_free (result);
 }
@@ -668,7 +695,8 @@ load_worker (GTask        *task,
   g_autoptr(GError) error = NULL;
   LoadResult *result = g_new0 (LoadResult, 1);
 
-  result->cube = efflux_cube_load (request->path, NULL, cancellable, load_progress, self, &error);
+  /* through the store: the document's measurement takes the same cube (cubes_loaded) */
+  result->cube = efflux_cube_store_load (request->path, NULL, cancellable, load_progress, self, &error);
   if (result->cube == NULL)
     {
       load_result_free (result);
@@ -729,6 +757,7 @@ load_done (GObject      *object,
   g_autoptr(GError) error = NULL;
   LoadResult *result;
   EffluxCube *old;
+  LoadRequest *request = g_task_get_task_data (G_TASK (res));
 
   result = g_task_propagate_pointer (G_TASK (res), &error);
   if (g_task_get_cancellable (G_TASK (res)) != self->cancellable)
@@ -749,8 +778,14 @@ load_done (GObject      *object,
         }
       else
         gtk_label_set_text (self->detail_label, _("Loading cancelled."));
+      /* the dossier, map and cube shown before stay as they were */
       return;
     }
+
+  if (request->open_path != NULL && request->document != NULL)
+    commit_dossier (self, request->open_path, request->document, request->shown_id);
+  else if (request->open_path != NULL)
+    commit_bare_cube (self, request->open_path);
 
   /* the view borrows the cube: give it the new one before the old one goes */
   old = self->cube;
@@ -760,7 +795,7 @@ load_done (GObject      *object,
                            _("K km/s"));
   efflux_spectrum_view_set_cube (self->spectrum_view, self->cube, self->shown_cube_id);
   if (old != self->cut_cube)
-    g_clear_pointer (&old, efflux_cube_free);
+    g_clear_pointer (&old, efflux_cube_store_release);
   show_loading (self, FALSE);
   sync_views (self, NULL);
   sync_lobe_spectrum (self);
@@ -800,16 +835,14 @@ load_done (GObject      *object,
   load_result_free (result);
 }
 
+/* Read request->path and its first map off the UI thread (takes request). A newer load cancels
+ * this one. */
 static void
 start_load (EffluxWindow *self,
-            const char   *path,
-            gboolean      has_range,
-            double        v1,
-            double        v2)
+            LoadRequest  *request)
 {
   g_autoptr(GTask) task = NULL;
-  LoadRequest *request = g_new0 (LoadRequest, 1);
-  g_autofree char *base = g_path_get_basename (path);
+  g_autofree char *base = g_path_get_basename (request->path);
   g_autofree char *text = NULL;
 
   if (self->cancellable != NULL)
@@ -824,10 +857,6 @@ start_load (EffluxWindow *self,
   gtk_label_set_text (self->detail_label, text);
   show_loading (self, TRUE);
 
-  request->path = g_strdup (path);
-  request->has_range = has_range;
-  request->v1 = v1;
-  request->v2 = v2;
   task = g_task_new (self, self->cancellable, load_done, g_object_ref (self));
   g_task_set_source_tag (task, start_load);
   g_task_set_task_data (task, request, load_request_free);
@@ -884,26 +913,16 @@ efflux_window_get_review_sheet (EffluxWindow *self)
   return self->review_sheet;
 }
 
-/* The cube the window shows first: the dossier's first tracer (else its first cube), and the
- * velocity range of the first lobe drawn on it. */
+/* An opened dossier becomes the window's once its cube is on screen (load_done): a load that is
+ * cancelled or fails leaves the dossier and map shown before as they were. */
 static void
-open_dossier (EffluxWindow *self,
-              const char   *path)
+commit_dossier (EffluxWindow   *self,
+                const char     *path,
+                EffluxDocument *document,
+                const char     *shown_id)
 {
-  g_autoptr(GError) error = NULL;
-  g_autoptr(EffluxDocument) document = NULL;
-  const EffluxDossier *dossier;
-  EffluxDossierCube *shown = NULL;
-  EffluxDossierLobe *lobe = NULL;
+  const EffluxDossier *dossier = efflux_document_get_dossier (document);
 
-  document = efflux_document_load (path, &error);
-  if (document == NULL)
-    {
-      gtk_label_set_text (self->detail_label, error->message);
-      efflux_window_show_error (self, error->message);
-      return;
-    }
-  dossier = efflux_document_get_dossier (document);
   g_free (self->source_name);
   self->source_name = g_strdup (dossier->name);
   set_document (self, document);
@@ -926,7 +945,45 @@ open_dossier (EffluxWindow *self,
 
     show_source_row (self, path, dossier->name, detail);
   }
+  efflux_sky_view_set_cube_id (self->sky_view, shown_id);
+  g_free (self->shown_cube_id);
+  self->shown_cube_id = g_strdup (shown_id);
+}
 
+/* A bare cube: no dossier, no source (once the cube is read). */
+static void
+commit_bare_cube (EffluxWindow *self,
+                  const char   *path)
+{
+  g_autofree char *base = g_path_get_basename (path);
+
+  set_document (self, NULL);
+  efflux_sky_view_set_cube_id (self->sky_view, NULL);
+  g_clear_pointer (&self->shown_cube_id, g_free);
+  show_source_row (self, path, base, _("FITS cube, no dossier"));
+}
+
+/* The cube the window shows first: the dossier's first tracer (else its first cube), and the
+ * velocity range of the first lobe drawn on it. */
+static void
+open_dossier (EffluxWindow *self,
+              const char   *path)
+{
+  g_autoptr(GError) error = NULL;
+  g_autoptr(EffluxDocument) document = NULL;
+  const EffluxDossier *dossier;
+  EffluxDossierCube *shown = NULL;
+  EffluxDossierLobe *lobe = NULL;
+  LoadRequest *request;
+
+  document = efflux_document_load (path, &error);
+  if (document == NULL)
+    {
+      gtk_label_set_text (self->detail_label, error->message);
+      efflux_window_show_error (self, error->message);
+      return;
+    }
+  dossier = efflux_document_get_dossier (document);
   for (guint i = 0; i < dossier->cubes->len && shown == NULL; i++)
     {
       EffluxDossierCube *c = g_ptr_array_index (dossier->cubes, i);
@@ -936,12 +993,12 @@ open_dossier (EffluxWindow *self,
     }
   if (shown == NULL && dossier->cubes->len > 0)
     shown = g_ptr_array_index (dossier->cubes, 0);
-  efflux_sky_view_set_cube_id (self->sky_view, shown ? shown->id : NULL);
-  g_free (self->shown_cube_id);
-  self->shown_cube_id = g_strdup (shown ? shown->id : NULL);
   if (shown == NULL)
     {
       g_autofree char *msg = g_strdup_printf (_("%s: the dossier names no cube"), path);
+
+      /* nothing to read: the dossier is the window's now, without a map */
+      commit_dossier (self, path, document, NULL);
       gtk_label_set_text (self->detail_label, msg);
       efflux_window_show_error (self, msg);
       return;
@@ -953,10 +1010,12 @@ open_dossier (EffluxWindow *self,
       if (g_strcmp0 (l->cube_id, shown->id) == 0)
         lobe = l;
     }
-  if (lobe != NULL)
-    start_load (self, shown->abs_path, TRUE, lobe->v1_kms, lobe->v2_kms);
-  else
-    start_load (self, shown->abs_path, FALSE, 0, 0);
+  request = load_request_new (shown->abs_path, lobe != NULL, lobe ? lobe->v1_kms : 0,
+                              lobe ? lobe->v2_kms : 0);
+  request->open_path = g_strdup (path);
+  request->document = g_object_ref (document);
+  request->shown_id = g_strdup (shown->id);
+  start_load (self, request);
 }
 
 void
@@ -992,16 +1051,13 @@ efflux_window_open (EffluxWindow *self,
       open_dossier (self, path);
       return;
     }
-  /* a bare cube: no dossier, no source */
-  set_document (self, NULL);
-  efflux_sky_view_set_cube_id (self->sky_view, NULL);
-  g_clear_pointer (&self->shown_cube_id, g_free);
+  /* a bare cube: no dossier, no source, once it is read */
   {
-    g_autofree char *base = g_path_get_basename (path);
+    LoadRequest *request = load_request_new (path, FALSE, 0, 0);
 
-    show_source_row (self, path, base, _("FITS cube, no dossier"));
+    request->open_path = g_strdup (path);
+    start_load (self, request);
   }
-  start_load (self, path, FALSE, 0, 0);
 }
 
 gboolean
@@ -1429,8 +1485,8 @@ efflux_window_finalize (GObject *object)
   EffluxWindow *self = EFFLUX_WINDOW (object);
 
   if (self->cut_cube != self->cube)
-    g_clear_pointer (&self->cut_cube, efflux_cube_free);
-  g_clear_pointer (&self->cube, efflux_cube_free);
+    g_clear_pointer (&self->cut_cube, efflux_cube_store_release);
+  g_clear_pointer (&self->cube, efflux_cube_store_release);
   g_free (self->source_name);
   g_free (self->spectrum_lobe);
   g_free (self->shown_cube_id);
