@@ -39,7 +39,17 @@ struct _EffluxCutView
   const EffluxCube   *grid;          /* borrowed */
   const EffluxCube  **cubes;         /* the set's cubes (borrowed) when it was made here, or NULL */
   GPtrArray          *contours;      /* per cut: GPtrArray of EffluxPolyline *, NULL for the image */
+  GPtrArray          *levels;        /* per cut: GArray of double (the levels traced), or NULL */
+  GArray             *sigma;         /* per cut: the noise given with the set (double), or NULL */
   GArray             *multiples;     /* double */
+
+  /* fitted shells */
+  gsize               shell_n[2];
+  double             *shell_x[2], *shell_v[2];
+  EffluxLobeKind      shell_kind[2];
+  GArray             *shell_spurs;   /* EffluxShellSpur, offsets from the source */
+  double              shell_src;     /* the fit's source offset */
+  char               *shell_note;    /* failed lobes, for the legend */
 
   /* the image */
   EffluxColormapKind  colormap;
@@ -98,6 +108,8 @@ static const double contour_colours[][3] = {
   { 0.35, 1.0, 0.45 },
   { 1.0, 0.45, 1.0 },
 };
+
+static void clear_shells (EffluxCutView *self);
 
 static void
 invalidate (EffluxCutView *self)
@@ -254,12 +266,21 @@ free_lines (gpointer data)
 }
 
 static void
+free_levels (GArray *levels)
+{
+  if (levels != NULL)
+    g_array_unref (levels);
+}
+
+static void
 trace_contours (EffluxCutView *self)
 {
   g_clear_pointer (&self->contours, g_ptr_array_unref);
+  g_clear_pointer (&self->levels, g_ptr_array_unref);
   if (self->set == NULL)
     return;
   self->contours = g_ptr_array_new_with_free_func (free_lines);
+  self->levels = g_ptr_array_new_with_free_func ((GDestroyNotify) free_levels);
   for (guint i = 0; i < self->set->n_cubes; i++)
     {
       const EffluxPv *pv = self->set->cuts[i];
@@ -268,13 +289,19 @@ trace_contours (EffluxCutView *self)
       double sigma = NAN;
 
       g_ptr_array_add (self->contours, NULL);
+      g_ptr_array_add (self->levels, NULL);
       if (i == self->image)
         continue;
-      /* the noise of the cube this cut came from: known when the set was made here, and for
-       * cut 0 (the grid cube) */
-      cube = self->cubes != NULL ? self->cubes[i] : (i == 0 ? self->grid : NULL);
-      if (cube != NULL)
-        sigma = efflux_kinematics_pv_sigma (cube);
+      /* the noise of the cube this cut came from: given with the set, known when the set was
+       * made here, and for cut 0 (the grid cube) */
+      if (self->sigma != NULL && i < self->sigma->len)
+        sigma = g_array_index (self->sigma, double, i);
+      else
+        {
+          cube = self->cubes != NULL ? self->cubes[i] : (i == 0 ? self->grid : NULL);
+          if (cube != NULL)
+            sigma = efflux_kinematics_pv_sigma (cube);
+        }
       if (!isfinite (sigma))
         {
           /* no cube noise known: the spread of the PV itself (its 16-84 percentile half-width) */
@@ -292,6 +319,12 @@ trace_contours (EffluxCutView *self)
       g_ptr_array_index (self->contours, i) =
         efflux_contour_trace_levels (pv->data, pv->n_offsets, pv->nchan, levels,
                                      self->multiples->len);
+      {
+        GArray *lv = g_array_new (FALSE, FALSE, sizeof (double));
+
+        g_array_append_vals (lv, levels, self->multiples->len);
+        g_ptr_array_index (self->levels, i) = lv;
+      }
     }
 }
 
@@ -323,6 +356,7 @@ install_set (EffluxCutView      *self,
   self->names = names != NULL ? g_strdupv ((char **) names) : NULL;
   self->image = image;
   self->grid = grid;
+  clear_shells (self);
   recolour (self);
   trace_contours (self);
   place_source (self);
@@ -340,7 +374,125 @@ efflux_cut_view_set_pv_set (EffluxCutView      *self,
   g_return_if_fail (set == NULL || image < set->n_cubes);
 
   g_clear_pointer (&self->cubes, g_free);
+  g_clear_pointer (&self->sigma, g_array_unref);
   install_set (self, set, names, image, grid);
+}
+
+void
+efflux_cut_view_set_pv_set_noise (EffluxCutView      *self,
+                                  EffluxPvSet        *set,
+                                  const char * const *names,
+                                  guint               image,
+                                  const EffluxCube   *grid,
+                                  const double       *sigma)
+{
+  g_return_if_fail (EFFLUX_IS_CUT_VIEW (self));
+  g_return_if_fail (set == NULL || image < set->n_cubes);
+
+  g_clear_pointer (&self->cubes, g_free);
+  g_clear_pointer (&self->sigma, g_array_unref);
+  if (set != NULL && sigma != NULL)
+    {
+      self->sigma = g_array_new (FALSE, FALSE, sizeof (double));
+      g_array_append_vals (self->sigma, sigma, set->n_cubes);
+    }
+  install_set (self, set, names, image, grid);
+}
+
+guint
+efflux_cut_view_get_image (EffluxCutView *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_CUT_VIEW (self), 0);
+  return self->image;
+}
+
+const double *
+efflux_cut_view_get_contour_levels (EffluxCutView *self,
+                                    guint          index,
+                                    gsize         *n)
+{
+  GArray *lv;
+
+  g_return_val_if_fail (EFFLUX_IS_CUT_VIEW (self), NULL);
+  if (self->levels == NULL || index >= self->levels->len
+      || (lv = g_ptr_array_index (self->levels, index)) == NULL)
+    return NULL;
+  if (n != NULL)
+    *n = lv->len;
+  return (const double *) lv->data;
+}
+
+static void
+clear_shells (EffluxCutView *self)
+{
+  for (int l = 0; l < 2; l++)
+    {
+      g_clear_pointer (&self->shell_x[l], g_free);
+      g_clear_pointer (&self->shell_v[l], g_free);
+      self->shell_n[l] = 0;
+    }
+  g_clear_pointer (&self->shell_spurs, g_array_unref);
+  g_clear_pointer (&self->shell_note, g_free);
+}
+
+#define SHELL_POINTS 200
+
+void
+efflux_cut_view_set_shell_fit (EffluxCutView        *self,
+                               const EffluxShellFit *fit)
+{
+  g_autoptr(GString) note = NULL;
+
+  g_return_if_fail (EFFLUX_IS_CUT_VIEW (self));
+  clear_shells (self);
+  if (fit == NULL)
+    {
+      invalidate (self);
+      return;
+    }
+  note = g_string_new (NULL);
+  self->shell_src = fit->source_offset_arcsec;
+  self->shell_spurs = g_array_new (FALSE, FALSE, sizeof (EffluxShellSpur));
+  for (guint l = 0; l < fit->n_lobes && l < 2; l++)
+    {
+      const EffluxShellLobeFit *lf = &fit->lobes[l];
+
+      self->shell_kind[l] = lf->kind;
+      if (lf->spurs != NULL)
+        g_array_append_vals (self->shell_spurs, lf->spurs->data, lf->spurs->len);
+      if (!lf->ok)
+        {
+          if (note->len > 0)
+            g_string_append (note, "; ");
+          /* Translators: a lobe whose shell fit failed, with the reason */
+          g_string_append_printf (note, lf->kind == EFFLUX_LOBE_RED ? _("red lobe not fitted: %s")
+                                                                    : _("blue lobe not fitted: %s"),
+                                  lf->message != NULL ? lf->message : "");
+          continue;
+        }
+      self->shell_x[l] = g_new (double, SHELL_POINTS);
+      self->shell_v[l] = g_new (double, SHELL_POINTS);
+      self->shell_n[l] = efflux_shellfit_curve (fit, l, SHELL_POINTS, self->shell_x[l],
+                                                self->shell_v[l]);
+    }
+  self->shell_note = note->len > 0 ? g_string_free (g_steal_pointer (&note), FALSE) : NULL;
+  invalidate (self);
+}
+
+gboolean
+efflux_cut_view_get_shell_curve (EffluxCutView  *self,
+                                 guint           lobe,
+                                 gsize          *n,
+                                 const double  **offset_arcsec,
+                                 const double  **velocity_kms)
+{
+  g_return_val_if_fail (EFFLUX_IS_CUT_VIEW (self), FALSE);
+  if (lobe >= 2 || self->shell_n[lobe] == 0)
+    return FALSE;
+  *n = self->shell_n[lobe];
+  *offset_arcsec = self->shell_x[lobe];
+  *velocity_kms = self->shell_v[lobe];
+  return TRUE;
 }
 
 const EffluxPvSet *
@@ -405,6 +557,7 @@ adopt_task_result (EffluxCutView *self,
                    EffluxPvSet   *set)
 {
   g_free (self->cubes);
+  g_clear_pointer (&self->sigma, g_array_unref);
   self->cubes = g_memdup2 (t->cubes, t->n_cubes * sizeof (EffluxCube *));
   install_set (self, set, (const char * const *) t->names, t->image, t->cubes[0]);
 }
@@ -761,6 +914,150 @@ draw_contours (EffluxCutView    *self,
   cairo_restore (cr);
 }
 
+static void
+draw_shells (EffluxCutView    *self,
+             cairo_t          *cr,
+             const EffluxAxis *xa,
+             const EffluxAxis *ya)
+{
+  cairo_save (cr);
+  for (int l = 0; l < 2; l++)
+    {
+      if (self->shell_n[l] == 0)
+        continue;
+      for (int pass = 0; pass < 2; pass++)
+        {
+          /* a dark casing under the lobe's colour, readable on any colour map */
+          if (pass == 0)
+            {
+              cairo_set_source_rgba (cr, 0.0, 0.0, 0.0, 0.7);
+              cairo_set_line_width (cr, 4.0);
+            }
+          else
+            {
+              if (self->shell_kind[l] == EFFLUX_LOBE_RED)
+                cairo_set_source_rgba (cr, 1.0, 0.35, 0.3, 1.0);
+              else
+                cairo_set_source_rgba (cr, 0.35, 0.65, 1.0, 1.0);
+              cairo_set_line_width (cr, 2.0);
+            }
+          for (gsize i = 0; i < self->shell_n[l]; i++)
+            {
+              double sx = efflux_axis_to_screen (xa, self->shell_x[l][i]);
+              double sy = efflux_axis_to_screen (ya, self->shell_v[l][i]);
+
+              if (i == 0)
+                cairo_move_to (cr, sx, sy);
+              else
+                cairo_line_to (cr, sx, sy);
+            }
+          cairo_stroke (cr);
+        }
+    }
+  if (self->shell_spurs != NULL)
+    for (guint q = 0; q < self->shell_spurs->len; q++)
+      {
+        const EffluxShellSpur *sp = &g_array_index (self->shell_spurs, EffluxShellSpur, q);
+        double half = self->set != NULL ? 0.5 * self->set->cuts[0]->offset_step_arcsec : 0.0;
+        double x0 = efflux_axis_to_screen (xa, self->shell_src + sp->x_min_arcsec - half);
+        double x1 = efflux_axis_to_screen (xa, self->shell_src + sp->x_max_arcsec + half);
+        double y0 = efflux_axis_to_screen (ya, sp->v_min_kms);
+        double y1 = efflux_axis_to_screen (ya, sp->v_max_kms);
+        double dash[] = { 4.0, 3.0 };
+
+        cairo_rectangle (cr, MIN (x0, x1), MIN (y0, y1), fabs (x1 - x0), fabs (y1 - y0));
+        cairo_set_source_rgba (cr, 1.0, 0.6, 0.0, 0.25);
+        cairo_fill_preserve (cr);
+        cairo_set_source_rgba (cr, 1.0, 0.6, 0.0, 1.0);
+        cairo_set_line_width (cr, 1.5);
+        cairo_set_dash (cr, dash, 2, 0);
+        cairo_stroke (cr);
+        cairo_set_dash (cr, NULL, 0, 0);
+      }
+  cairo_restore (cr);
+}
+
+/* The legend at the plot's top right: the contour tracers in their colours, the shell curves and
+ * spurs when shown. */
+static void
+draw_legend (EffluxCutView    *self,
+             cairo_t          *cr,
+             PangoLayout      *layout,
+             const EffluxAxis *xa,
+             const EffluxAxis *ya)
+{
+  g_autoptr(GPtrArray) texts = g_ptr_array_new_with_free_func (g_free);
+  g_autoptr(GArray) colours = g_array_new (FALSE, FALSE, sizeof (double) * 3);
+  guint colour = 0;
+  double y, wmax = 0.0, lh = 0.0;
+
+  if (self->contours != NULL)
+    for (guint i = 0; i < self->contours->len; i++)
+      {
+        if (g_ptr_array_index (self->contours, i) == NULL)
+          continue;
+        g_array_append_vals (colours, contour_colours[colour++ % G_N_ELEMENTS (contour_colours)], 1);
+        /* Translators: legend entry of a tracer drawn as contours */
+        g_ptr_array_add (texts, g_strdup_printf (_("%s (contours)"),
+                                                 self->names != NULL && i < g_strv_length (self->names)
+                                                 ? self->names[i] : "?"));
+      }
+  if (self->shell_n[0] > 0 || self->shell_n[1] > 0)
+    {
+      static const double c[3] = { 0.35, 0.65, 1.0 };
+      g_array_append_vals (colours, c, 1);
+      g_ptr_array_add (texts, g_strdup (_("wind-driven shell fit")));
+    }
+  if (self->shell_spurs != NULL && self->shell_spurs->len > 0)
+    {
+      static const double c[3] = { 1.0, 0.6, 0.0 };
+      g_array_append_vals (colours, c, 1);
+      g_ptr_array_add (texts, g_strdup (_("bow-shock spur (off the shell)")));
+    }
+  if (self->shell_note != NULL)
+    {
+      static const double c[3] = { 1.0, 0.6, 0.0 };
+      g_array_append_vals (colours, c, 1);
+      g_ptr_array_add (texts, g_strdup (self->shell_note));
+    }
+  if (texts->len == 0)
+    return;
+  for (guint i = 0; i < texts->len; i++)
+    {
+      int tw, th;
+
+      pango_layout_set_text (layout, g_ptr_array_index (texts, i), -1);
+      pango_layout_get_pixel_size (layout, &tw, &th);
+      wmax = MAX (wmax, tw);
+      lh = MAX (lh, th);
+    }
+  {
+    double bw = wmax + 34.0, bh = texts->len * lh + 8.0;
+    double bx = xa->s1 - bw - 6.0, by = ya->s1 + 6.0;
+
+    cairo_save (cr);
+    cairo_rectangle (cr, bx, by, bw, bh);
+    cairo_set_source_rgba (cr, 0.0, 0.0, 0.0, 0.55);
+    cairo_fill (cr);
+    y = by + 4.0;
+    for (guint i = 0; i < texts->len; i++, y += lh)
+      {
+        const double *c = &g_array_index (colours, double, 3 * i);
+
+        cairo_set_source_rgba (cr, c[0], c[1], c[2], 1.0);
+        cairo_set_line_width (cr, 2.0);
+        cairo_move_to (cr, bx + 6.0, y + lh / 2.0);
+        cairo_line_to (cr, bx + 26.0, y + lh / 2.0);
+        cairo_stroke (cr);
+        cairo_set_source_rgba (cr, 1.0, 1.0, 1.0, 1.0);
+        pango_layout_set_text (layout, g_ptr_array_index (texts, i), -1);
+        cairo_move_to (cr, bx + 30.0, y);
+        pango_cairo_show_layout (cr, layout);
+      }
+    cairo_restore (cr);
+  }
+}
+
 /* The Hubble line's ends in data coordinates across the plot, and where its handle sits. */
 static gboolean
 hubble_line (EffluxCutView    *self,
@@ -864,7 +1161,9 @@ build_scene (EffluxCutView *self,
   cairo_rectangle (cr, xa.s0, ya.s1, xa.s1 - xa.s0, ya.s0 - ya.s1);
   cairo_clip (cr);
   draw_contours (self, cr, &xa, &ya);
+  draw_shells (self, cr, &xa, &ya);
   draw_overlays (self, cr, &xa, &ya, fg);
+  draw_legend (self, cr, layout, &xa, &ya);
   cairo_restore (cr);
   /* Translators: axis titles of the PV diagram */
   efflux_plot_draw_frame (cr, layout, &xa, &ya, _("offset along the cut (″)"), _("velocity (km/s)"),
@@ -1171,6 +1470,9 @@ efflux_cut_view_finalize (GObject *object)
 
   g_clear_pointer (&self->node, gsk_render_node_unref);
   g_clear_pointer (&self->contours, g_ptr_array_unref);
+  g_clear_pointer (&self->levels, g_ptr_array_unref);
+  g_clear_pointer (&self->sigma, g_array_unref);
+  clear_shells (self);
   g_clear_pointer (&self->set, efflux_pv_set_free);
   g_strfreev (self->names);
   g_array_unref (self->multiples);

@@ -6,6 +6,7 @@
 #include "efflux-cube.h"
 #include "efflux-dossier.h"
 #include "efflux-pv.h"
+#include "efflux-shellfit.h"
 
 G_BEGIN_DECLS
 
@@ -39,6 +40,32 @@ void               efflux_cut_view_set_pv_set     (EffluxCutView       *self,
                                                    guint                image,
                                                    const EffluxCube    *grid);
 const EffluxPvSet *efflux_cut_view_get_pv_set     (EffluxCutView       *self);
+/* The same with each cut's noise (sigma[i] in K for set->cuts[i], copied; NaN: the PV's own
+ * spread) for the contour levels, when the caller knows it (efflux_kinematics_pv_sigma of the
+ * cubes); contour sets are listed in a legend by name in their colours. */
+void               efflux_cut_view_set_pv_set_noise (EffluxCutView      *self,
+                                                     EffluxPvSet        *set,
+                                                     const char * const *names,
+                                                     guint               image,
+                                                     const EffluxCube   *grid,
+                                                     const double       *sigma);
+guint              efflux_cut_view_get_image      (EffluxCutView       *self);
+/* The contour levels used for cut `index` (K; *n levels), or NULL (the image, no contours). */
+const double      *efflux_cut_view_get_contour_levels (EffluxCutView   *self,
+                                                       guint            index,
+                                                       gsize           *n);
+
+/* Fitted wind-driven shells (efflux-shellfit.h) drawn over the PV image: each fitted lobe's model
+ * curve (efflux_shellfit_curve on the set's offset axis), spurs as hatched boxes, failed lobes
+ * named in the legend. NULL clears. The fit is copied into curves at once (not kept). */
+void               efflux_cut_view_set_shell_fit  (EffluxCutView       *self,
+                                                   const EffluxShellFit *fit);
+/* The drawn curve of shell lobe `lobe` (n points; offsets arcsec and LSR km/s), or FALSE. */
+gboolean           efflux_cut_view_get_shell_curve (EffluxCutView      *self,
+                                                    guint               lobe,
+                                                    gsize              *n,
+                                                    const double      **offset_arcsec,
+                                                    const double      **velocity_kms);
 
 /* Compute the cut along a path (n_vertices ICRS (ra, dec) pairs, degrees) through cubes (borrowed:
  * they must outlive the view; cubes[0] defines the grid) with efflux_pv_set_new, and show it with

@@ -5,10 +5,12 @@
 
 #include <glib/gi18n.h>
 #include <math.h>
+#include <string.h>
 
 #include "efflux-assumptions.h"
 #include "efflux-autosave.h"
 #include "efflux-banner.h"
+#include "efflux-cut-tools.h"
 #include "efflux-cube-store.h"
 #include "efflux-cut-view.h"
 #include "efflux-ledger.h"
@@ -62,6 +64,7 @@ struct _EffluxWindow
   GCancellable    *measure_cancellable;
   EffluxDocument  *document;
   EffluxCutView   *cut_view;
+  EffluxCutTools  *cut_tools;
   EffluxSpectrumView *spectrum_view;
   EffluxLedger    *ledger;
   GPtrArray       *shown_lobes;    /* lobe names whose ranges the views show */
@@ -250,36 +253,17 @@ range_changed (GtkWidget    *view,
     self->range_merge = 0;
 }
 
-/* force: the dossier's cut changed, so make the cut again on the shown cube. A cut made on a
- * cube that is no longer shown stays (with its cube alive) until the cut itself is edited. */
+/* force: the dossier's cut may have changed; the Cut tools make it again through every cube
+ * when it did. */
 static void
 sync_cut (EffluxWindow *self,
           gboolean      force)
 {
   const EffluxDossier *d = window_dossier (self);
-  const EffluxDossierCut *cut = NULL;
-  const EffluxCube *cubes[1];
-  const char *names[2] = { NULL, NULL };
-  g_autofree double *ra_dec = NULL;
-  g_autoptr(GError) error = NULL;
 
-  if (d == NULL || self->cube == NULL || d->cuts->len == 0)
-    {
-      gtk_widget_set_visible (self->cut_box, FALSE);
-      return;
-    }
-  cut = g_ptr_array_index (d->cuts, 0);
-  if (efflux_cut_view_get_pv_set (self->cut_view) != NULL &&
-      !(force && self->cut_cube == self->cube))
-    return;
-  ra_dec = efflux_dossier_cut_path (cut);
-  cubes[0] = self->cube;
-  names[0] = self->shown_cube_id;
-  self->cut_cube = self->cube;
-  if (!efflux_cut_view_set_path (self->cut_view, cubes, names, 1, 0, ra_dec, cut->n_vertices,
-                                 cut->width_arcsec, &error))
-    show_edit_error (self, error);
-  gtk_widget_set_visible (self->cut_box, TRUE);
+  /* every cube of the dossier through its first cut, off the UI thread (efflux-cut-tools.h) */
+  efflux_cut_tools_sync (self->cut_tools, self->document, force);
+  gtk_widget_set_visible (self->cut_box, d != NULL && self->cube != NULL && d->cuts->len > 0);
 }
 
 static void
@@ -1638,6 +1622,8 @@ efflux_window_init (EffluxWindow *self)
     gtk_widget_set_vexpand (GTK_WIDGET (self->cut_view), TRUE);
     gtk_box_append (GTK_BOX (self->cut_box), GTK_WIDGET (self->cut_view));
     g_signal_connect (self->cut_view, "range-changed", G_CALLBACK (range_changed), self);
+    self->cut_tools = EFFLUX_CUT_TOOLS (efflux_cut_tools_new (self->cut_view));
+    gtk_box_insert_child_after (GTK_BOX (self->cut_box), GTK_WIDGET (self->cut_tools), title);
 
     title = gtk_label_new (_("Spectrum"));
     gtk_label_set_xalign (GTK_LABEL (title), 0.0);

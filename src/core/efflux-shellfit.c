@@ -16,6 +16,8 @@
 #define SPUR_MODEL 0.25
 #define SPUR_FLUX 0.5
 #define SPUR_SPAN 0.3
+/* the lag window of the covariance along the velocity, in channels */
+#define SANDWICH_LAG_V 2
 
 typedef struct
 {
@@ -164,7 +166,9 @@ foot_point (const double *p,
 
 #define MODEL_NZ 120
 #define MODEL_NPHI 64
-#define NPAR 4
+#define NPAR 5
+/* the largest fraction of the shell missing at its base (z_min / z_max) */
+#define ZMIN_MAX 0.8
 
 typedef struct
 {
@@ -173,6 +177,7 @@ typedef struct
   double   sv, vsys, src, vmin;
   double   sig_x_pix;          /* beam sigma along the cut, in PV columns */
   double   sig_t;              /* across the cut: beam and width (arcsec) */
+  double   res_x_pix;          /* the beam's FWHM along the cut, in PV columns */
   gboolean *col_ok;            /* columns fitted (this side, not a spur) */
   float   *model;              /* ncol x nchan scratch */
   double   amp;                /* the scale of the last evaluation */
@@ -185,33 +190,45 @@ render (Image        *im,
 {
   const EffluxPv *pv = im->pv;
   gsize ncol = pv->n_offsets, nchan = pv->nchan;
-  double a = p[0], k = exp (p[1]), c = exp (p[2]), zmax = exp (p[3]);
+  double a = p[0], k = exp (p[1]), c = exp (p[2]), zmax = exp (p[3]), fmin = p[4];
   double ca = cos (a), sa = sin (a);
   int reach = (int) ceil (3.0 * im->sig_x_pix);
 
+  double is2 = 1.0 / (im->sig_x_pix * im->sig_x_pix), step = exp (-is2);
+  double cphi[MODEL_NPHI], sphi[MODEL_NPHI];
+
+  for (int ip = 0; ip < MODEL_NPHI; ip++)
+    {
+      double phi = 2.0 * G_PI * (ip + 0.5) / MODEL_NPHI;
+      cphi[ip] = cos (phi);
+      sphi[ip] = sin (phi);
+    }
   memset (im->model, 0, ncol * nchan * sizeof (float));
   for (int iz = 0; iz < MODEL_NZ; iz++)
     {
-      double z = zmax * (iz + 0.5) / MODEL_NZ, rr = sqrt (z / c);
+      double z = zmax * (fmin + (1.0 - fmin) * (iz + 0.5) / MODEL_NZ), rr = sqrt (z / c);
       for (int ip = 0; ip < MODEL_NPHI; ip++)
         {
-          double phi = 2.0 * G_PI * (ip + 0.5) / MODEL_NPHI;
-          double rho = rr * cos (phi), t = rr * sin (phi);
+          double rho = rr * cphi[ip], t = rr * sphi[ip];
           double wt = exp (-0.5 * t * t / (im->sig_t * im->sig_t));
           double X = z * ca - rho * sa, U = k * (z * sa + rho * ca);
           double xc = (im->src + im->side * X) / pv->offset_step_arcsec;
           double v = im->vsys + im->sv * U, f = (v - pv->v0_kms) / pv->dv_kms, wf;
           gssize k0 = (gssize) floor (f), c0 = (gssize) floor (xc);
+          double d, g, ratio;
 
           if (wt < 1e-3)
             continue;
           wf = f - (double) k0;
-          for (gssize q = c0 - reach; q <= c0 + reach + 1; q++)
+          /* the Gaussian along the cut by recurrence: g(q + 1) = g(q) exp (-(2 d + 1) / (2 s^2)),
+           * the ratio itself shrinking by exp (-1 / s^2) per column (d = q - xc) */
+          d = (double) (c0 - reach) - xc;
+          g = wt * exp (-0.5 * d * d * is2);
+          ratio = exp (-(2.0 * d + 1.0) * 0.5 * is2);
+          for (gssize q = c0 - reach; q <= c0 + reach + 1; q++, g *= ratio, ratio *= step)
             {
-              double g;
               if (q < 0 || q >= (gssize) ncol)
                 continue;
-              g = wt * exp (-0.5 * ((double) q - xc) * ((double) q - xc) / (im->sig_x_pix * im->sig_x_pix));
               if (k0 >= 0 && k0 < (gssize) nchan)
                 im->model[(gsize) k0 * ncol + (gsize) q] += (float) (g * (1.0 - wf));
               if (k0 + 1 >= 0 && k0 + 1 < (gssize) nchan)
@@ -268,19 +285,20 @@ image_residuals (Image        *im,
 }
 
 static void
-clamp4 (double *p)
+clamp_params (double *p)
 {
   p[0] = CLAMP (p[0], A_MIN, A_MAX);
   p[1] = CLAMP (p[1], -20.0, 20.0);
   p[2] = CLAMP (p[2], -20.0, 20.0);
   p[3] = CLAMP (p[3], -20.0, 20.0);
+  p[4] = CLAMP (p[4], 0.0, ZMIN_MAX);
 }
 
 static double
 nm_cost (Image  *im,
          double *p)
 {
-  clamp4 (p);
+  clamp_params (p);
   return image_residuals (im, p, NULL);
 }
 
@@ -419,6 +437,72 @@ solve_n (int    n,
   return TRUE;
 }
 
+/* The covariance of correlated residuals (see the header): cov holds (J^T J)^-1 on entry and
+ * (J^T J)^-1 B (J^T J)^-1 on return, with B = sum over pixel pairs a, b no further apart than the
+ * lag window of w(a - b) r_a r_b J_a J_b^T, w the product of Bartlett (triangular) weights along
+ * the offset and the velocity (Newey & West 1987, Econometrica 55, 703, in two dimensions), times
+ * n / (n - 4) for the four parameters fitted. */
+static void
+sandwich (const Image  *im,
+          const double *r,
+          const double *jac,
+          guint         nres,
+          double        cov[NPAR][NPAR])
+{
+  const EffluxPv *pv = im->pv;
+  gsize ncol = pv->n_offsets, nchan = pv->nchan;
+  g_autofree gint *index = g_new (gint, ncol * nchan);
+  g_autofree gint *col = g_new (gint, MAX (nres, 1));
+  g_autofree gint *chan = g_new (gint, MAX (nres, 1));
+  /* the lag window: two beams along the offset, SANDWICH_LAG_V channels along the velocity */
+  int lx = (int) ceil (2.0 * im->res_x_pix), lv = SANDWICH_LAG_V;
+  double b[NPAR][NPAR] = { { 0 } }, tmp[NPAR][NPAR] = { { 0 } }, out[NPAR][NPAR] = { { 0 } };
+  guint n = 0;
+
+  for (gsize q = 0; q < ncol * nchan; q++)
+    index[q] = -1;
+  for (gsize k = 0; k < nchan; k++)
+    for (gsize i = 0; i < ncol; i++)
+      if (pixel_used (im, i, k) && n < nres)
+        {
+          index[k * ncol + i] = (gint) n;
+          col[n] = (gint) i;
+          chan[n] = (gint) k;
+          n++;
+        }
+  for (guint a = 0; a < n; a++)
+    for (int dk = -lv; dk <= lv; dk++)
+      for (int dx = -lx; dx <= lx; dx++)
+        {
+          gssize kk = chan[a] + dk, ii = col[a] + dx;
+          double w, rr;
+          gint bi;
+
+          if (kk < 0 || kk >= (gssize) nchan || ii < 0 || ii >= (gssize) ncol)
+            continue;
+          bi = index[(gsize) kk * ncol + (gsize) ii];
+          if (bi < 0)
+            continue;
+          w = (1.0 - fabs ((double) dx) / (lx + 1.0)) * (1.0 - fabs ((double) dk) / (lv + 1.0));
+          rr = w * r[a] * r[bi];
+          for (int p = 0; p < NPAR; p++)
+            for (int q = 0; q < NPAR; q++)
+              b[p][q] += rr * jac[(gsize) a * NPAR + p] * jac[(gsize) bi * NPAR + q];
+        }
+  for (int p = 0; p < NPAR; p++)
+    for (int q = 0; q < NPAR; q++)
+      for (int m = 0; m < NPAR; m++)
+        tmp[p][q] += cov[p][m] * b[m][q];
+  for (int p = 0; p < NPAR; p++)
+    for (int q = 0; q < NPAR; q++)
+      {
+        for (int m = 0; m < NPAR; m++)
+          out[p][q] += tmp[p][m] * cov[m][q];
+        out[p][q] *= n > NPAR ? (double) n / (double) (n - NPAR) : 1.0;
+      }
+  memcpy (cov, out, sizeof out);
+}
+
 static gboolean
 fit_lobe (const EffluxPv     *pv,
           Data               *data,
@@ -428,7 +512,7 @@ fit_lobe (const EffluxPv     *pv,
           double              n_corr)
 {
   double p[NPAR], best = G_MAXDOUBLE, xtip = 0.0, umax = 0.0, chi2;
-  double step[NPAR] = { 5.0 * DEG, 0.3, 0.5, 0.2 };
+  double step[NPAR] = { 5.0 * DEG, 0.3, 0.5, 0.2, 0.05 };
   double cov[NPAR][NPAR];
   guint n_used = 0;
 
@@ -460,6 +544,7 @@ fit_lobe (const EffluxPv     *pv,
           q[1] = log (umax / xtip * pow (10.0, -1.0 + 2.0 * ik / 8.0));
           q[2] = log (1.0 / (width[ic] * width[ic] * zmax));
           q[3] = log (zmax);
+          q[4] = 0.0;
           f = nm_cost (im, q);
           if (f < best)
             {
@@ -476,7 +561,7 @@ fit_lobe (const EffluxPv     *pv,
     g_autofree double *r0 = NULL;
     g_autofree double *r1 = NULL;
     g_autofree double *jac = NULL;
-    double jtj[NPAR][NPAR] = { { 0 } }, s2;
+    double jtj[NPAR][NPAR] = { { 0 } };
 
     image_residuals (im, p, NULL);
     nres = im->n_res;
@@ -488,6 +573,9 @@ fit_lobe (const EffluxPv     *pv,
       {
         double pp[NPAR], h = q == 0 ? 0.2 * DEG : 0.01;
         memcpy (pp, p, sizeof pp);
+        /* z_min / z_max stays inside [0, ZMIN_MAX] */
+        if (q == 4 && pp[q] + h > ZMIN_MAX)
+          h = -h;
         pp[q] += h;
         image_residuals (im, pp, r1);
         for (guint j = 0; j < nres; j++)
@@ -497,6 +585,14 @@ fit_lobe (const EffluxPv     *pv,
       for (int a = 0; a < NPAR; a++)
         for (int b = 0; b < NPAR; b++)
           jtj[a][b] += jac[(gsize) j * NPAR + a] * jac[(gsize) j * NPAR + b];
+    /* a base the data do not constrain (left out by vmin) must not make the others singular:
+     * a ridge far below any constrained direction */
+    {
+      double dmax = 0.0;
+      for (int a = 0; a < NPAR; a++)
+        dmax = MAX (dmax, jtj[a][a]);
+      jtj[4][4] += 1e-9 * dmax;
+    }
     for (int c = 0; c < NPAR; c++)
       {
         double e[NPAR] = { 0 }, col[NPAR];
@@ -513,15 +609,17 @@ fit_lobe (const EffluxPv     *pv,
           cov[a][c] = col[a];
       }
     /* residual variance, the pixels per beam along the cut counted as one (common practice) */
-    s2 = chi2 / MAX ((double) nres / n_corr - NPAR, 1.0);
+    sandwich (im, r0, jac, nres, cov);
+    (void) chi2;
     lf->inclination_deg = 90.0 - p[0] / DEG;
-    lf->inclination_err_deg = sqrt (MAX (cov[0][0] * s2, 0.0)) / DEG;
+    lf->inclination_err_deg = sqrt (MAX (cov[0][0], 0.0)) / DEG;
     lf->kms_per_arcsec = exp (p[1]);
     lf->age_yr = distance_pc * EFFLUX_AU / EFFLUX_KM / lf->kms_per_arcsec / EFFLUX_YR;
-    lf->age_err_yr = lf->age_yr * sqrt (MAX (cov[1][1] * s2, 0.0));
+    lf->age_err_yr = lf->age_yr * sqrt (MAX (cov[1][1], 0.0));
     lf->c_per_arcsec = exp (p[2]);
-    lf->c_err_per_arcsec = lf->c_per_arcsec * sqrt (MAX (cov[2][2] * s2, 0.0));
+    lf->c_err_per_arcsec = lf->c_per_arcsec * sqrt (MAX (cov[2][2], 0.0));
     lf->z_max_arcsec = exp (p[3]);
+    lf->z_min_arcsec = p[4] * lf->z_max_arcsec;
     lf->rho_max = sqrt (lf->z_max_arcsec / lf->c_per_arcsec);
     lf->rho_min = -lf->rho_max;
   }
@@ -567,6 +665,7 @@ find_spurs (const EffluxPv     *pv,
   p[1] = log (lf->kms_per_arcsec);
   p[2] = log (lf->c_per_arcsec);
   p[3] = log (lf->z_max_arcsec);
+  p[4] = lf->z_min_arcsec / lf->z_max_arcsec;
   image_residuals (im, p, NULL);   /* renders the model and its scale */
   for (gsize c = 0; c < ncol; c++)
     {
@@ -759,10 +858,15 @@ efflux_shellfit_pv (const EffluxPv               *pv,
       {
         g_autofree gboolean *col_ok = g_new (gboolean, pv->n_offsets);
         g_autofree float *model = g_new (float, pv->n_offsets * pv->nchan);
-        double sig_b = fit->res_x_arcsec / 2.3548200450309493;
+        double sig_b = fit->res_x_arcsec / 2.3548200450309493, st = pv->offset_step_arcsec;
+        double hw = pv->half_width;
+        /* along the cut: the beam and the cut's bilinear interpolation (a triangle of one
+         * pixel's half-width: variance pixel^2 / 6); across: the same and the 2 hw + 1 samples
+         * averaged at whole pixels (variance pixel^2 hw (hw + 1) / 3) */
         Image im = { pv, side, sv, vsys_kms, source_offset_arcsec, vmin,
-                     sig_b / pv->offset_step_arcsec,
-                     sqrt (sig_b * sig_b + pv->width_arcsec * pv->width_arcsec / 12.0),
+                     sqrt (sig_b * sig_b + st * st / 6.0) / st,
+                     sqrt (sig_b * sig_b + st * st * (hw * (hw + 1.0) / 3.0 + 1.0 / 6.0)),
+                     fit->res_x_arcsec / st,
                      col_ok, model, 0.0, 0 };
 
         for (gsize c = 0; c < pv->n_offsets; c++)
@@ -839,6 +943,79 @@ efflux_shellfit_curve (const EffluxShellFit *fit,
   return n;
 }
 
+/* The defaults a dossier gives: the cube's noise, the lobes' smallest |v - vsys|. */
+static void
+dossier_defaults (const EffluxDossier       *dossier,
+                  const EffluxDossierCube   *dc,
+                  const EffluxCube          *cube,
+                  EffluxShellfitOptions     *opt)
+{
+  if (!isfinite (opt->noise_k))
+    opt->noise_k = dc != NULL && isfinite (dc->rms_k) ? dc->rms_k : efflux_kinematics_pv_sigma (cube);
+  if (!isfinite (opt->vmin_kms))
+    {
+      /* the smallest |v - vsys| the lobes' ranges admit (0 when a range holds vsys) */
+      double m = G_MAXDOUBLE;
+      for (guint l = 0; l < dossier->lobes->len; l++)
+        {
+          const EffluxDossierLobe *lobe = g_ptr_array_index (dossier->lobes, l);
+          double a = lobe->v1_kms - dossier->vsys_kms, b = lobe->v2_kms - dossier->vsys_kms;
+          m = MIN (m, a <= 0.0 && b >= 0.0 ? 0.0 : MIN (fabs (a), fabs (b)));
+        }
+      opt->vmin_kms = m < G_MAXDOUBLE ? m : 0.0;
+    }
+}
+
+EffluxShellFit *
+efflux_shellfit_dossier_cube (const EffluxDossier          *dossier,
+                              const char                   *cut_name,
+                              const EffluxCube             *cube,
+                              const EffluxShellfitOptions  *options,
+                              GError                      **error)
+{
+  const EffluxDossierCut *cut = NULL;
+  EffluxShellfitOptions opt = { NAN, NAN, NAN };
+  g_autoptr (EffluxPv) pv = NULL;
+  g_autofree double *ra_dec = NULL;
+  double sx, sy, soff, sdist;
+  EffluxShellFit *fit;
+
+  if (options != NULL)
+    opt = *options;
+  for (guint i = 0; i < dossier->cuts->len; i++)
+    {
+      const EffluxDossierCut *c = g_ptr_array_index (dossier->cuts, i);
+      if (strcmp (c->name, cut_name) == 0)
+        cut = c;
+    }
+  if (cut == NULL)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: [Cut %s]: no such cut in the dossier",
+                   dossier->path, cut_name);
+      return NULL;
+    }
+  ra_dec = efflux_dossier_cut_path (cut);
+  pv = efflux_pv_cut (cube, ra_dec, cut->n_vertices, cut->width_arcsec, error);
+  if (pv == NULL)
+    {
+      g_prefix_error (error, "%s: [Cut %s]: ", dossier->path, cut_name);
+      return NULL;
+    }
+  if (!efflux_cube_icrs_to_pixel (cube, dossier->ra_deg, dossier->dec_deg, &sx, &sy)
+      || !efflux_kinematics_offset_on_cut (pv, sx, sy, &soff, &sdist))
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                   "%s: [Source] ra-deg: the source cannot be placed on [Cut %s]", dossier->path, cut_name);
+      return NULL;
+    }
+  dossier_defaults (dossier, efflux_dossier_find_cube (dossier, cut->cube_id), cube, &opt);
+  fit = efflux_shellfit_pv (pv, soff, dossier->vsys_kms, dossier->distance_pc,
+                            cube->has_beam ? cube->bmaj_arcsec : NAN, &opt, error);
+  if (fit == NULL)
+    g_prefix_error (error, "%s: [Cut %s]: ", dossier->path, cut_name);
+  return fit;
+}
+
 EffluxShellFit *
 efflux_shellfit_dossier (const EffluxDossier          *dossier,
                          const char                   *cut_name,
@@ -853,20 +1030,7 @@ efflux_shellfit_dossier (const EffluxDossier          *dossier,
     opt = *options;
   if (!efflux_dossier_cut_pv (dossier, cut_name, NULL, &cp, error))
     return NULL;
-  if (!isfinite (opt.noise_k))
-    opt.noise_k = isfinite (cp.dc->rms_k) ? cp.dc->rms_k : efflux_kinematics_pv_sigma (cp.cube);
-  if (!isfinite (opt.vmin_kms))
-    {
-      /* the smallest |v - vsys| the lobes' ranges admit (0 when a range holds vsys) */
-      double m = G_MAXDOUBLE;
-      for (guint l = 0; l < dossier->lobes->len; l++)
-        {
-          const EffluxDossierLobe *lobe = g_ptr_array_index (dossier->lobes, l);
-          double a = lobe->v1_kms - dossier->vsys_kms, b = lobe->v2_kms - dossier->vsys_kms;
-          m = MIN (m, a <= 0.0 && b >= 0.0 ? 0.0 : MIN (fabs (a), fabs (b)));
-        }
-      opt.vmin_kms = m < G_MAXDOUBLE ? m : 0.0;
-    }
+  dossier_defaults (dossier, cp.dc, cp.cube, &opt);
   fit = efflux_shellfit_pv (cp.pv, cp.source_offset_arcsec, dossier->vsys_kms, dossier->distance_pc,
                             cp.cube->has_beam ? cp.cube->bmaj_arcsec : NAN, &opt, error);
   if (fit == NULL)

@@ -83,6 +83,7 @@ typedef struct
   double          z_max_arcsec;        /* the shell's length along the axis (forward model) */
   double          rho_min, rho_max;    /* the model's range of rho: +- sqrt (z_max / C) (arcsec) */
   GArray         *spurs;               /* EffluxShellSpur */
+  double          z_min_arcsec;        /* where the shell starts along the axis (forward model) */
 } EffluxShellLobeFit;
 
 typedef struct
@@ -116,6 +117,15 @@ EffluxShellFit *efflux_shellfit_dossier (const EffluxDossier          *dossier,
                                          const char                   *cut_name,
                                          const EffluxShellfitOptions  *options,
                                          GError                      **error);
+
+/* The same through a cube already in memory: the one of the cut's [Cube] entry (its noise and
+ * the lobes' ranges give the defaults, as above); the numbers are those of
+ * efflux_shellfit_dossier. For the desktop program, which keeps its cubes. */
+EffluxShellFit *efflux_shellfit_dossier_cube (const EffluxDossier          *dossier,
+                                              const char                   *cut_name,
+                                              const EffluxCube             *cube,
+                                              const EffluxShellfitOptions  *options,
+                                              GError                      **error);
 
 void            efflux_shellfit_free    (EffluxShellFit *fit);
 
