@@ -388,6 +388,14 @@ velocity_changed (EffluxWindow *self)
 
   if (self->updating_lobe_bar || self->document == NULL || name == NULL)
     return;
+  {
+    /* the spin buttons settling back after a refused edit: no command that changes nothing */
+    const EffluxDossierLobe *lobe = efflux_dossier_find_lobe (window_dossier (self), name);
+    double a = gtk_spin_button_get_value (self->v1_spin), b = gtk_spin_button_get_value (self->v2_spin);
+
+    if (lobe != NULL && fabs (MIN (a, b) - lobe->v1_kms) < 1e-9 && fabs (MAX (a, b) - lobe->v2_kms) < 1e-9)
+      return;
+  }
   efflux_document_set_lobe_velocity (self->document, name,
                                      gtk_spin_button_get_value (self->v1_spin),
                                      gtk_spin_button_get_value (self->v2_spin), 0, &error);
