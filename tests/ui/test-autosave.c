@@ -473,6 +473,105 @@ test_discard_and_later (void)
   g_assert_no_errno (g_rmdir (dir));
 }
 
+/* The app's Save As (efflux_document_save_as): the copy is written elsewhere with its cube paths
+ * rewritten (the same files, by inode), the document is unmodified at its new path, the old
+ * recovery file goes, and undo and redo across the move keep naming the same files. */
+static void
+test_save_as (void)
+{
+  g_autoptr(GError) error = NULL;
+  g_autofree char *dir = g_dir_make_tmp ("efflux-autosave-XXXXXX", &error);
+  g_autofree char *path = copy_demo (dir);
+  g_autofree char *recovery = efflux_recovery_path (path);
+  g_autofree char *sub = g_build_filename (dir, "moved", "deeper", NULL);
+  g_autofree char *target = g_build_filename (sub, "moved.efflux", NULL);
+  g_autofree char *target_recovery = efflux_recovery_path (target);
+  g_autofree char *co_before = NULL;
+  g_autoptr(EffluxDocument) document = NULL;
+  g_autoptr(EffluxAutosave) autosave = NULL;
+  GStatBuf a, b;
+  gint64 deadline;
+
+  g_assert_no_error (error);
+  g_assert_cmpint (g_mkdir_with_parents (sub, 0755), ==, 0);
+  g_setenv ("EFFLUX_AUTOSAVE", "1", TRUE);
+  document = efflux_document_load (path, &error);
+  g_assert_no_error (error);
+  autosave = efflux_autosave_new (document, NULL);
+  co_before = g_strdup (efflux_dossier_find_cube (efflux_document_get_dossier (document), "co")->abs_path);
+  /* an edit of a cube path itself, to see the history follow the move */
+  g_assert_true (efflux_document_set_key (document, "Cube sio", "path", co_before, 0, &error));
+  g_assert_no_error (error);
+  g_assert_true (efflux_document_set_lobe_velocity (document, "blue", -12.5, 3.2, 0, &error));
+  g_assert_no_error (error);
+  deadline = g_get_monotonic_time () + BEHIND_US;
+  while (!g_file_test (recovery, G_FILE_TEST_EXISTS) && g_get_monotonic_time () < deadline)
+    iterate_ms (20);
+  g_assert_true (g_file_test (recovery, G_FILE_TEST_EXISTS));
+
+  g_assert_true (efflux_document_save_as (document, target, &error));
+  g_assert_no_error (error);
+  g_assert_cmpstr (efflux_document_get_path (document), ==, target);
+  g_assert_false (efflux_document_get_modified (document));
+  {
+    g_autoptr(EffluxDossier) saved = efflux_dossier_load (target, &error);
+    const EffluxDossier *d = efflux_document_get_dossier (document);
+
+    g_assert_no_error (error);
+    for (guint i = 0; i < saved->cubes->len; i++)
+      {
+        EffluxDossierCube *c = g_ptr_array_index (saved->cubes, i);
+        EffluxDossierCube *m = efflux_dossier_find_cube (d, c->id);
+
+        g_assert_cmpint (g_stat (c->abs_path, &a), ==, 0);
+        g_assert_cmpint (g_stat (m->abs_path, &b), ==, 0);
+        g_assert_cmpuint (a.st_ino, ==, b.st_ino);
+        g_assert_cmpstr (c->path, ==, m->path);
+      }
+    g_assert_cmpfloat (efflux_dossier_find_lobe (saved, "blue")->v1_kms, ==, -12.5);
+  }
+  /* the old dossier's recovery file goes: its edits are saved (elsewhere) */
+  deadline = g_get_monotonic_time () + 5 * G_USEC_PER_SEC;
+  while (g_file_test (recovery, G_FILE_TEST_EXISTS) && g_get_monotonic_time () < deadline)
+    iterate_ms (20);
+  g_assert_false (g_file_test (recovery, G_FILE_TEST_EXISTS));
+  /* undo both edits: the demo's own cubes, named from the new place */
+  g_assert_true (efflux_document_undo (document));
+  g_assert_true (efflux_document_undo (document));
+  {
+    g_autoptr(EffluxDossier) demo = efflux_dossier_load (path, &error);
+    const EffluxDossier *d = efflux_document_get_dossier (document);
+
+    g_assert_no_error (error);
+    for (guint i = 0; i < demo->cubes->len; i++)
+      {
+        EffluxDossierCube *c = g_ptr_array_index (demo->cubes, i);
+
+        g_assert_cmpint (g_stat (c->abs_path, &a), ==, 0);
+        g_assert_cmpint (g_stat (efflux_dossier_find_cube (d, c->id)->abs_path, &b), ==, 0);
+        g_assert_cmpuint (a.st_ino, ==, b.st_ino);
+      }
+  }
+  /* redo: the edited path again names the 12CO cube */
+  g_assert_true (efflux_document_redo (document));
+  g_assert_cmpint (g_stat (co_before, &a), ==, 0);
+  g_assert_cmpint (g_stat (efflux_dossier_find_cube (efflux_document_get_dossier (document), "sio")->abs_path,
+                           &b), ==, 0);
+  g_assert_cmpuint (a.st_ino, ==, b.st_ino);
+  efflux_autosave_discard (autosave);
+  efflux_autosave_close (autosave);
+  g_assert_false (g_file_test (target_recovery, G_FILE_TEST_EXISTS));
+  g_assert_no_errno (g_unlink (target));
+  g_assert_no_errno (g_rmdir (sub));
+  {
+    g_autofree char *moved = g_path_get_dirname (sub);
+
+    g_assert_no_errno (g_rmdir (moved));
+  }
+  g_assert_no_errno (g_unlink (path));
+  g_assert_no_errno (g_rmdir (dir));
+}
+
 int
 main (int    argc,
       char **argv)
@@ -482,5 +581,6 @@ main (int    argc,
   gtk_test_init (&argc, &argv, NULL);
   g_test_add_func ("/ui/autosave/crash-and-recover", test_crash_and_recover);
   g_test_add_func ("/ui/autosave/discard-and-later", test_discard_and_later);
+  g_test_add_func ("/ui/autosave/save-as", test_save_as);
   return g_test_run ();
 }
