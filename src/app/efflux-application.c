@@ -93,7 +93,12 @@ quit_activated (GSimpleAction *action,
                 GVariant      *parameter,
                 gpointer       user_data)
 {
-  g_application_quit (G_APPLICATION (user_data));
+  g_autoptr(GList) windows = g_list_copy (gtk_application_get_windows (GTK_APPLICATION (user_data)));
+
+  /* close each window as its close button does: one with unsaved edits asks first (and a
+   * clean close removes its recovery file); the application ends with its last window */
+  for (GList *l = windows; l != NULL; l = l->next)
+    gtk_window_close (GTK_WINDOW (l->data));
 }
 
 static void

@@ -459,7 +459,7 @@ test_discard_and_later (void)
     }
     g_assert_true (g_file_test (recovery, G_FILE_TEST_EXISTS));
     gtk_window_destroy (GTK_WINDOW (window));
-    /* destroyed with unsaved edits (as at a quit): they stay for the next start */
+    /* destroyed with unsaved edits and no question (as at the end of a session): they stay */
     g_assert_true (g_file_test (recovery, G_FILE_TEST_EXISTS));
     {
       g_autoptr(EffluxDossier) again = efflux_recovery_load (path, &error);
