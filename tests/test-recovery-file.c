@@ -223,6 +223,51 @@ kill_and_recover (gulong delay_ms)
   remove_dir (dir);
 }
 
+/* efflux_recovery_write_data (the text made beforehand, as the autosave's worker writes it) gives
+ * the same file as efflux_recovery_write but for the time in its first line. */
+static void
+test_write_data (void)
+{
+  g_autofree char *dir = NULL;
+  g_autofree char *path = make_dossier (&dir);
+  g_autofree char *rpath = efflux_recovery_path (path);
+  g_autoptr (EffluxDossier) d = NULL;
+  g_autoptr (EffluxDossier) r = NULL;
+  g_autoptr (GError) error = NULL;
+  g_autofree char *data = NULL;
+  g_autofree char *a = NULL;
+  g_autofree char *b = NULL;
+
+  d = efflux_dossier_load (path, &error);
+  g_assert_no_error (error);
+  g_assert_true (efflux_dossier_set_lobe_velocity (d, "blue-1", -6, 1, &error));
+  data = efflux_dossier_to_data (d, NULL);
+  g_assert_true (efflux_recovery_write (d, path, &error));
+  g_assert_true (g_file_get_contents (rpath, &a, NULL, NULL));
+  g_assert_true (efflux_recovery_write_data (path, data, &error));
+  g_assert_no_error (error);
+  g_assert_true (g_file_get_contents (rpath, &b, NULL, NULL));
+  /* after the first line (which holds the time) the two are the same bytes */
+  g_assert_nonnull (strchr (a, '\n'));
+  g_assert_nonnull (strchr (b, '\n'));
+  g_assert_cmpstr (strchr (a, '\n'), ==, strchr (b, '\n'));
+  r = efflux_recovery_load (path, &error);
+  g_assert_no_error (error);
+  g_assert_cmpfloat (efflux_dossier_find_lobe (r, "blue-1")->v1_kms, ==, -6);
+  /* unwritable: an error naming the recovery file, nothing left */
+  {
+    g_autofree char *nowhere = g_build_filename (path, "inside-a-file.efflux", NULL);
+
+    g_assert_false (efflux_recovery_write_data (nowhere, data, &error));
+    g_assert_nonnull (error);
+    g_assert_nonnull (strstr (error->message, "inside-a-file.efflux.recovery"));
+    g_clear_error (&error);
+  }
+  g_assert_true (efflux_recovery_remove (path, &error));
+  g_unlink (path);
+  remove_dir (dir);
+}
+
 static void
 test_kill_early (void)
 {
@@ -251,6 +296,7 @@ main (int    argc,
 {
   g_test_init (&argc, &argv, NULL);
   g_test_add_func ("/recovery-file/round-trip", test_round_trip);
+  g_test_add_func ("/recovery-file/write-data", test_write_data);
   g_test_add_func ("/recovery-file/kill-early", test_kill_early);
   g_test_add_func ("/recovery-file/kill-late", test_kill_late);
   g_test_add_func ("/recovery-file/kill-random", test_kill_random);
