@@ -247,6 +247,7 @@ test_compare_and_notes (Fixture      *f,
   EffluxReviewSheet *sheet;
   EffluxDocument *document;
   EffluxSkyView *view;
+  GtkRevealer *revealer;
   const EffluxCompareRow *r;
   EffluxReviewStatus status;
   int i;
@@ -260,6 +261,14 @@ test_compare_and_notes (Fixture      *f,
   g_assert_null (efflux_review_sheet_get_colleague (sheet));
   g_assert_cmpuint (efflux_sky_view_get_n_overlay_lobes (view), ==, 0);
 
+  /* the header toggle (review.show, F8) shows and hides the sheet */
+  revealer = GTK_REVEALER (gtk_widget_get_first_child (GTK_WIDGET (sheet)));
+  g_assert_false (gtk_revealer_get_reveal_child (revealer));
+  g_assert_true (gtk_widget_activate_action (GTK_WIDGET (window), "review.show", NULL));
+  g_assert_true (gtk_revealer_get_reveal_child (revealer));
+  g_assert_true (gtk_widget_activate_action (GTK_WIDGET (window), "review.show", NULL));
+  g_assert_false (gtk_revealer_get_reveal_child (revealer));
+
   /* another source: refused, naming both files; nothing drawn */
   g_assert_false (efflux_review_sheet_open (sheet, f->other, &error));
   g_assert_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT);
@@ -268,15 +277,14 @@ test_compare_and_notes (Fixture      *f,
   g_assert_nonnull (strstr (error->message, "mine.efflux"));
   g_assert_nonnull (strstr (error->message, "Another Source"));
   g_assert_cmpstr (efflux_review_sheet_get_message (sheet), ==, error->message);
+  /* shown where it is read: the sheet opens, the window's message area says it too */
+  g_assert_true (gtk_revealer_get_reveal_child (revealer));
+  g_assert_cmpstr (efflux_window_get_error (window), ==, error->message);
   g_assert_null (efflux_review_sheet_get_colleague (sheet));
   g_assert_cmpuint (efflux_sky_view_get_n_overlay_lobes (view), ==, 0);
   g_clear_error (&error);
 
   /* the colleague's dossier: compared in a worker; outlines on the Sky view with the author */
-  /* the header toggle: review.show reveals the sheet */
-  g_assert_false (gtk_revealer_get_reveal_child (GTK_REVEALER (gtk_widget_get_first_child (GTK_WIDGET (sheet)))));
-  g_assert_true (gtk_widget_activate_action (GTK_WIDGET (window), "review.show", NULL));
-  g_assert_true (gtk_revealer_get_reveal_child (GTK_REVEALER (gtk_widget_get_first_child (GTK_WIDGET (sheet)))));
   g_assert_true (efflux_review_sheet_open (sheet, f->theirs, &error));
   g_assert_no_error (error);
   g_assert_true (efflux_review_sheet_is_busy (sheet));
