@@ -53,6 +53,38 @@ typedef struct
   double sum_t_ratio;
 } Tally;
 
+/* The fits of one inclination's realisations, shared by the threads (each writes its own). */
+typedef struct
+{
+  EffluxPv       *pvs[N_REAL];
+  EffluxShellFit *fits[N_REAL];
+  double          soff, vsys, distance, beam, noise;
+} Job;
+
+typedef struct
+{
+  Job   *job;
+  guint  first, stride;
+} FitArgs;
+
+static gpointer
+fit_thread (gpointer data)
+{
+  FitArgs *a = data;
+
+  for (guint r = a->first; r < N_REAL; r += a->stride)
+    {
+      EffluxShellfitOptions opt = { NAN, NAN, NAN };
+
+      opt.noise_k = a->job->noise;
+      opt.vmin_kms = 1.0;   /* the lobes' vmin-kms */
+      a->job->fits[r] = efflux_shellfit_pv (a->job->pvs[r], a->job->soff, a->job->vsys, a->job->distance,
+                                            a->job->beam, &opt, NULL);
+    }
+  g_free (a);
+  return NULL;
+}
+
 static void
 run_inclination (double  incl,
                  Tally  *all)
@@ -75,6 +107,7 @@ run_inclination (double  incl,
   double t0, c_true, peak = 0.0, rms, sx, sy;
   gsize nvox;
   Tally t = { 0 };
+  Job job = { 0 };
 
   rc = efflux_synth_recipe_load_data (text, "shell.recipe", &error);
   g_assert_no_error (error);
@@ -99,13 +132,9 @@ run_inclination (double  incl,
   ra_dec = efflux_dossier_cut_path (cut);
   g_assert_true (efflux_cube_icrs_to_pixel (cube, dossier->ra_deg, dossier->dec_deg, &sx, &sy));
 
+  /* the cuts of every realisation (cheap), then the fits (dear) in threads */
   for (guint r = 0; r < N_REAL; r++)
     {
-      g_autoptr (EffluxPv) pv = NULL;
-      g_autoptr (EffluxShellFit) fit = NULL;
-      EffluxShellfitOptions opt = { NAN, NAN, NAN };
-      double soff;
-
       /* Gaussian noise by Box-Muller from GRand's uniform doubles */
       for (gsize v = 0; v + 1 < nvox; v += 2)
         {
@@ -115,16 +144,36 @@ run_inclination (double  incl,
           cube->data[v] = clean[v] + (float) (rms * rr * cos (2.0 * G_PI * u2));
           cube->data[v + 1] = clean[v + 1] + (float) (rms * rr * sin (2.0 * G_PI * u2));
         }
-      pv = efflux_pv_cut (cube, ra_dec, cut->n_vertices, cut->width_arcsec, &error);
+      job.pvs[r] = efflux_pv_cut (cube, ra_dec, cut->n_vertices, cut->width_arcsec, &error);
       g_assert_no_error (error);
-      g_assert_true (efflux_kinematics_offset_on_cut (pv, sx, sy, &soff, NULL));
-      /* the cut's noise: the voxel noise over the samples averaged across it (a lower bound:
-       * neighbouring samples share voxels through the interpolation) */
-      opt.noise_k = rms / sqrt (2.0 * pv->half_width + 1.0);
-      opt.vmin_kms = 1.0;   /* the lobes' vmin-kms */
-      fit = efflux_shellfit_pv (pv, soff, dossier->vsys_kms, dossier->distance_pc, cube->bmaj_arcsec, &opt,
-                                &error);
-      g_assert_no_error (error);
+    }
+  g_assert_true (efflux_kinematics_offset_on_cut (job.pvs[0], sx, sy, &job.soff, NULL));
+  job.vsys = dossier->vsys_kms;
+  job.distance = dossier->distance_pc;
+  job.beam = cube->bmaj_arcsec;
+  /* the cut's noise: the voxel noise over the samples averaged across it (a lower bound:
+   * neighbouring samples share voxels through the interpolation); it sets the threshold only */
+  job.noise = rms / sqrt (2.0 * job.pvs[0]->half_width + 1.0);
+  {
+    guint nt = CLAMP (g_get_num_processors (), 1, 4);
+    GThread *threads[4];
+
+    for (guint w = 0; w < nt; w++)
+      {
+        FitArgs *a = g_new (FitArgs, 1);
+        a->job = &job;
+        a->first = w;
+        a->stride = nt;
+        threads[w] = g_thread_new ("fit", fit_thread, a);
+      }
+    for (guint w = 0; w < nt; w++)
+      g_thread_join (threads[w]);
+  }
+  for (guint r = 0; r < N_REAL; r++)
+    {
+      const EffluxShellFit *fit = job.fits[r];
+
+      g_assert_nonnull (fit);
       g_assert_cmpuint (fit->n_lobes, ==, 2);
       for (guint l = 0; l < 2; l++)
         {
@@ -146,6 +195,8 @@ run_inclination (double  incl,
                           lf->inclination_err_deg, lf->age_yr, lf->age_err_yr, t0, lf->c_per_arcsec,
                           lf->c_err_per_arcsec, c_true);
         }
+      efflux_shellfit_free (job.fits[r]);
+      efflux_pv_free (job.pvs[r]);
     }
   g_test_message ("i = %g: %u fits; within 1 sigma: i %.1f%%, t0 %.1f%%, C %.1f%%; rms z(i) %.2f; "
                   "mean C / truth %.3f, mean t0 / truth %.3f", incl, t.n, 100.0 * t.in_i / t.n,
