@@ -6,6 +6,7 @@
 #include <glib/gi18n.h>
 
 #include "efflux-application.h"
+#include "efflux-autosave.h"
 #include "efflux-window.h"
 #include "efflux-help.h"
 #include "efflux-settings.h"
@@ -49,8 +50,15 @@ efflux_application_activate (GApplication *app)
   g_autofree char *demo = efflux_application_find_demo ();
   GSettings *settings = efflux_settings_get ();
   g_autofree char *sample = NULL;
+  /* unsaved edits of a recent dossier, kept when the program stopped: that dossier, to offer them */
+  g_autofree char *kept = efflux_autosave_find_kept ();
 
-  if (demo != NULL)
+  if (kept != NULL)
+    {
+      g_autoptr(GFile) file = g_file_new_for_path (kept);
+      efflux_window_open (window, file);
+    }
+  else if (demo != NULL)
     {
       g_autoptr(GFile) file = g_file_new_for_path (demo);
       efflux_window_open (window, file);

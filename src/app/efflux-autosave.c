@@ -630,3 +630,32 @@ efflux_autosave_offer_recovery (EffluxAutosave *self,
   gtk_window_present (GTK_WINDOW (dialog));
   return TRUE;
 }
+
+char *
+efflux_autosave_find_kept (void)
+{
+  GList *items;
+  char *best = NULL;
+  gint64 best_us = 0;
+
+  if (!enabled ())
+    return NULL;
+  items = gtk_recent_manager_get_items (gtk_recent_manager_get_default ());
+  for (GList *l = items; l != NULL; l = l->next)
+    {
+      g_autoptr(GFile) file = g_file_new_for_uri (gtk_recent_info_get_uri (l->data));
+      g_autofree char *path = g_file_get_path (file);
+      gint64 mtime_us = 0;
+
+      if (path == NULL || !g_str_has_suffix (path, ".efflux")
+          || !g_file_test (path, G_FILE_TEST_IS_REGULAR)
+          || !efflux_recovery_exists (path, &mtime_us)
+          || efflux_recovery_older_than_dossier (path) || mtime_us <= best_us)
+        continue;
+      g_free (best);
+      best = g_steal_pointer (&path);
+      best_us = mtime_us;
+    }
+  g_list_free_full (items, (GDestroyNotify) gtk_recent_info_unref);
+  return best;
+}

@@ -69,6 +69,10 @@ int             efflux_autosave_recover         (EffluxAutosave  *self,
 /* TRUE while a kept recovery file waits for the user's decision (nothing is written). */
 gboolean        efflux_autosave_get_held        (EffluxAutosave  *self);
 
+/* At start: the recent dossier (GtkRecentManager) whose recovery file is the newest of those
+ * newer than their dossier, or NULL (the program opens it, which offers the recovery). */
+char           *efflux_autosave_find_kept       (void);
+
 /* For tests and the benchmark: writes completed, TRUE while a write is scheduled or running, and
  * the main-thread time of the last write (the text and the hand-over to the worker), in µs. */
 guint           efflux_autosave_get_n_writes    (EffluxAutosave  *self);

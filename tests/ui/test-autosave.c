@@ -572,15 +572,99 @@ test_save_as (void)
   g_assert_no_errno (g_rmdir (dir));
 }
 
+/* At start (efflux_autosave_find_kept): the recent dossier whose kept edits are newer than it. The
+ * recent-files store is the test's own (XDG_DATA_HOME set in main). */
+static void
+test_find_kept (void)
+{
+  g_autoptr(GError) error = NULL;
+  g_autofree char *dir = g_dir_make_tmp ("efflux-autosave-XXXXXX", &error);
+  g_autofree char *path = copy_demo (dir);
+  g_autofree char *uri = g_filename_to_uri (path, NULL, NULL);
+  g_autofree char *found = NULL;
+  g_autoptr(EffluxDossier) d = NULL;
+  gint64 mtime_us = 0;
+
+  g_setenv ("EFFLUX_AUTOSAVE", "1", TRUE);
+  GtkRecentData data = { .mime_type = (char *) "text/plain", .app_name = (char *) "test-ui-autosave",
+                         .app_exec = (char *) "test-ui-autosave %u" };
+
+  /* add_full: at once (add_item asks the file's type asynchronously first) */
+  g_assert_true (gtk_recent_manager_add_full (gtk_recent_manager_get_default (), uri, &data));
+  g_assert_true (gtk_recent_manager_has_item (gtk_recent_manager_get_default (), uri));
+  /* no recovery file: nothing */
+  found = efflux_autosave_find_kept ();
+  g_assert_null (found);
+  /* kept edits newer than the dossier: that dossier */
+  d = efflux_dossier_load (path, &error);
+  g_assert_no_error (error);
+  g_assert_true (efflux_recovery_write (d, path, &error));
+  {
+    /* the dossier 10 s older than its recovery file */
+    g_autoptr(GFile) f = g_file_new_for_path (path);
+
+    g_assert_true (efflux_recovery_exists (path, &mtime_us));
+    g_assert_true (g_file_set_attribute_uint64 (f, G_FILE_ATTRIBUTE_TIME_MODIFIED,
+                                                (guint64) (mtime_us / G_USEC_PER_SEC - 10),
+                                                G_FILE_QUERY_INFO_NONE, NULL, &error));
+    g_assert_no_error (error);
+  }
+  found = efflux_autosave_find_kept ();
+  g_assert_cmpstr (found, ==, path);
+  g_clear_pointer (&found, g_free);
+  /* the dossier saved after them (by another program): not offered at start */
+  {
+    g_autoptr(GFile) f = g_file_new_for_path (path);
+
+    g_assert_true (g_file_set_attribute_uint64 (f, G_FILE_ATTRIBUTE_TIME_MODIFIED,
+                                                (guint64) (mtime_us / G_USEC_PER_SEC + 10),
+                                                G_FILE_QUERY_INFO_NONE, NULL, &error));
+  }
+  found = efflux_autosave_find_kept ();
+  g_assert_null (found);
+  g_assert_true (gtk_recent_manager_remove_item (gtk_recent_manager_get_default (), uri, NULL));
+  g_assert_true (efflux_recovery_remove (path, &error));
+  g_assert_no_errno (g_unlink (path));
+  g_assert_no_errno (g_rmdir (dir));
+}
+
+static gboolean
+remove_tree (const char *path)
+{
+  g_autoptr(GDir) d = g_dir_open (path, 0, NULL);
+  const char *name;
+
+  while (d != NULL && (name = g_dir_read_name (d)) != NULL)
+    {
+      g_autofree char *p = g_build_filename (path, name, NULL);
+
+      if (g_file_test (p, G_FILE_TEST_IS_DIR) && !g_file_test (p, G_FILE_TEST_IS_SYMLINK))
+        remove_tree (p);
+      else
+        g_unlink (p);
+    }
+  return g_rmdir (path) == 0;
+}
+
 int
 main (int    argc,
       char **argv)
 {
+  g_autofree char *data_home = NULL;
+  int status;
+
   if (argc == 3 && g_str_equal (argv[1], "--child"))
     return run_child (argv[2]);
+  /* a private recent-files store (recently-used.xbel under XDG_DATA_HOME) */
+  data_home = g_dir_make_tmp ("efflux-autosave-data-XXXXXX", NULL);
+  g_assert_nonnull (data_home);
+  g_setenv ("XDG_DATA_HOME", data_home, TRUE);
   gtk_test_init (&argc, &argv, NULL);
   g_test_add_func ("/ui/autosave/crash-and-recover", test_crash_and_recover);
   g_test_add_func ("/ui/autosave/discard-and-later", test_discard_and_later);
   g_test_add_func ("/ui/autosave/save-as", test_save_as);
-  return g_test_run ();
+  g_test_add_func ("/ui/autosave/find-kept", test_find_kept);
+  status = g_test_run ();
+  g_assert_true (remove_tree (data_home));
+  return status;
 }
