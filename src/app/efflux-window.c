@@ -375,6 +375,10 @@ static void
 show_edit_error (EffluxWindow *self,
                  const GError *error)
 {
+  /* an edit that went through: the banner's message about a refused one is old news */
+  if (error == NULL && efflux_window_get_error (self) != NULL
+      && g_strcmp0 (efflux_window_get_error (self), gtk_label_get_text (self->edit_error_label)) == 0)
+    efflux_banner_hide (self->banner);
   gtk_label_set_text (self->edit_error_label, error ? error->message : "");
   if (error != NULL)
     efflux_window_show_error (self, error->message);
@@ -1608,6 +1612,11 @@ efflux_window_init (EffluxWindow *self)
                                   efflux_review_sheet_get_actions (self->review_sheet));
   g_signal_connect_object (self->sources, "open-source", G_CALLBACK (source_activated), self, 0);
   efflux_review_sheet_set_sky_view (self->review_sheet, self->sky_view);
+  /* the Sky view's layers: map choice, context image, wing contours (efflux-sky-view.h) */
+  gtk_widget_insert_action_group (GTK_WIDGET (self), "layers",
+                                  efflux_sky_view_get_layer_actions (self->sky_view));
+  efflux_sky_view_bind_wing_menu (self->sky_view, G_MENU (gtk_widget_get_template_child (
+    GTK_WIDGET (self), EFFLUX_TYPE_WINDOW, "wing_tracer_menu")));
 
   g_signal_connect_object (self->sky_view, "notify::readout", G_CALLBACK (readout_changed), self, 0);
   g_signal_connect_object (self->sky_view, "notify::selected-lobe",

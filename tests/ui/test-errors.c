@@ -247,6 +247,13 @@ test_errors_keep_the_dossier (void)
     /* "copy.efflux: [Lobe blue] velocity-kms: the range 3.2;3.2 is empty" */
     assert_error (window, "[Lobe blue] velocity-kms", "empty");
     assert_kept (window, &s);
+    /* the next edit that goes through closes that message (and is one command) */
+    gtk_spin_button_set_value (GTK_SPIN_BUTTON (v1), -13.25);
+    iterate_ms (50);
+    g_assert_null (efflux_window_get_error (window));
+    g_assert_cmpuint (efflux_document_get_n_undo (document), ==, s.n_undo + 1);
+    g_assert_true (efflux_document_undo (document));
+    assert_kept (window, &s);
   }
 
   /* 5. a dossier whose tracer cube is no FITS file: the load error, the dossier open */
