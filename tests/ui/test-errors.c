@@ -4,8 +4,8 @@
  * A copy of the demo dossier is opened and edited once (so it is modified, with one command to
  * undo). Then, one after the other: a file that is no FITS file is opened as a cube, a dossier
  * with a bad key is opened, the dossier is saved where it cannot be written (its folder replaced
- * by a plain file; also a read-only folder when the test does not run as root, who ignores file
- * modes), and an edit the core refuses (an empty velocity range) is made through the lobe bar.
+ * by a plain file; a write that fails half-way under a file-size limit, as on a full disk; also a
+ * read-only folder when the test does not run as root, who ignores file modes), and an edit the core refuses (an empty velocity range) is made through the lobe bar.
  * Each time the banner must show one line naming the file or the dossier's group and key, and
  * the document must be the same: same object, path, lobes, key file text, modified flag and undo
  * stack. Last, a dossier whose tracer cube is no FITS file is opened: the load error is shown
@@ -14,7 +14,9 @@
 
 #include <gtk/gtk.h>
 #include <glib/gstdio.h>
+#include <signal.h>
 #include <string.h>
+#include <sys/resource.h>
 #include <unistd.h>
 
 #include "efflux-application.h"
@@ -117,6 +119,17 @@ wait_until_loaded (EffluxWindow *window)
   g_assert_false (efflux_window_is_loading (window));
 }
 
+static guint
+count_entries (const char *dir)
+{
+  g_autoptr(GDir) d = g_dir_open (dir, 0, NULL);
+  guint n = 0;
+
+  while (d != NULL && g_dir_read_name (d) != NULL)
+    n++;
+  return n;
+}
+
 static GtkWidget *
 find_spin (GtkWidget  *widget,
            const char *tooltip)
@@ -217,6 +230,31 @@ test_errors_keep_the_dossier (void)
   assert_kept (window, &s);
   g_assert_no_errno (g_unlink (work));
   g_assert_cmpint (g_rename (moved, work), ==, 0);
+  /* a write that fails half-way (as on a full disk): a file-size limit below the dossier's size,
+   * SIGXFSZ ignored so that write() returns EFBIG; the dossier on disk stays whole */
+  {
+    g_autofree char *before = NULL;
+    g_autofree char *after = NULL;
+    struct rlimit old_limit, small = { 0 };
+    void (*old_handler) (int) = signal (SIGXFSZ, SIG_IGN);
+
+    g_assert_true (g_file_get_contents (path, &before, NULL, NULL));
+    g_assert_cmpuint (strlen (before), >, 1024);
+    g_assert_cmpint (getrlimit (RLIMIT_FSIZE, &old_limit), ==, 0);
+    small.rlim_cur = 1024;
+    small.rlim_max = old_limit.rlim_max;
+    g_assert_cmpint (setrlimit (RLIMIT_FSIZE, &small), ==, 0);
+    gtk_widget_activate_action (GTK_WIDGET (window), "win.save", NULL);
+    g_assert_cmpint (setrlimit (RLIMIT_FSIZE, &old_limit), ==, 0);
+    signal (SIGXFSZ, old_handler);
+    iterate_ms (50);
+    assert_error (window, path, NULL);
+    assert_kept (window, &s);
+    g_assert_true (g_file_get_contents (path, &after, NULL, NULL));
+    g_assert_cmpstr (after, ==, before);
+    /* no temporary file left beside it */
+    g_assert_cmpuint (count_entries (work), ==, 1);
+  }
   /* and a read-only folder, where its mode counts */
   if (geteuid () != 0)
     {
