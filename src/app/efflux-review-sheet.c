@@ -7,6 +7,7 @@
 #include <math.h>
 #include <string.h>
 
+#include "efflux-banner.h"
 #include "efflux-resources.h"
 #include "efflux-review-sheet.h"
 #include "efflux-sample.h"
@@ -91,6 +92,11 @@ show_message (EffluxReviewSheet *self,
 {
   GtkRoot *root = gtk_widget_get_root (GTK_WIDGET (self));
 
+  /* a message of ours still in the window's message area goes when it is answered or replaced */
+  if (self->message != NULL && EFFLUX_IS_WINDOW (root)
+      && g_strcmp0 (efflux_window_get_error (EFFLUX_WINDOW (root)), self->message) == 0
+      && g_strcmp0 (self->message, message) != 0)
+    efflux_banner_hide (EFFLUX_BANNER (efflux_window_get_banner (EFFLUX_WINDOW (root))));
   g_free (self->message);
   self->message = message && *message ? g_strdup (message) : NULL;
   gtk_label_set_text (self->message_label, self->message ? self->message : "");
@@ -281,8 +287,9 @@ row_title (const EffluxCompareRow *c)
   return g_strdup_printf (_("%s: only yours"), c->mine);
 }
 
+/* A matched pair's overlap, range differences and ratios. */
 static char *
-row_figures (const EffluxCompareRow *c)
+pair_figures (const EffluxCompareRow *c)
 {
   g_autofree char *dv1 = format_dv (c->dv1_kms);
   g_autofree char *dv2 = format_dv (c->dv2_kms);
@@ -295,6 +302,16 @@ row_figures (const EffluxCompareRow *c)
   /* Translators: the figures of a lobe pair; Δv are theirs minus mine, ratios theirs / mine */
   return g_strdup_printf (_("IoU %s · Δv₁ %s, Δv₂ %s km/s\nmass ×%s · momentum ×%s · energy ×%s · tdyn ×%s"),
                           iou, dv1, dv2, m, p, e, t);
+}
+
+static char *
+row_figures (const EffluxCompareRow *c)
+{
+  if (c->mine == NULL)
+    return g_strdup (_("No lobe of yours has its name or overlaps it."));
+  if (c->theirs == NULL)
+    return g_strdup (_("No lobe of theirs has its name or overlaps it."));
+  return pair_figures (c);
 }
 
 static ReviewRow *

@@ -160,6 +160,7 @@ render_row (EffluxSources *self,
       GtkWidget *badge = label_new (r->badge, "efflux-state-badge");
       g_autofree char *file = g_path_get_basename (r->path);
 
+      gtk_label_set_ellipsize (GTK_LABEL (badge), PANGO_ELLIPSIZE_NONE);
       gtk_widget_add_css_class (icon, state_class (r->state));
       gtk_widget_set_valign (icon, GTK_ALIGN_CENTER);
       gtk_box_append (GTK_BOX (box), icon);
@@ -956,6 +957,21 @@ efflux_sources_class_init (EffluxSourcesClass *klass)
   gtk_widget_class_set_css_name (widget_class, "efflux-sources");
 }
 
+/* The state icons are ours (icons/actions, in the resource): a window made without the
+ * application (the UI tests) finds them too. */
+static void
+ensure_icons (void)
+{
+  static gboolean done;
+  GdkDisplay *display = gdk_display_get_default ();
+
+  if (done || display == NULL)
+    return;
+  done = TRUE;
+  gtk_icon_theme_add_resource_path (gtk_icon_theme_get_for_display (display),
+                                    "/org/effluxproject/Efflux/icons");
+}
+
 static void
 efflux_sources_init (EffluxSources *self)
 {
@@ -965,6 +981,7 @@ efflux_sources_init (EffluxSources *self)
     { .name = "mark-measured", .activate = mark_measured_activated },
   };
 
+  ensure_icons ();
   gtk_widget_init_template (GTK_WIDGET (self));
   self->sample_rows = g_ptr_array_new_with_free_func (source_row_free);
   self->opened_rows = g_ptr_array_new_with_free_func (source_row_free);

@@ -65,6 +65,48 @@ spin (double seconds)
     }
 }
 
+static gboolean
+count_frame (GtkWidget     *widget,
+             GdkFrameClock *clock,
+             gpointer       user_data)
+{
+  (*(int *) user_data)++;
+  return G_SOURCE_CONTINUE;
+}
+
+/* Draw a few frames, then save the window as a PNG into the build directory (for a look). */
+static void
+save_screenshot (GtkWidget  *widget,
+                 const char *name)
+{
+  g_autoptr(GdkPaintable) paintable = NULL;
+  g_autoptr(GtkSnapshot) snapshot = NULL;
+  g_autoptr(GskRenderNode) node = NULL;
+  g_autoptr(GdkTexture) texture = NULL;
+  g_autofree char *path = NULL;
+  gint64 deadline = g_get_monotonic_time () + 20 * G_USEC_PER_SEC;
+  int frames = 0;
+  guint id = gtk_widget_add_tick_callback (widget, count_frame, &frames, NULL);
+  int w, h;
+
+  while (frames < 4 && g_get_monotonic_time () < deadline)
+    g_main_context_iteration (NULL, TRUE);
+  gtk_widget_remove_tick_callback (widget, id);
+  g_assert_cmpint (frames, >=, 4);
+  w = gtk_widget_get_width (widget);
+  h = gtk_widget_get_height (widget);
+  paintable = gtk_widget_paintable_new (widget);
+  snapshot = gtk_snapshot_new ();
+  gdk_paintable_snapshot (paintable, GDK_SNAPSHOT (snapshot), w, h);
+  node = gtk_snapshot_free_to_node (g_steal_pointer (&snapshot));
+  g_assert_nonnull (node);
+  texture = gsk_renderer_render_texture (gtk_native_get_renderer (gtk_widget_get_native (widget)),
+                                         node, &GRAPHENE_RECT_INIT (0, 0, w, h));
+  path = g_build_filename (g_getenv ("G_TEST_BUILDDIR"), name, NULL);
+  g_assert_true (gdk_texture_save_to_png (texture, path));
+  g_test_message ("screenshot: %s", path);
+}
+
 static void
 write_text (const char *dir,
             const char *name,
@@ -309,6 +351,7 @@ test_sample (void)
   g_assert_cmpstr (efflux_sources_get_row_name (sources, 2), ==, "Source Delta");
   g_assert_true (efflux_sources_get_row_state (sources, 2, &state));
   g_assert_cmpint (state, ==, EFFLUX_SOURCE_NOT_MEASURED);
+  save_screenshot (GTK_WIDGET (window), "screenshot-sources.png");
 
   /* a file opened from elsewhere gets its own row after the sample's */
   {
