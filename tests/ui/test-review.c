@@ -465,6 +465,28 @@ test_compare_and_notes (Fixture      *f,
   g_assert_cmpstr (efflux_review_sheet_get_row_note (sheet, (guint) i), ==, "redrawn on my side");
   g_assert_false (efflux_document_get_modified (efflux_window_get_document (window)));
 
+  /* my lobe edited to the colleague's outline: the sheet compares again (after the edits pause)
+   * and the two pixel sets are the same, IoU 1 */
+  {
+    const EffluxDossierLobe *their_blue = efflux_dossier_find_lobe (theirs, "blue-1");
+    EffluxDocument *doc = efflux_window_get_document (window);
+
+    g_assert_true (efflux_document_set_lobe_polygon (doc, "blue-1", their_blue->ra_deg, their_blue->dec_deg,
+                                                     their_blue->n_vertices, 0, &error));
+    g_assert_no_error (error);
+    g_assert_true (efflux_review_sheet_is_busy (sheet));
+    wait_compared (sheet);
+    i = find_row (sheet, "blue-1", "blue-1");
+    r = g_ptr_array_index (efflux_review_sheet_get_comparison (sheet)->rows, i);
+    g_assert_cmpuint (r->n_both, ==, 100);
+    g_assert_cmpfloat (r->iou, ==, 1.0);
+    /* the note stays on the row */
+    g_assert_true (efflux_review_sheet_get_row_status (sheet, (guint) i, &status));
+    g_assert_cmpint (status, ==, EFFLUX_REVIEW_CHANGED);
+    g_assert_true (efflux_document_undo (doc));
+    wait_compared (sheet);
+  }
+
   /* stop reviewing: the outlines go, the notes stay */
   g_assert_true (gtk_widget_activate_action (GTK_WIDGET (window), "review.stop", NULL));
   g_assert_null (efflux_review_sheet_get_colleague (sheet));
