@@ -47,6 +47,9 @@ efflux_cmd_budget (int    argc,
   };
   g_autoptr (GOptionContext) context = g_option_context_new (N_("DOSSIER... - outflow feedback on the cloud"));
   g_autoptr (GString) s = g_string_new (NULL);
+  g_auto (GStrv) args = g_strdupv (argv);   /* before parsing: which numbers were given */
+  const char * const numbers[] = { "--cloud-mass", "--cloud-radius-pc", "--cloud-fwhm-kms", "--maclow-eta",
+                                   "--driving-scale-pc", NULL };
   EffluxCloud cloud;
   EffluxBudget b;
   double m_tot = 0.0, p_tot = 0.0, e_tot = 0.0, l_tot = 0.0;
@@ -63,6 +66,8 @@ efflux_cmd_budget (int    argc,
   g_option_context_set_translation_domain (context, GETTEXT_PACKAGE);
   g_option_context_add_main_entries (context, entries, NULL);
   if (!efflux_cli_parse (context, &argc, &argv, &status))
+    return status;
+  if (!efflux_cli_check_finite ("budget", args, numbers, &status))
     return status;
   if (rest == NULL || rest[0] == NULL)
     return efflux_cli_usage ("budget", "expected at least one DOSSIER");

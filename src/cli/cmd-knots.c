@@ -50,6 +50,8 @@ efflux_cmd_knots (int    argc,
   g_autoptr (EffluxDossier) dossier = NULL;
   g_autoptr (EffluxKnotList) list = NULL;
   g_autoptr (GString) s = g_string_new (NULL);
+  g_auto (GStrv) args = g_strdupv (argv);   /* before parsing: which numbers were given */
+  const char * const numbers[] = { "--vmin-kms", "--threshold-k-kms", "--inclination-deg", NULL };
   EffluxKnotOptions opt = { NAN, NAN, NAN, NAN };
   GError *error = NULL;
   int status = EFFLUX_EXIT_OK;
@@ -63,6 +65,8 @@ efflux_cmd_knots (int    argc,
   g_option_context_set_translation_domain (context, GETTEXT_PACKAGE);
   g_option_context_add_main_entries (context, entries, NULL);
   if (!efflux_cli_parse (context, &argc, &argv, &status))
+    return status;
+  if (!efflux_cli_check_finite ("knots", args, numbers, &status))
     return status;
   if (rest == NULL || g_strv_length (rest) != 1)
     return efflux_cli_usage ("knots", "expected exactly one DOSSIER");

@@ -13,17 +13,18 @@ efflux_cli_fail (GError *error)
 {
   int status = EFFLUX_EXIT_INPUT;
   g_autofree char *line = NULL;
-  char *nl;
+  char *p;
 
   if (error == NULL)
     return EFFLUX_EXIT_INPUT;
   if ((error->domain == EFFLUX_ERROR && error->code == EFFLUX_ERROR_USAGE) ||
       error->domain == G_OPTION_ERROR)
     status = EFFLUX_EXIT_USAGE;
-  /* one line, always */
+  /* one line, always, and no control characters (a file's own bytes may be quoted in it) */
   line = g_strdup (error->message);
-  while ((nl = strchr (line, '\n')) != NULL)
-    *nl = ' ';
+  for (p = line; *p != '\0'; p++)
+    if ((unsigned char) *p < 0x20 || *p == 0x7f)
+      *p = ' ';
   fprintf (stderr, "efflux-cli: error: %s\n", line);
   g_error_free (error);
   return status;
@@ -102,6 +103,36 @@ efflux_cli_check_output (const char *option,
   *status = efflux_cli_fail (g_error_new (EFFLUX_ERROR, EFFLUX_ERROR_IO, "%s %s: cannot write there: %s",
                                           option, path, why));
   return FALSE;
+}
+
+gboolean
+efflux_cli_check_finite (const char         *command,
+                         char              **args,
+                         const char * const *options,
+                         int                *status)
+{
+  for (guint i = 0; args != NULL && args[i] != NULL; i++)
+    for (guint k = 0; options[k] != NULL; k++)
+      {
+        gsize n = strlen (options[k]);
+        const char *value = NULL;
+        char *end = NULL;
+        double v;
+
+        if (strcmp (args[i], options[k]) == 0)
+          value = args[i + 1];
+        else if (strncmp (args[i], options[k], n) == 0 && args[i][n] == '=')
+          value = args[i] + n + 1;
+        if (value == NULL || *value == '\0')
+          continue;
+        v = g_ascii_strtod (value, &end);
+        if (*end == '\0' && !isfinite (v))
+          {
+            *status = efflux_cli_usage (command, "%s %s: expected a finite number", options[k], value);
+            return FALSE;
+          }
+      }
+  return TRUE;
 }
 
 int

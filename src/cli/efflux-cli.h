@@ -32,6 +32,14 @@ gboolean efflux_cli_check_output (const char *option,
                                   const char *path,
                                   int        *status);
 
+/* GLib reads "nan" and "inf" as numbers: refuse them as wrong usage for the number options named
+ * in options (NULL-terminated, e.g. "--cloud-mass") whose unset value is NaN. args is a copy of
+ * the command line taken before parsing. Prints the error and returns FALSE with *status = 2. */
+gboolean efflux_cli_check_finite (const char         *command,
+                                  char              **args,
+                                  const char * const *options,
+                                  int                *status);
+
 /* Write text (length -1: up to its NUL) to standard output and flush it; returns 0, or prints
  * "efflux-cli: error: standard output: WHY" and returns 1. */
 int efflux_cli_write_stdout (const char *text,

@@ -99,6 +99,8 @@ fits('cdelt3-text.fits', CDELT3="'fast'")
 fits('crval3-nan.fits', CRVAL3='                 NAN')
 fits('crpix1-inf.fits', CRPIX1='                 INF')
 fits('bitpix-17.fits', BITPIX='                  17')
+# control characters in a card's value (found by fuzz-fits): quoted by CFITSIO in its message
+fits('bitpix-control.fits', BITPIX='              \n\t\x0e')
 fits('ctype3-unclosed.fits', CTYPE3="'VRAD")
 fits('ctype3-unknown.fits', CTYPE3="'WXYZ'")
 fits('jybeam-no-beam.fits', BUNIT="'Jy/beam'", BMAJ=None, BMIN=None, BPA=None)
