@@ -10,6 +10,7 @@
 #include "efflux-dossier.h"
 #include "efflux-measure.h"
 #include "efflux-synth.h"
+#include "efflux-test-util.h"
 
 #include <glib/gstdio.h>
 
@@ -17,15 +18,6 @@
 #include <string.h>
 
 #define ERG_PER_MSUN_KMS2 (EFFLUX_MSUN * EFFLUX_KM * EFFLUX_KM)
-
-static void
-assert_rel (double got,
-            double want,
-            double tol)
-{
-  if (!(fabs (got - want) <= tol * fabs (want)))
-    g_error ("got %.8g, want %.8g (relative tolerance %g)", got, want, tol);
-}
 
 /* REFERENCES.md 4.9, turbulence example: M = 80 Msun, FWHM = 2 km/s, R = 0.2 pc, t_diss = R/sigma_3D;
  * Mac Low form with lambda_d = 2R, v_rms = sigma_3D (eta_v = 0.21/pi, Mac Low 1999 abstract). */
@@ -38,17 +30,17 @@ test_turbulence_example (void)
 
   g_assert_true (efflux_cloud_turbulence (&cloud, &t, &error));
   g_assert_no_error (error);
-  assert_rel (t.sigma_1d_kms, 0.84932, 1e-4);
-  assert_rel (t.sigma_3d_kms, 1.47107, 1e-4);
-  assert_rel (t.e_turb_erg / ERG_PER_MSUN_KMS2, 86.5617, 1e-4);
-  assert_rel (t.e_turb_erg, 1.72120e45, 1e-4);
-  assert_rel (t.t_cross_yr, 1.32936e5, 1e-4);
-  assert_rel (t.l_turb_erg_s, 4.1028e32, 1e-4);
-  assert_rel (t.l_turb_maclow_erg_s, 1.7232e32, 1e-4);
+  efflux_test_assert_rel (t.sigma_1d_kms, 0.84932, 1e-4);
+  efflux_test_assert_rel (t.sigma_3d_kms, 1.47107, 1e-4);
+  efflux_test_assert_rel (t.e_turb_erg / ERG_PER_MSUN_KMS2, 86.5617, 1e-4);
+  efflux_test_assert_rel (t.e_turb_erg, 1.72120e45, 1e-4);
+  efflux_test_assert_rel (t.t_cross_yr, 1.32936e5, 1e-4);
+  efflux_test_assert_rel (t.l_turb_erg_s, 4.1028e32, 1e-4);
+  efflux_test_assert_rel (t.l_turb_maclow_erg_s, 1.7232e32, 1e-4);
   /* 0.2705 M FWHM^2 (REFERENCES.md 1.11, [D]) to its four digits */
-  assert_rel (t.e_turb_erg / ERG_PER_MSUN_KMS2, 0.2705 * 80.0 * 4.0, 2e-4);
+  efflux_test_assert_rel (t.e_turb_erg / ERG_PER_MSUN_KMS2, 0.2705 * 80.0 * 4.0, 2e-4);
   /* P_turb = M sigma_3D */
-  assert_rel (t.p_turb_msun_kms, 80.0 * 1.47107, 1e-4);
+  efflux_test_assert_rel (t.p_turb_msun_kms, 80.0 * 1.47107, 1e-4);
   g_assert_cmpfloat (t.driving_scale_pc, ==, 0.4);
 
   /* the coefficient and the driving scale are exposed: L scales as eta_v / lambda_d */
@@ -56,7 +48,7 @@ test_turbulence_example (void)
     EffluxCloud c2 = { 80.0, 0.2, 2.0, 2.0 * EFFLUX_MACLOW_ETA_V, 0.8 };
     EffluxTurbulence t2;
     g_assert_true (efflux_cloud_turbulence (&c2, &t2, NULL));
-    assert_rel (t2.l_turb_maclow_erg_s, 1.7232e32, 1e-4);
+    efflux_test_assert_rel (t2.l_turb_maclow_erg_s, 1.7232e32, 1e-4);
     g_assert_cmpfloat (t2.eta_v, ==, 2.0 * EFFLUX_MACLOW_ETA_V);
   }
 }
@@ -66,8 +58,8 @@ test_turbulence_example (void)
 static void
 test_unit_checks (void)
 {
-  assert_rel (64.0 * ERG_PER_MSUN_KMS2, 1.27258e45, 1e-5);
-  assert_rel (7e44 / ERG_PER_MSUN_KMS2, 35.20, 1e-3);
+  efflux_test_assert_rel (64.0 * ERG_PER_MSUN_KMS2, 1.27258e45, 1e-5);
+  efflux_test_assert_rel (7e44 / ERG_PER_MSUN_KMS2, 35.20, 1e-3);
 }
 
 /* Serpens South as REFERENCES.md 5 quotes Nakamura et al. 2011 (80 Msun, 0.2 pc; outflows
@@ -81,13 +73,13 @@ test_budget_ratios (void)
   double e_out = 64.0 * ERG_PER_MSUN_KMS2, l_out = 1e32;
 
   g_assert_true (efflux_budget_compute (&cloud, 1, 0.6, 8.0, e_out, l_out, &b, NULL));
-  assert_rel (b.e_ratio, 64.0 / 86.5617, 1e-4);
-  assert_rel (b.l_ratio, 1e32 / 4.1028e32, 1e-4);
-  assert_rel (b.l_ratio_maclow, 1e32 / 1.7232e32, 1e-4);
-  assert_rel (b.p_ratio, 8.0 / (80.0 * 1.47107), 1e-4);
-  assert_rel (b.m_unbound_msun, 8.0 / b.cloud.v_esc_kms, 1e-12);
-  assert_rel (b.unbound_fraction, b.m_unbound_msun / 80.0, 1e-12);
-  assert_rel (b.grav_ratio, e_out / b.cloud.e_grav_erg, 1e-12);
+  efflux_test_assert_rel (b.e_ratio, 64.0 / 86.5617, 1e-4);
+  efflux_test_assert_rel (b.l_ratio, 1e32 / 4.1028e32, 1e-4);
+  efflux_test_assert_rel (b.l_ratio_maclow, 1e32 / 1.7232e32, 1e-4);
+  efflux_test_assert_rel (b.p_ratio, 8.0 / (80.0 * 1.47107), 1e-4);
+  efflux_test_assert_rel (b.m_unbound_msun, 8.0 / b.cloud.v_esc_kms, 1e-12);
+  efflux_test_assert_rel (b.unbound_fraction, b.m_unbound_msun / 80.0, 1e-12);
+  efflux_test_assert_rel (b.grav_ratio, e_out / b.cloud.e_grav_erg, 1e-12);
 }
 
 /* E_grav = 3/5 G M^2 / R and v_esc = sqrt (2 G M / R) for the 4.9 cloud, against astropy 5.2
@@ -95,39 +87,21 @@ test_budget_ratios (void)
 static void
 test_gravity_astropy (void)
 {
-  const char *python = g_getenv ("EFFLUX_PYTHON");
   const char *code =
     "from astropy import constants as c, units as u\n"
     "M = 80 * u.M_sun; R = 0.2 * u.pc\n"
     "print((0.6 * c.G * M**2 / R).to(u.erg).value)\n"
     "print(((2 * c.G * M / R) ** 0.5).to(u.km / u.s).value)\n";
-  const char *argv[] = { python, "-c", code, NULL };
-  g_autofree char *out = NULL;
-  g_autofree char *err = NULL;
-  g_autoptr (GError) error = NULL;
+  g_autofree char *out = efflux_test_python_code (code, NULL);
   g_auto (GStrv) lines = NULL;
   EffluxCloud cloud = { 80.0, 0.2, 2.0, NAN, NAN };
   EffluxTurbulence t;
-  int status = 0;
 
-  if (python == NULL || *python == '\0')
-    {
-      g_test_message ("EFFLUX_PYTHON is not set: astropy cannot be run (run through meson test)");
-      g_test_fail ();
-      return;
-    }
-  if (!g_spawn_sync (NULL, (char **) argv, NULL, G_SPAWN_DEFAULT, NULL, NULL, &out, &err, &status, &error)
-      || !g_spawn_check_wait_status (status, &error))
-    {
-      g_test_message ("astropy failed: %s\n%s", error->message, err != NULL ? err : "");
-      g_test_fail ();
-      return;
-    }
   lines = g_strsplit (out, "\n", -1);
   g_assert_cmpuint (g_strv_length (lines), >=, 2);
   g_assert_true (efflux_cloud_turbulence (&cloud, &t, NULL));
-  assert_rel (t.e_grav_erg, g_ascii_strtod (lines[0], NULL), 1e-6);
-  assert_rel (t.v_esc_kms, g_ascii_strtod (lines[1], NULL), 1e-6);
+  efflux_test_assert_rel (t.e_grav_erg, g_ascii_strtod (lines[0], NULL), 1e-6);
+  efflux_test_assert_rel (t.v_esc_kms, g_ascii_strtod (lines[1], NULL), 1e-6);
 }
 
 static void
@@ -147,26 +121,6 @@ test_refused (void)
     }
 }
 
-static int
-run_cli (const char * const *tail,
-         char              **out,
-         char              **err)
-{
-  const char *cli = g_getenv ("EFFLUX_CLI");
-  g_autoptr (GPtrArray) argv = g_ptr_array_new ();
-  g_autoptr (GError) error = NULL;
-  int status = 0;
-
-  g_assert_nonnull (cli);
-  g_ptr_array_add (argv, (gpointer) cli);
-  for (guint i = 0; tail[i] != NULL; i++)
-    g_ptr_array_add (argv, (gpointer) tail[i]);
-  g_ptr_array_add (argv, NULL);
-  g_assert_true (g_spawn_sync (NULL, (char **) argv->pdata, NULL, G_SPAWN_DEFAULT, NULL, NULL, out, err,
-                               &status, &error));
-  return WIFEXITED (status) ? WEXITSTATUS (status) : -1;
-}
-
 static void
 test_cli_usage (void)
 {
@@ -181,26 +135,15 @@ test_cli_usage (void)
   g_autofree char *o1 = NULL, *e1 = NULL, *o2 = NULL, *e2 = NULL, *o3 = NULL, *e3 = NULL;
   g_autofree char *o4 = NULL, *e4 = NULL, *o5 = NULL, *e5 = NULL;
 
-  g_assert_cmpint (run_cli (no_cloud, &o1, &e1), ==, 2);
+  g_assert_cmpint (efflux_test_run_cli (no_cloud, &o1, &e1), ==, 2);
   g_assert_nonnull (strstr (e1, "efflux-cli: error: "));
-  g_assert_cmpint (run_cli (no_dossier, &o2, &e2), ==, 2);
-  g_assert_cmpint (run_cli (zero_mass, &o3, &e3), ==, 2);
+  g_assert_cmpint (efflux_test_run_cli (no_dossier, &o2, &e2), ==, 2);
+  g_assert_cmpint (efflux_test_run_cli (zero_mass, &o3, &e3), ==, 2);
   g_assert_nonnull (strstr (e3, "--cloud-mass 0"));
-  g_assert_cmpint (run_cli (missing, &o4, &e4), ==, 1);
+  g_assert_cmpint (efflux_test_run_cli (missing, &o4, &e4), ==, 1);
   g_assert_nonnull (strstr (e4, "/nonexistent/x.efflux"));
-  g_assert_cmpint (run_cli (help, &o5, &e5), ==, 0);
+  g_assert_cmpint (efflux_test_run_cli (help, &o5, &e5), ==, 0);
   g_assert_nonnull (strstr (o5, "--cloud-fwhm-kms"));
-}
-
-static double
-json_value (const char *json,
-            const char *key)
-{
-  g_autofree char *pat = g_strdup_printf ("\"%s\": ", key);
-  const char *p = strstr (json, pat);
-
-  g_assert_nonnull (p);
-  return g_ascii_strtod (p + strlen (pat), NULL);
 }
 
 /* The command sums the total rows of efflux_measure_dossier over its dossiers (the same dossier
@@ -220,7 +163,7 @@ test_cli_sample (void)
     "half-opening-deg=15\n\n"
     "[Cube co]\nline=12CO 2-1\n";
   g_autoptr (GError) error = NULL;
-  g_autofree char *dir = g_dir_make_tmp ("efflux-budget-XXXXXX", &error);
+  g_autofree char *dir = efflux_test_tmp_dir ("efflux-budget");
   g_autoptr (EffluxSynthRecipe) rc = NULL;
   g_autoptr (EffluxDossier) dossier = NULL;
   g_autoptr (EffluxMeasureResult) result = NULL;
@@ -248,32 +191,23 @@ test_cli_sample (void)
   {
     const char *argv[] = { "budget", dpath, dpath, "--cloud-mass", "80", "--cloud-radius-pc", "0.2",
                            "--cloud-fwhm-kms", "2", "--json", NULL };
-    g_assert_cmpint (run_cli (argv, &out, &err), ==, 0);
+    g_assert_cmpint (efflux_test_run_cli (argv, &out, &err), ==, 0);
   }
-  g_assert_cmpfloat (json_value (out, "n_sources"), ==, 2.0);
-  assert_rel (json_value (out, "outflow_mass_msun"), 2.0 * total->mass_msun, 1e-12);
-  assert_rel (json_value (out, "outflow_momentum_msun_kms"), 2.0 * total->momentum_msun_kms, 1e-12);
-  assert_rel (json_value (out, "outflow_energy_erg"), 2.0 * total->energy_erg, 1e-12);
-  assert_rel (json_value (out, "outflow_lmech_erg_s"), 2.0 * total->lmech_lsun * EFFLUX_LSUN, 1e-12);
+  g_assert_cmpfloat (efflux_test_json_number (out, "n_sources"), ==, 2.0);
+  efflux_test_assert_rel (efflux_test_json_number (out, "outflow_mass_msun"), 2.0 * total->mass_msun, 1e-12);
+  efflux_test_assert_rel (efflux_test_json_number (out, "outflow_momentum_msun_kms"), 2.0 * total->momentum_msun_kms, 1e-12);
+  efflux_test_assert_rel (efflux_test_json_number (out, "outflow_energy_erg"), 2.0 * total->energy_erg, 1e-12);
+  efflux_test_assert_rel (efflux_test_json_number (out, "outflow_lmech_erg_s"), 2.0 * total->lmech_lsun * EFFLUX_LSUN, 1e-12);
   /* REFERENCES.md 4.9 through the command */
-  assert_rel (json_value (out, "e_turb_erg"), 1.72120e45, 1e-4);
-  assert_rel (json_value (out, "t_cross_yr"), 1.32936e5, 1e-4);
-  assert_rel (json_value (out, "l_turb_erg_s"), 4.1028e32, 1e-4);
-  assert_rel (json_value (out, "l_turb_maclow_erg_s"), 1.7232e32, 1e-4);
+  efflux_test_assert_rel (efflux_test_json_number (out, "e_turb_erg"), 1.72120e45, 1e-4);
+  efflux_test_assert_rel (efflux_test_json_number (out, "t_cross_yr"), 1.32936e5, 1e-4);
+  efflux_test_assert_rel (efflux_test_json_number (out, "l_turb_erg_s"), 4.1028e32, 1e-4);
+  efflux_test_assert_rel (efflux_test_json_number (out, "l_turb_maclow_erg_s"), 1.7232e32, 1e-4);
   g_assert_true (efflux_cloud_turbulence (&cloud, &t, NULL));
-  assert_rel (json_value (out, "e_out_over_e_turb"), 2.0 * total->energy_erg / t.e_turb_erg, 1e-12);
-  assert_rel (json_value (out, "unbound_mass_msun"), 2.0 * total->momentum_msun_kms / t.v_esc_kms, 1e-12);
+  efflux_test_assert_rel (efflux_test_json_number (out, "e_out_over_e_turb"), 2.0 * total->energy_erg / t.e_turb_erg, 1e-12);
+  efflux_test_assert_rel (efflux_test_json_number (out, "unbound_mass_msun"), 2.0 * total->momentum_msun_kms / t.v_esc_kms, 1e-12);
 
-  {
-    g_autoptr (GDir) d = g_dir_open (dir, 0, NULL);
-    const char *name;
-    while (d != NULL && (name = g_dir_read_name (d)) != NULL)
-      {
-        g_autofree char *p = g_build_filename (dir, name, NULL);
-        g_unlink (p);
-      }
-    g_rmdir (dir);
-  }
+  efflux_test_remove_tree (dir);
 }
 
 int

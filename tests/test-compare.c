@@ -21,6 +21,7 @@
 #include "efflux-fitsout.h"
 #include "efflux-review.h"
 #include "efflux-sample.h"
+#include "efflux-test-util.h"
 
 #define REST_12CO21 230.538e9
 #define RA0 83.8
@@ -42,8 +43,7 @@ fixture_set_up (Fixture      *f,
   g_autoptr (GError) error = NULL;
   g_autofree char *path = NULL;
 
-  f->dir = g_dir_make_tmp ("efflux-compare-XXXXXX", &error);
-  g_assert_no_error (error);
+  f->dir = efflux_test_tmp_dir ("efflux-compare");
   f->cube = efflux_cube_new_simple (NX, NY, 12, RA0, DEC0, 2.0, -5.5, 1.0, REST_12CO21);
   g_assert_nonnull (f->cube);
   for (gsize i = 0; i < (gsize) NX * NY * 12; i++)
@@ -57,15 +57,7 @@ static void
 fixture_tear_down (Fixture      *f,
                    gconstpointer data)
 {
-  g_autoptr (GDir) d = g_dir_open (f->dir, 0, NULL);
-  const char *name;
-
-  while (d != NULL && (name = g_dir_read_name (d)) != NULL)
-    {
-      g_autofree char *p = g_build_filename (f->dir, name, NULL);
-      g_unlink (p);
-    }
-  g_rmdir (f->dir);
+  efflux_test_remove_tree (f->dir);
   g_free (f->dir);
   efflux_cube_free (f->cube);
 }
@@ -309,21 +301,9 @@ run_cli (const char * const *args,
          int                *exit_status,
          char              **err_out)
 {
-  const char *cli = g_getenv ("EFFLUX_CLI");
-  g_autoptr (GPtrArray) argv = g_ptr_array_new ();
-  g_autoptr (GError) error = NULL;
   char *out = NULL;
-  int status = 0;
 
-  g_assert_nonnull (cli);
-  g_ptr_array_add (argv, (gpointer) cli);
-  for (gsize i = 0; args[i] != NULL; i++)
-    g_ptr_array_add (argv, (gpointer) args[i]);
-  g_ptr_array_add (argv, NULL);
-  g_assert_true (g_spawn_sync (NULL, (char **) argv->pdata, NULL, G_SPAWN_DEFAULT, NULL, NULL,
-                               &out, err_out, &status, &error));
-  g_assert_no_error (error);
-  *exit_status = WIFEXITED (status) ? WEXITSTATUS (status) : -1;
+  *exit_status = efflux_test_run_cli (args, &out, err_out);
   return out;
 }
 

@@ -16,56 +16,18 @@
 #include <string.h>
 
 #include "efflux-cube.h"
+#include "efflux-test-util.h"
 
 static char *tmpdir;
 static GKeyFile *expect;
 
 static void
-rm_rf (const char *dir)
-{
-  GDir *d = g_dir_open (dir, 0, NULL);
-  const char *name;
-
-  if (d == NULL)
-    return;
-  while ((name = g_dir_read_name (d)) != NULL)
-    {
-      g_autofree char *p = g_build_filename (dir, name, NULL);
-
-      if (g_file_test (p, G_FILE_TEST_IS_DIR))
-        rm_rf (p);
-      else
-        g_unlink (p);
-    }
-  g_dir_close (d);
-  g_rmdir (dir);
-}
-
-static void
 make_reference (void)
 {
-  const char *python = g_getenv ("EFFLUX_PYTHON");
-  const char *root = g_getenv ("EFFLUX_SOURCE_ROOT");
-  g_autofree char *script = NULL;
   g_autofree char *ini = NULL;
-  g_autofree char *out = NULL, *err = NULL;
   g_autoptr(GError) error = NULL;
-  int wait_status = 0;
 
-  /* a missing reference interpreter is a failure, never a skip */
-  g_assert_nonnull (python);
-  g_assert_cmpstr (python, !=, "");
-  g_assert_nonnull (root);
-  script = g_build_filename (root, "tests", "ref", "make_cubes.py", NULL);
-  {
-    const char *argv[] = { python, script, tmpdir, NULL };
-
-    g_assert_true (g_spawn_sync (NULL, (char **) argv, NULL, G_SPAWN_DEFAULT, NULL, NULL, &out, &err,
-                                 &wait_status, &error));
-  }
-  g_assert_no_error (error);
-  if (!g_spawn_check_wait_status (wait_status, NULL))
-    g_error ("make_cubes.py failed: %s", err);
+  g_free (efflux_test_python ("make_cubes.py", (const char *[]) { tmpdir, NULL }));
   ini = g_build_filename (tmpdir, "expect.ini", NULL);
   expect = g_key_file_new ();
   g_assert_true (g_key_file_load_from_file (expect, ini, G_KEY_FILE_NONE, &error));
@@ -244,14 +206,11 @@ check_specific (void)
 static void
 check_cli_json (void)
 {
-  const char *cli = g_getenv ("EFFLUX_CLI");
-  const char *python = g_getenv ("EFFLUX_PYTHON");
   g_autofree char *path = g_build_filename (tmpdir, "f32-jybeam-upper.fits", NULL);
   g_autofree char *json = g_build_filename (tmpdir, "info.json", NULL);
-  g_autofree char *out = NULL, *err = NULL, *pout = NULL, *perr = NULL;
+  g_autofree char *out = NULL, *err = NULL, *pout = NULL;
   g_autoptr(GError) error = NULL;
-  int status = 0;
-  const char *argv[] = { cli, "info", path, "--json", NULL };
+  const char *args[] = { "info", path, "--json", NULL };
   const char *check =
     "import json,sys\n"
     "d=json.load(open(sys.argv[1]))\n"
@@ -268,23 +227,10 @@ check_cli_json (void)
   g_autoptr(EffluxCube) cube = NULL;
   double v0, v1, dv, ra, dec, ra_e, dec_e;
 
-  g_assert_nonnull (cli);
-  g_assert_nonnull (python);
-  g_assert_true (g_spawn_sync (NULL, (char **) argv, NULL, G_SPAWN_DEFAULT, NULL, NULL, &out, &err, &status,
-                               &error));
-  g_assert_no_error (error);
-  if (!g_spawn_check_wait_status (status, NULL))
+  if (efflux_test_run_cli (args, &out, &err) != 0)
     g_error ("efflux-cli info --json failed: %s", err);
   g_assert_true (g_file_set_contents (json, out, -1, NULL));
-  {
-    const char *pargv[] = { python, "-c", check, json, NULL };
-
-    g_assert_true (g_spawn_sync (NULL, (char **) pargv, NULL, G_SPAWN_DEFAULT, NULL, NULL, &pout, &perr,
-                                 &status, &error));
-  }
-  g_assert_no_error (error);
-  if (!g_spawn_check_wait_status (status, NULL))
-    g_error ("info --json check failed: %s\n%s", perr, out);
+  pout = efflux_test_python_code (check, (const char *[]) { json, NULL });
   g_assert_cmpint (sscanf (pout, "%lf %lf %lf %lf %lf", &v0, &v1, &dv, &ra, &dec), ==, 5);
   cube = efflux_cube_load (path, NULL, NULL, NULL, NULL, &error);
   g_assert_no_error (error);
@@ -306,8 +252,7 @@ main (int    argc,
   int ret;
 
   g_test_init (&argc, &argv, NULL);
-  tmpdir = g_dir_make_tmp ("efflux-cube-astropy-XXXXXX", &error);
-  g_assert_no_error (error);
+  tmpdir = efflux_test_tmp_dir ("efflux-cube-astropy");
   make_reference ();
   groups = g_key_file_get_groups (expect, NULL);
   for (int i = 0; groups[i] != NULL; i++)
@@ -320,7 +265,7 @@ main (int    argc,
   g_test_add_func ("/cube/astropy/cli-info-json", check_cli_json);
   ret = g_test_run ();
   g_key_file_free (expect);
-  rm_rf (tmpdir);
+  efflux_test_remove_tree (tmpdir);
   g_free (tmpdir);
   return ret;
 }

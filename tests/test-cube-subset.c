@@ -15,6 +15,7 @@
 
 #include "efflux-cube.h"
 #include "efflux-fitsout.h"
+#include "efflux-test-util.h"
 
 #define NX 70
 #define NY 130
@@ -111,7 +112,7 @@ run_case (int    bitpix,
           double dv)
 {
   g_autoptr(GError) error = NULL;
-  g_autofree char *dir = g_dir_make_tmp ("efflux-test-subset-XXXXXX", &error);
+  g_autofree char *dir = efflux_test_tmp_dir ("efflux-test-subset");
   g_autofree char *path = NULL;
   g_autoptr(EffluxCube) cube = make_cube (dv);
   EffluxFitsCubeOptions wopt = { EFFLUX_FITS_SPECTRAL_VRAD, FALSE, bitpix, NULL, NULL };

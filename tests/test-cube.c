@@ -12,6 +12,7 @@
 #include <sys/wait.h>
 
 #include "efflux-cube.h"
+#include "efflux-test-util.h"
 
 static char *tmpdir;
 
@@ -430,23 +431,15 @@ test_bad_files (void)
 
   /* the command line: exit 1 and one line on stderr naming the file */
   {
-    const char *cli = g_getenv ("EFFLUX_CLI");
     const char *files[] = { empty, zerostep };
     const char *cards[] = { "SIMPLE", "CDELT3" };
 
-    g_assert_nonnull (cli);
     for (int i = 0; i < 2; i++)
       {
-        const char *argv[] = { cli, "info", files[i], NULL };
+        const char *args[] = { "info", files[i], NULL };
         g_autofree char *out = NULL, *err = NULL;
-        g_autoptr(GError) error = NULL;
-        int status = 0;
 
-        g_assert_true (g_spawn_sync (NULL, (char **) argv, NULL, G_SPAWN_DEFAULT, NULL, NULL, &out, &err,
-                                     &status, &error));
-        g_assert_no_error (error);
-        g_assert_true (WIFEXITED (status));
-        g_assert_cmpint (WEXITSTATUS (status), ==, 1);
+        g_assert_cmpint (efflux_test_run_cli (args, &out, &err), ==, 1);
         g_assert_cmpstr (out, ==, "");
         g_assert_true (g_str_has_prefix (err, "efflux-cli: error: "));
         g_assert_nonnull (strstr (err, files[i]));
@@ -456,12 +449,9 @@ test_bad_files (void)
       }
     /* usage errors exit 2 */
     {
-      const char *argv[] = { cli, "info", NULL };
-      int status = 0;
+      const char *args[] = { "info", NULL };
 
-      g_assert_true (g_spawn_sync (NULL, (char **) argv, NULL, G_SPAWN_STDOUT_TO_DEV_NULL | G_SPAWN_STDERR_TO_DEV_NULL,
-                                   NULL, NULL, NULL, NULL, &status, NULL));
-      g_assert_cmpint (WEXITSTATUS (status), ==, 2);
+      g_assert_cmpint (efflux_test_run_cli (args, NULL, NULL), ==, 2);
     }
   }
 
@@ -679,8 +669,7 @@ main (int    argc,
   int ret;
 
   g_test_init (&argc, &argv, NULL);
-  tmpdir = g_dir_make_tmp ("efflux-cube-XXXXXX", &error);
-  g_assert_no_error (error);
+  tmpdir = efflux_test_tmp_dir ("efflux-cube");
   g_test_add_func ("/cube/new-simple", test_new_simple);
   g_test_add_func ("/cube/channel-range", test_channel_range);
   g_test_add_func ("/cube/jy-beam-to-k", test_jy_beam_to_k);

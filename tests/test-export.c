@@ -12,6 +12,7 @@
 #include "efflux-cube.h"
 #include "efflux-export.h"
 #include "efflux-fitsout.h"
+#include "efflux-test-util.h"
 
 #define REST_12CO21 230.538e9
 
@@ -58,8 +59,7 @@ fixture_set_up (Fixture      *f,
   g_autofree char *west = NULL;
   g_autofree char *text = NULL;
 
-  f->dir = g_dir_make_tmp ("efflux-export-XXXXXX", &error);
-  g_assert_no_error (error);
+  f->dir = efflux_test_tmp_dir ("efflux-export");
   f->cube = g_build_filename (f->dir, "co.fits", NULL);
   f->dossier = g_build_filename (f->dir, "src.efflux", NULL);
   g_assert_true (efflux_fits_write_cube (cube, f->cube, NULL, &error));
@@ -80,40 +80,10 @@ static void
 fixture_tear_down (Fixture      *f,
                    gconstpointer data)
 {
-  g_autoptr (GDir) d = g_dir_open (f->dir, 0, NULL);
-  const char *name;
-
-  while (d != NULL && (name = g_dir_read_name (d)) != NULL)
-    {
-      g_autofree char *p = g_build_filename (f->dir, name, NULL);
-      g_unlink (p);
-    }
-  g_rmdir (f->dir);
+  efflux_test_remove_tree (f->dir);
   g_free (f->dir);
   g_free (f->cube);
   g_free (f->dossier);
-}
-
-static char *
-run (const char         *program,
-     const char * const *args,
-     int                *exit_status,
-     char              **err_out)
-{
-  g_autoptr (GPtrArray) argv = g_ptr_array_new ();
-  g_autoptr (GError) error = NULL;
-  char *out = NULL;
-  int status = 0;
-
-  g_ptr_array_add (argv, (gpointer) program);
-  for (gsize i = 0; args[i] != NULL; i++)
-    g_ptr_array_add (argv, (gpointer) args[i]);
-  g_ptr_array_add (argv, NULL);
-  g_assert_true (g_spawn_sync (NULL, (char **) argv->pdata, NULL, G_SPAWN_DEFAULT, NULL, NULL,
-                               &out, err_out, &status, &error));
-  g_assert_no_error (error);
-  *exit_status = WIFEXITED (status) ? WEXITSTATUS (status) : -1;
-  return out;
 }
 
 static void
@@ -124,40 +94,17 @@ export (Fixture    *f,
   const char *args[] = { "export", f->dossier, "--masks", kind, "-o", out, NULL };
   g_autofree char *err = NULL;
   g_autofree char *stdout_text = NULL;
-  int status = 0;
+  int status = efflux_test_run_cli (args, &stdout_text, &err);
 
-  g_assert_nonnull (g_getenv ("EFFLUX_CLI"));
-  stdout_text = run (g_getenv ("EFFLUX_CLI"), args, &status, &err);
   if (status != 0)
     g_error ("efflux-cli export --masks %s: %s", kind, err);
 }
 
-/* Run export_check.py; NULL (and the test failed) without EFFLUX_PYTHON. */
+/* Run tests/ref/export_check.py (a missing EFFLUX_PYTHON or a failing check fails the test). */
 static char *
 check (const char * const *args)
 {
-  const char *python = g_getenv ("EFFLUX_PYTHON");
-  const char *src = g_getenv ("EFFLUX_SOURCE_ROOT");
-  g_autofree char *script = NULL;
-  g_autofree char *err = NULL;
-  g_autoptr (GPtrArray) argv = g_ptr_array_new ();
-  char *out;
-  int status = 0;
-
-  if (python == NULL || *python == '\0' || src == NULL)
-    {
-      g_test_fail_printf ("EFFLUX_PYTHON or EFFLUX_SOURCE_ROOT is not set (run through meson test)");
-      return NULL;
-    }
-  script = g_build_filename (src, "tests", "ref", "export_check.py", NULL);
-  g_ptr_array_add (argv, script);
-  for (gsize i = 0; args[i] != NULL; i++)
-    g_ptr_array_add (argv, (gpointer) args[i]);
-  g_ptr_array_add (argv, NULL);
-  out = run (python, (const char * const *) argv->pdata, &status, &err);
-  if (status != 0)
-    g_error ("export_check.py %s: exit %d: %s%s", args[0], status, out, err);
-  return out;
+  return efflux_test_python ("export_check.py", args);
 }
 
 static void
@@ -255,31 +202,35 @@ test_errors (Fixture      *f,
   {
     const char *args[] = { "export", f->dossier, "--masks", "4d", "-o", out, NULL };
     g_autofree char *err = NULL;
-    g_autofree char *o = run (g_getenv ("EFFLUX_CLI"), args, &status, &err);
+    g_autofree char *o = NULL;
 
+    status = efflux_test_run_cli (args, &o, &err);
     g_assert_cmpint (status, ==, 2);
     g_assert_cmpstr (err, ==, "efflux-cli: error: export: --masks 4d: expected 2d, 3d or stcs (see 'efflux-cli export --help')\n");
   }
   {
     const char *args[] = { "export", f->dossier, "--masks", "2d", NULL };
     g_autofree char *err = NULL;
-    g_autofree char *o = run (g_getenv ("EFFLUX_CLI"), args, &status, &err);
+    g_autofree char *o = NULL;
 
+    status = efflux_test_run_cli (args, &o, &err);
     g_assert_cmpint (status, ==, 2);
   }
   {
     const char *args[] = { "export", "--help", NULL };
     g_autofree char *err = NULL;
-    g_autofree char *o = run (g_getenv ("EFFLUX_CLI"), args, &status, &err);
+    g_autofree char *o = NULL;
 
+    status = efflux_test_run_cli (args, &o, &err);
     g_assert_cmpint (status, ==, 0);
     g_assert_nonnull (strstr (o, "--masks"));
   }
   {
     const char *args[] = { "compare", "--help", NULL };
     g_autofree char *err = NULL;
-    g_autofree char *o = run (g_getenv ("EFFLUX_CLI"), args, &status, &err);
+    g_autofree char *o = NULL;
 
+    status = efflux_test_run_cli (args, &o, &err);
     g_assert_cmpint (status, ==, 0);
     g_assert_nonnull (strstr (o, "--format"));
   }
@@ -288,9 +239,10 @@ test_errors (Fixture      *f,
   {
     const char *args[] = { "export", empty, "--masks", "stcs", "-o", out, NULL };
     g_autofree char *err = NULL;
-    g_autofree char *o = run (g_getenv ("EFFLUX_CLI"), args, &status, &err);
+    g_autofree char *o = NULL;
     g_autofree char *want = g_strdup_printf ("efflux-cli: error: %s: the dossier has no [Lobe ...] group to export\n", empty);
 
+    status = efflux_test_run_cli (args, &o, &err);
     g_assert_cmpint (status, ==, 1);
     g_assert_cmpstr (err, ==, want);
     g_assert_false (g_file_test (out, G_FILE_TEST_EXISTS));

@@ -29,39 +29,10 @@
 #include "efflux-figure.h"
 #include "efflux-maps.h"
 #include "efflux-stretch.h"
+#include "efflux-test-util.h"
 
 static char *demo_dir;      /* the synthetic demo: cubes and demo.efflux */
 static char *demo_dossier;
-
-/* Run a program; returns its exit status (-1 when it did not exit normally). */
-static int
-run (const char * const *argv,
-     char              **out,
-     char              **err)
-{
-  g_autoptr (GError) error = NULL;
-  int wait_status = 0;
-
-  /* Output not asked for goes to /dev/null: it must not mix with the TAP stream. */
-  GSpawnFlags flags = (out == NULL ? G_SPAWN_STDOUT_TO_DEV_NULL : 0)
-                      | (err == NULL ? G_SPAWN_STDERR_TO_DEV_NULL : 0);
-
-  g_assert_true (g_spawn_sync (NULL, (char **) argv, NULL, flags, NULL, NULL, out, err,
-                               &wait_status, &error));
-  g_assert_no_error (error);
-  if (WIFEXITED (wait_status))
-    return WEXITSTATUS (wait_status);
-  return -1;
-}
-
-static const char *
-cli (void)
-{
-  const char *path = g_getenv ("EFFLUX_CLI");
-
-  g_assert_nonnull (path);
-  return path;
-}
 
 /* Run tests/ref/figure_check.py; a missing EFFLUX_PYTHON is a failure. */
 static char *
@@ -69,45 +40,14 @@ check (const char *what,
        const char *file,
        const char * const *more)
 {
-  const char *python = g_getenv ("EFFLUX_PYTHON");
-  const char *root = g_getenv ("EFFLUX_SOURCE_ROOT");
-  g_autofree char *script = NULL;
-  g_autoptr (GPtrArray) argv = g_ptr_array_new ();
-  char *out = NULL, *err = NULL;
-  int status;
+  g_autoptr (GPtrArray) args = g_ptr_array_new ();
 
-  if (python == NULL || *python == '\0')
-    g_error ("EFFLUX_PYTHON is not set: the reference checks need Debian's python3 with astropy");
-  g_assert_nonnull (root);
-  script = g_build_filename (root, "tests", "ref", "figure_check.py", NULL);
-  g_ptr_array_add (argv, (gpointer) python);
-  g_ptr_array_add (argv, script);
-  g_ptr_array_add (argv, (gpointer) what);
-  g_ptr_array_add (argv, (gpointer) file);
+  g_ptr_array_add (args, (gpointer) what);
+  g_ptr_array_add (args, (gpointer) file);
   for (gsize i = 0; more != NULL && more[i] != NULL; i++)
-    g_ptr_array_add (argv, (gpointer) more[i]);
-  g_ptr_array_add (argv, NULL);
-  status = run ((const char * const *) argv->pdata, &out, &err);
-  if (status != 0)
-    g_error ("figure_check.py %s %s failed: %s", what, file, err);
-  g_free (err);
-  return out;
-}
-
-/* The integer after "key": in a JSON object. */
-static double
-json_number (const char *json,
-             const char *key)
-{
-  g_autofree char *pattern = g_strdup_printf ("\"%s\": ([-0-9.eE+]+)", key);
-  g_autoptr (GRegex) re = g_regex_new (pattern, 0, 0, NULL);
-  g_autoptr (GMatchInfo) match = NULL;
-  g_autofree char *text = NULL;
-
-  if (!g_regex_match (re, json, 0, &match))
-    g_error ("no \"%s\" in %s", key, json);
-  text = g_match_info_fetch (match, 1);
-  return g_ascii_strtod (text, NULL);
+    g_ptr_array_add (args, (gpointer) more[i]);
+  g_ptr_array_add (args, NULL);
+  return efflux_test_python ("figure_check.py", (const char * const *) args->pdata);
 }
 
 /* Every number in a text, in order. */
@@ -130,45 +70,6 @@ numbers (const char *text)
   return out;
 }
 
-static char *
-tmp_dir (void)
-{
-  g_autoptr (GError) error = NULL;
-  char *dir = g_dir_make_tmp ("efflux-figure-XXXXXX", &error);
-
-  g_assert_no_error (error);
-  return dir;
-}
-
-static void
-remove_tree (const char *dir)
-{
-  g_autoptr (GDir) d = g_dir_open (dir, 0, NULL);
-  const char *name;
-
-  if (d == NULL)
-    return;
-  while ((name = g_dir_read_name (d)) != NULL)
-    {
-      g_autofree char *path = g_build_filename (dir, name, NULL);
-
-      g_assert_cmpint (g_remove (path), ==, 0);
-    }
-  g_assert_cmpint (g_rmdir (dir), ==, 0);
-}
-
-static guint
-count_files (const char *dir)
-{
-  g_autoptr (GDir) d = g_dir_open (dir, 0, NULL);
-  guint n = 0;
-
-  g_assert_nonnull (d);
-  while (g_dir_read_name (d) != NULL)
-    n++;
-  return n;
-}
-
 static void
 png_size (const char *path,
           int        *w,
@@ -185,16 +86,16 @@ png_size (const char *path,
 static void
 test_png_size (void)
 {
-  g_autofree char *dir = tmp_dir ();
+  g_autofree char *dir = efflux_test_tmp_dir ("efflux-figure");
   g_autofree char *a = g_build_filename (dir, "sky.png", NULL);
   g_autofree char *b = g_build_filename (dir, "mv.png", NULL);
   int w, h;
 
   {
-    const char *argv[] = { cli (), "figure", demo_dossier, "--view", "sky", "-o", a, "--width-mm", "88",
+    const char *argv[] = { efflux_test_cli (), "figure", demo_dossier, "--view", "sky", "-o", a, "--width-mm", "88",
                            "--height-mm", "70", "--dpi", "200", NULL };
 
-    g_assert_cmpint (run (argv, NULL, NULL), ==, 0);
+    g_assert_cmpint (efflux_test_spawn (NULL, argv, NULL, NULL), ==, 0);
   }
   png_size (a, &w, &h);
   /* 88 mm = 88 / 25.4 in: 692.9 -> 693 pixels at 200 dpi; 70 mm -> 551.2 -> 551 */
@@ -202,23 +103,23 @@ test_png_size (void)
   g_assert_cmpint (h, ==, 551);
 
   {
-    const char *argv[] = { cli (), "figure", demo_dossier, "--view", "mass-velocity", "-o", b,
+    const char *argv[] = { efflux_test_cli (), "figure", demo_dossier, "--view", "mass-velocity", "-o", b,
                            "--width-mm", "60", "--dpi", "100", NULL };
 
-    g_assert_cmpint (run (argv, NULL, NULL), ==, 0);
+    g_assert_cmpint (efflux_test_spawn (NULL, argv, NULL, NULL), ==, 0);
   }
   png_size (b, &w, &h);
   /* 60 / 25.4 x 100 = 236.2 -> 236; the height is the layout's, above the plot's 0.7 x width */
   g_assert_cmpint (w, ==, 236);
   g_assert_cmpint (h, >, 0.7 * 236 * 0.6);
-  remove_tree (dir);
+  efflux_test_remove_tree (dir);
 }
 
 /* Every view as SVG and PDF: vector, the right size in points. */
 static void
 test_vector (void)
 {
-  g_autofree char *dir = tmp_dir ();
+  g_autofree char *dir = efflux_test_tmp_dir ("efflux-figure");
   const char *views[] = { "sky", "cut", "spectrum", "mass-velocity", "channels" };
 
   for (gsize i = 0; i < G_N_ELEMENTS (views); i++)
@@ -227,21 +128,21 @@ test_vector (void)
       g_autofree char *pdf = g_strdup_printf ("%s/%s.pdf", dir, views[i]);
       g_autofree char *svg_json = NULL;
       g_autofree char *pdf_json = NULL;
-      const char *argv_svg[] = { cli (), "figure", demo_dossier, "--view", views[i], "-o", svg,
+      const char *argv_svg[] = { efflux_test_cli (), "figure", demo_dossier, "--view", views[i], "-o", svg,
                                  "--width-mm", "100", NULL };
-      const char *argv_pdf[] = { cli (), "figure", demo_dossier, "--view", views[i], "-o", pdf,
+      const char *argv_pdf[] = { efflux_test_cli (), "figure", demo_dossier, "--view", views[i], "-o", pdf,
                                  "--width-mm", "100", "--height-mm", "80", NULL };
       g_autoptr (GArray) boxes = NULL;
       double images;
 
-      g_assert_cmpint (run (argv_svg, NULL, NULL), ==, 0);
-      g_assert_cmpint (run (argv_pdf, NULL, NULL), ==, 0);
+      g_assert_cmpint (efflux_test_spawn (NULL, argv_svg, NULL, NULL), ==, 0);
+      g_assert_cmpint (efflux_test_spawn (NULL, argv_pdf, NULL, NULL), ==, 0);
       svg_json = check ("svg", svg, NULL);
       /* axes, ticks, outlines and glyphs are paths */
-      g_assert_cmpfloat (json_number (svg_json, "paths"), >, 50);
+      g_assert_cmpfloat (efflux_test_json_number (svg_json, "paths"), >, 50);
       /* 100 mm = 283.465 pt */
-      g_assert_cmpfloat_with_epsilon (json_number (svg_json, "width"), 100 * 72 / 25.4, 1e-3);
-      images = json_number (svg_json, "images");
+      g_assert_cmpfloat_with_epsilon (efflux_test_json_number (svg_json, "width"), 100 * 72 / 25.4, 1e-3);
+      images = efflux_test_json_number (svg_json, "images");
       /* The only raster: the map or PV image itself (one per channel panel); none for plots. */
       if (strcmp (views[i], "spectrum") == 0 || strcmp (views[i], "mass-velocity") == 0)
         g_assert_cmpfloat (images, ==, 0);
@@ -251,13 +152,13 @@ test_vector (void)
         g_assert_cmpfloat (images, ==, 1);
 
       pdf_json = check ("pdf", pdf, NULL);
-      g_assert_cmpfloat (json_number (pdf_json, "pages"), ==, 1);
+      g_assert_cmpfloat (efflux_test_json_number (pdf_json, "pages"), ==, 1);
       boxes = numbers (strstr (pdf_json, "mediaboxes"));
       g_assert_cmpuint (boxes->len, ==, 2);
       g_assert_cmpfloat_with_epsilon (g_array_index (boxes, double, 0), 100 * 72 / 25.4, 1e-3);
       g_assert_cmpfloat_with_epsilon (g_array_index (boxes, double, 1), 80 * 72 / 25.4, 1e-3);
     }
-  remove_tree (dir);
+  efflux_test_remove_tree (dir);
 }
 
 /* The colour of the sky figure at known sky positions is the colour map's colour of the core's
@@ -265,7 +166,7 @@ test_vector (void)
 static void
 test_sky_pixels (void)
 {
-  g_autofree char *dir = tmp_dir ();
+  g_autofree char *dir = efflux_test_tmp_dir ("efflux-figure");
   g_autofree char *png = g_build_filename (dir, "sky.png", NULL);
   g_autoptr (GError) error = NULL;
   g_autoptr (EffluxDossier) dossier = efflux_dossier_load (demo_dossier, &error);
@@ -360,33 +261,33 @@ test_sky_pixels (void)
   g_test_message ("%u of %u positions match", matched, checked);
   g_assert_cmpuint (checked, >=, 8);
   g_assert_cmpuint (matched, >=, checked - 3);
-  remove_tree (dir);
+  efflux_test_remove_tree (dir);
 }
 
 static void
 test_channels_and_caption (void)
 {
-  g_autofree char *dir = tmp_dir ();
+  g_autofree char *dir = efflux_test_tmp_dir ("efflux-figure");
   g_autofree char *png = g_build_filename (dir, "chan.png", NULL);
-  const char *argv[] = { cli (), "figure", demo_dossier, "--view", "channels", "--grid", "4x2", "-o", png,
+  const char *argv[] = { efflux_test_cli (), "figure", demo_dossier, "--view", "channels", "--grid", "4x2", "-o", png,
                          "--width-mm", "120", "--dpi", "72", NULL };
-  const char *argv_sky[] = { cli (), "figure", demo_dossier, "--view", "sky", "-o", png, NULL };
+  const char *argv_sky[] = { efflux_test_cli (), "figure", demo_dossier, "--view", "sky", "-o", png, NULL };
   g_autofree char *out = NULL;
   g_autofree char *out_sky = NULL;
 
-  g_assert_cmpint (run (argv, &out, NULL), ==, 0);
+  g_assert_cmpint (efflux_test_spawn (NULL, argv, &out, NULL), ==, 0);
   g_assert_nonnull (strstr (out, "8 channel maps"));
   /* The demo's lobes span -13.5 to 22.5 km/s; channel centres lie 0.5 km/s apart at ...15, ...65
    * (demo.recipe), so the first and last panels are -13.35 and 22.15 km/s. */
   g_assert_nonnull (strstr (out, "from -13.35 to 22.15 km/s"));
   /* Contour levels are stated in the caption of the sky view. */
-  g_assert_cmpint (run (argv_sky, &out_sky, NULL), ==, 0);
+  g_assert_cmpint (efflux_test_spawn (NULL, argv_sky, &out_sky, NULL), ==, 0);
   g_assert_nonnull (strstr (out_sky, "Contours of lobe blue (blue): moment 0 over -13.50 to 3.20 km/s at 3, 6"));
 
   /* The power laws drawn in the mass-velocity view are the table's: mv_gamma of `efflux-cli measure`. */
   {
-    const char *argv_mv[] = { cli (), "figure", demo_dossier, "--view", "mass-velocity", "-o", png, NULL };
-    const char *argv_csv[] = { cli (), "measure", demo_dossier, "--format", "csv", NULL };
+    const char *argv_mv[] = { efflux_test_cli (), "figure", demo_dossier, "--view", "mass-velocity", "-o", png, NULL };
+    const char *argv_csv[] = { efflux_test_cli (), "measure", demo_dossier, "--format", "csv", NULL };
     g_autofree char *out_mv = NULL;
     g_autofree char *csv = NULL;
     g_auto (GStrv) lines = NULL;
@@ -394,8 +295,8 @@ test_channels_and_caption (void)
     int col_lobe = -1, col_gamma = -1, col_vb = -1;
     guint compared = 0;
 
-    g_assert_cmpint (run (argv_mv, &out_mv, NULL), ==, 0);
-    g_assert_cmpint (run (argv_csv, &csv, NULL), ==, 0);
+    g_assert_cmpint (efflux_test_spawn (NULL, argv_mv, &out_mv, NULL), ==, 0);
+    g_assert_cmpint (efflux_test_spawn (NULL, argv_csv, &csv, NULL), ==, 0);
     lines = g_strsplit (csv, "\n", -1);
     head = g_strsplit (lines[0], ",", -1);
     for (int i = 0; head[i] != NULL; i++)
@@ -434,22 +335,22 @@ test_channels_and_caption (void)
       }
     g_assert_cmpuint (compared, ==, 2);
   }
-  remove_tree (dir);
+  efflux_test_remove_tree (dir);
 }
 
 static void
 test_report (void)
 {
-  g_autofree char *dir = tmp_dir ();
+  g_autofree char *dir = efflux_test_tmp_dir ("efflux-figure");
   g_autofree char *pdf = g_build_filename (dir, "report.pdf", NULL);
   g_autofree char *json = NULL;
   g_autoptr (GArray) boxes = NULL;
-  const char *argv[] = { cli (), "report", demo_dossier, "-o", pdf, NULL };
+  const char *argv[] = { efflux_test_cli (), "report", demo_dossier, "-o", pdf, NULL };
 
-  g_assert_cmpint (run (argv, NULL, NULL), ==, 0);
+  g_assert_cmpint (efflux_test_spawn (NULL, argv, NULL, NULL), ==, 0);
   json = check ("pdf", pdf, NULL);
   /* maps, cut, mass-velocity, results, review: one page each */
-  g_assert_cmpfloat (json_number (json, "pages"), ==, EFFLUX_REPORT_PAGES);
+  g_assert_cmpfloat (efflux_test_json_number (json, "pages"), ==, EFFLUX_REPORT_PAGES);
   g_assert_cmpint (EFFLUX_REPORT_PAGES, ==, 5);
   boxes = numbers (strstr (json, "mediaboxes"));
   g_assert_cmpuint (boxes->len, ==, 10);
@@ -467,18 +368,18 @@ test_report (void)
     g_autofree char *pdf2 = g_build_filename (dir, "reviewed.pdf", NULL);
     g_autofree char *json2 = NULL;
     g_autofree char *all = NULL;
-    const char *argv2[] = { cli (), "report", reviewed, "-o", pdf2, NULL };
+    const char *argv2[] = { efflux_test_cli (), "report", reviewed, "-o", pdf2, NULL };
 
     g_assert_true (g_file_get_contents (demo_dossier, &text, NULL, NULL));
     all = g_strconcat (text, "\n[Review]\nreviewer=A. Reviewer\nreviewed=demo.efflux\n\n"
                        "[Review blue]\nstatus=questioned\nnote=the outline takes in ambient gas\n", NULL);
     g_assert_true (g_file_set_contents (reviewed, all, -1, NULL));
-    g_assert_cmpint (run (argv2, NULL, NULL), ==, 0);
+    g_assert_cmpint (efflux_test_spawn (NULL, argv2, NULL, NULL), ==, 0);
     json2 = check ("pdf", pdf2, NULL);
-    g_assert_cmpfloat (json_number (json2, "pages"), ==, 5);
+    g_assert_cmpfloat (efflux_test_json_number (json2, "pages"), ==, 5);
     g_assert_cmpint (g_remove (reviewed), ==, 0);
   }
-  remove_tree (dir);
+  efflux_test_remove_tree (dir);
 }
 
 static void
@@ -488,7 +389,7 @@ expect_status (const char * const *argv,
                const char         *what)
 {
   g_autofree char *err = NULL;
-  int status = run (argv, NULL, &err);
+  int status = efflux_test_spawn (NULL, argv, NULL, &err);
 
   g_test_message ("%s: exit %d: %s", what, status, err);
   g_assert_cmpint (status, ==, expected);
@@ -496,20 +397,21 @@ expect_status (const char * const *argv,
   /* one line */
   g_assert_cmpint (strchr (err, '\n') - err, ==, (int) strlen (err) - 1);
   /* no output file, no temporary file */
-  g_assert_cmpuint (count_files (dir), ==, 0);
+  g_assert_true (g_file_test (dir, G_FILE_TEST_IS_DIR));
+  g_assert_cmpuint (efflux_test_count_entries (dir), ==, 0);
 }
 
 static void
 test_errors (void)
 {
-  g_autofree char *dir = tmp_dir ();
+  g_autofree char *dir = efflux_test_tmp_dir ("efflux-figure");
   g_autofree char *out = g_build_filename (dir, "out.png", NULL);
   g_autofree char *out_pdf = g_build_filename (dir, "out.pdf", NULL);
   g_autofree char *gif = g_build_filename (dir, "out.gif", NULL);
   g_autofree char *missing = g_build_filename (dir, "none.efflux", NULL);
   g_autofree char *badd = g_build_filename (demo_dir, "bad.efflux", NULL);
   g_autofree char *text = NULL;
-  const char *c = cli ();
+  const char *c = efflux_test_cli ();
 
   {
     const char *a[] = { c, "figure", demo_dossier, "--view", "nonsense", "-o", out, NULL };
@@ -579,7 +481,7 @@ test_errors (void)
     expect_status (a, 1, dir, "bad distance, report");
   }
   g_assert_cmpint (g_remove (badd), ==, 0);
-  remove_tree (dir);
+  efflux_test_remove_tree (dir);
 }
 
 int
@@ -597,14 +499,14 @@ main (int    argc,
 
   root = g_getenv ("EFFLUX_SOURCE_ROOT");
   g_assert_nonnull (root);
-  demo_dir = tmp_dir ();
+  demo_dir = efflux_test_tmp_dir ("efflux-figure");
   recipe = g_build_filename (root, "sample-data", "demo.recipe", NULL);
   {
-    const char *a[] = { cli (), "synth", recipe, "-o", demo_dir, NULL };
+    const char *a[] = { efflux_test_cli (), "synth", recipe, "-o", demo_dir, NULL };
     g_autofree char *out = NULL;
     g_autofree char *err = NULL;
 
-    g_assert_cmpint (run (a, &out, &err), ==, 0);
+    g_assert_cmpint (efflux_test_spawn (NULL, a, &out, &err), ==, 0);
   }
   src_dossier = g_build_filename (root, "sample-data", "demo.efflux", NULL);
   demo_dossier = g_build_filename (demo_dir, "demo.efflux", NULL);
@@ -621,7 +523,7 @@ main (int    argc,
 
   /* Font caches released, for the leak checker of the sanitize setup. */
   efflux_figure_release_fonts ();
-  remove_tree (demo_dir);
+  efflux_test_remove_tree (demo_dir);
   g_free (demo_dir);
   g_free (demo_dossier);
   return status;

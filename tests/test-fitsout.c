@@ -5,6 +5,7 @@
 #include "efflux-cube.h"
 #include "efflux-error.h"
 #include "efflux-fitsout.h"
+#include "efflux-test-util.h"
 
 #include <fitsio.h>
 #include <glib/gstdio.h>
@@ -41,18 +42,6 @@ make_cube (double restfreq_hz,
   return cube;
 }
 
-static guint
-count_entries (const char *dir)
-{
-  g_autoptr (GDir) d = g_dir_open (dir, 0, NULL);
-  guint n = 0;
-
-  g_assert_nonnull (d);
-  while (g_dir_read_name (d) != NULL)
-    n++;
-  return n;
-}
-
 static void
 remove_file (const char *path)
 {
@@ -64,30 +53,13 @@ static char *
 astropy_check (const char  *path,
                const char **pixels)
 {
-  const char *python = g_getenv ("EFFLUX_PYTHON");
-  const char *root = g_getenv ("EFFLUX_SOURCE_ROOT");
-  g_autofree char *script = NULL;
-  g_autoptr (GPtrArray) argv = g_ptr_array_new ();
-  g_autofree char *err = NULL;
-  char *out = NULL;
-  int status = 0;
+  g_autoptr (GPtrArray) args = g_ptr_array_new ();
 
-  /* a missing reference interpreter is a failure, not a skip */
-  g_assert_nonnull (python);
-  g_assert_cmpstr (python, !=, "");
-  g_assert_nonnull (root);
-  script = g_build_filename (root, "tests", "ref", "fitsout_check.py", NULL);
-  g_ptr_array_add (argv, (char *) python);
-  g_ptr_array_add (argv, script);
-  g_ptr_array_add (argv, (char *) path);
+  g_ptr_array_add (args, (char *) path);
   for (gsize i = 0; pixels[i] != NULL; i++)
-    g_ptr_array_add (argv, (char *) pixels[i]);
-  g_ptr_array_add (argv, NULL);
-  g_assert_true (g_spawn_sync (NULL, (char **) argv->pdata, NULL, G_SPAWN_DEFAULT, NULL, NULL, &out, &err,
-                               &status, NULL));
-  if (!g_spawn_check_wait_status (status, NULL))
-    g_error ("fitsout_check.py failed: %s", err);
-  return out;
+    g_ptr_array_add (args, (char *) pixels[i]);
+  g_ptr_array_add (args, NULL);
+  return efflux_test_python ("fitsout_check.py", (const char * const *) args->pdata);
 }
 
 /* Find "TAG a b ..." in the script output whose first n_key numbers equal key[]; return the rest. */
@@ -210,7 +182,8 @@ test_vrad_kelvin (void)
 
   g_assert_true (efflux_fits_write_cube (cube, path, &opts, &error));
   g_assert_no_error (error);
-  g_assert_cmpuint (count_entries (tmpdir), ==, 1);   /* no temporary file left beside it */
+  g_assert_true (g_file_test (tmpdir, G_FILE_TEST_IS_DIR));
+  g_assert_cmpuint (efflux_test_count_entries (tmpdir), ==, 1);   /* no temporary file left beside it */
   compare_loaded (cube, path, 0.0);
   check_against_astropy (cube, path, FALSE);
 
@@ -337,7 +310,8 @@ test_refusals_leave_nothing (void)
   }
 
   /* nothing at all was left in the directory, not even a temporary file */
-  g_assert_cmpuint (count_entries (tmpdir), ==, 0);
+  g_assert_true (g_file_test (tmpdir, G_FILE_TEST_IS_DIR));
+  g_assert_cmpuint (efflux_test_count_entries (tmpdir), ==, 0);
 }
 
 static void
@@ -509,8 +483,7 @@ main (int    argc,
   int rc;
 
   g_test_init (&argc, &argv, NULL);
-  tmpdir = g_dir_make_tmp ("efflux-fitsout-XXXXXX", &error);
-  g_assert_no_error (error);
+  tmpdir = efflux_test_tmp_dir ("efflux-fitsout");
 
   g_test_add_func ("/fitsout/cube-vrad-kelvin", test_vrad_kelvin);
   g_test_add_func ("/fitsout/cube-freq-jy-beam", test_freq_jy_beam);

@@ -9,6 +9,7 @@
 #include "efflux-cube.h"
 #include "efflux-kinematics.h"
 #include "efflux-pv.h"
+#include "efflux-test-util.h"
 
 static void
 test_check_value (void)
@@ -57,35 +58,6 @@ test_units (void)
                              - 0.37), <, 1e-14);
 }
 
-static char *
-run_reference (const char * const *args,
-               gsize               n_args)
-{
-  const char *python = g_getenv ("EFFLUX_PYTHON");
-  g_autofree char *script = g_build_filename (g_getenv ("G_TEST_SRCDIR"), "ref", "kinematics_ref.py",
-                                              NULL);
-  g_autoptr(GPtrArray) argv = g_ptr_array_new ();
-  g_autoptr(GError) error = NULL;
-  char *out = NULL;
-  g_autofree char *err = NULL;
-  int status = 0;
-
-  /* a missing reference interpreter is a failure, not a skip */
-  g_assert_nonnull (python);
-  g_assert_cmpstr (python, !=, "");
-  g_ptr_array_add (argv, (gpointer) python);
-  g_ptr_array_add (argv, script);
-  for (gsize i = 0; i < n_args; i++)
-    g_ptr_array_add (argv, (gpointer) args[i]);
-  g_ptr_array_add (argv, NULL);
-  g_assert_true (g_spawn_sync (NULL, (char **) argv->pdata, NULL, G_SPAWN_DEFAULT, NULL, NULL,
-                               &out, &err, &status, &error));
-  g_assert_no_error (error);
-  if (!g_spawn_check_wait_status (status, NULL))
-    g_error ("kinematics_ref.py failed: %s", err);
-  return out;
-}
-
 static void
 test_astropy (void)
 {
@@ -106,7 +78,8 @@ test_astropy (void)
   g_ptr_array_add (args, g_strdup ("slope"));
   for (gsize i = 0; i < G_N_ELEMENTS (slopes); i++)
     g_ptr_array_add (args, g_strdup_printf ("%.17g,%.17g", slopes[i][0], slopes[i][1]));
-  out = run_reference ((const char * const *) args->pdata, args->len);
+  g_ptr_array_add (args, NULL);
+  out = efflux_test_python ("kinematics_ref.py", (const char * const *) args->pdata);
   lines = g_strsplit (g_strstrip (out), "\n", -1);
   g_assert_cmpuint (g_strv_length (lines), ==, G_N_ELEMENTS (ages) + G_N_ELEMENTS (slopes));
 

@@ -13,6 +13,7 @@
 #include "efflux-dossier.h"
 #include "efflux-knots.h"
 #include "efflux-synth.h"
+#include "efflux-test-util.h"
 
 #include <math.h>
 #include <string.h>
@@ -37,28 +38,13 @@ make_jet (void)
 {
   g_autoptr (GError) error = NULL;
   g_autoptr (EffluxSynthRecipe) rc = NULL;
-  char *dir = g_dir_make_tmp ("efflux-knots-XXXXXX", &error);
+  char *dir = efflux_test_tmp_dir ("efflux-knots");
 
-  g_assert_no_error (error);
   rc = efflux_synth_recipe_load_data (recipe, "jet.recipe", &error);
   g_assert_no_error (error);
   g_assert_true (efflux_synth_run (rc, dir, &error));
   g_assert_no_error (error);
   return dir;
-}
-
-static void
-remove_dir (const char *dir)
-{
-  g_autoptr (GDir) d = g_dir_open (dir, 0, NULL);
-  const char *name;
-
-  while (d != NULL && (name = g_dir_read_name (d)) != NULL)
-    {
-      g_autofree char *p = g_build_filename (dir, name, NULL);
-      g_unlink (p);
-    }
-  g_rmdir (dir);
 }
 
 /* the truth's knots: side (+1 blue: the cut runs from the red end to the blue end), age */
@@ -172,27 +158,7 @@ test_planted_knots (void)
         g_assert_cmpfloat (fabs (b / a - 1.0 / (1.0 / tan (G_PI / 3.0))), <, 1e-9);
       }
   }
-  remove_dir (dir);
-}
-
-static int
-run_cli (const char * const *tail,
-         char              **out,
-         char              **err)
-{
-  const char *cli = g_getenv ("EFFLUX_CLI");
-  g_autoptr (GPtrArray) argv = g_ptr_array_new ();
-  g_autoptr (GError) error = NULL;
-  int status = 0;
-
-  g_assert_nonnull (cli);
-  g_ptr_array_add (argv, (gpointer) cli);
-  for (guint i = 0; tail[i] != NULL; i++)
-    g_ptr_array_add (argv, (gpointer) tail[i]);
-  g_ptr_array_add (argv, NULL);
-  g_assert_true (g_spawn_sync (NULL, (char **) argv->pdata, NULL, G_SPAWN_DEFAULT, NULL, NULL, out, err,
-                               &status, &error));
-  return WIFEXITED (status) ? WEXITSTATUS (status) : -1;
+  efflux_test_remove_tree (dir);
 }
 
 static void
@@ -206,7 +172,7 @@ test_cli (void)
 
   {
     const char *argv[] = { "knots", dpath, "--cut", "axis", "--cube", "sio", "--format", "csv", NULL };
-    g_assert_cmpint (run_cli (argv, &o1, &e1), ==, 0);
+    g_assert_cmpint (efflux_test_run_cli (argv, &o1, &e1), ==, 0);
   }
   lines = g_strsplit (o1, "\n", -1);
   g_assert_cmpstr (lines[0], ==, "side,kind,offset_arcsec,velocity_kms,v_obs_kms,intensity_k_kms,age_yr,interval_yr");
@@ -226,20 +192,20 @@ test_cli (void)
   }
   {
     const char *argv[] = { "knots", dpath, "--cut", "axis", "--cube", "sio", "--format", "json", NULL };
-    g_assert_cmpint (run_cli (argv, &o2, &e2), ==, 0);
+    g_assert_cmpint (efflux_test_run_cli (argv, &o2, &e2), ==, 0);
     g_assert_nonnull (strstr (o2, "\"age_yr\""));
     g_assert_nonnull (strstr (o2, "\"interval_yr\""));
   }
   {
     const char *argv[] = { "knots", dpath, "--cut", "axis", "--format", "xml", NULL };
-    g_assert_cmpint (run_cli (argv, &o3, &e3), ==, 2);
+    g_assert_cmpint (efflux_test_run_cli (argv, &o3, &e3), ==, 2);
   }
   {
     const char *argv[] = { "knots", dpath, "--cut", "axis", "--cube", "nosuch", NULL };
-    g_assert_cmpint (run_cli (argv, &o4, &e4), ==, 1);
+    g_assert_cmpint (efflux_test_run_cli (argv, &o4, &e4), ==, 1);
     g_assert_nonnull (strstr (e4, "[Cube nosuch]"));
   }
-  remove_dir (dir);
+  efflux_test_remove_tree (dir);
 }
 
 int

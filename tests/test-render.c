@@ -14,38 +14,22 @@
 #include "efflux-cube.h"
 #include "../src/render/efflux-skygrid.h"
 #include "../src/render/efflux-stretch.h"
+#include "efflux-test-util.h"
 
 /* Run tests/ref/render_ref.py with arguments; returns its stdout. A missing EFFLUX_PYTHON fails. */
 static char *
 run_ref (const char *first,
          ...)
 {
-  const char *python = g_getenv ("EFFLUX_PYTHON");
-  g_autofree char *script = g_build_filename (g_getenv ("G_TEST_SRCDIR"), "ref", "render_ref.py", NULL);
-  g_autoptr(GPtrArray) argv = g_ptr_array_new ();
-  g_autoptr(GError) error = NULL;
-  g_autofree char *err = NULL;
-  char *out = NULL;
-  int status = 0;
+  g_autoptr (GPtrArray) args = g_ptr_array_new ();
   va_list ap;
 
-  g_assert_nonnull (python);
-  g_assert_cmpstr (python, !=, "");
-  g_ptr_array_add (argv, (char *) python);
-  g_ptr_array_add (argv, script);
   va_start (ap, first);
   for (const char *a = first; a != NULL; a = va_arg (ap, const char *))
-    g_ptr_array_add (argv, (char *) a);
+    g_ptr_array_add (args, (char *) a);
   va_end (ap);
-  g_ptr_array_add (argv, NULL);
-
-  g_spawn_sync (NULL, (char **) argv->pdata, NULL, G_SPAWN_DEFAULT, NULL, NULL, &out, &err, &status,
-                &error);
-  g_assert_no_error (error);
-  if (!g_spawn_check_wait_status (status, &error))
-    g_test_message ("render_ref.py: %s", err);
-  g_assert_no_error (error);
-  return out;
+  g_ptr_array_add (args, NULL);
+  return efflux_test_python ("render_ref.py", (const char * const *) args->pdata);
 }
 
 /* Green 2011 cubehelix with the paper's default parameters, byte for byte against the formula
@@ -153,7 +137,7 @@ test_velocity_map (void)
 {
   guint8 lut[EFFLUX_COLORMAP_SIZE * 4];
   g_autoptr(GString) text = g_string_new (NULL);
-  g_autofree char *dir = g_dir_make_tmp ("efflux-render-XXXXXX", NULL);
+  g_autofree char *dir = efflux_test_tmp_dir ("efflux-render");
   g_autofree char *path = g_build_filename (dir, "velocity.txt", NULL);
   g_autofree char *out = NULL;
   g_auto(GStrv) lines = NULL;
@@ -276,7 +260,7 @@ check_percentiles (const float *data,
 static void
 test_percentiles_numpy (void)
 {
-  g_autofree char *dir = g_dir_make_tmp ("efflux-render-XXXXXX", NULL);
+  g_autofree char *dir = efflux_test_tmp_dir ("efflux-render");
   g_autoptr(GRand) rand = g_rand_new_with_seed (20111);
   gsize n = 300 * 211;
   g_autofree float *data = g_new (float, n);

@@ -10,6 +10,7 @@
 
 #include "efflux-error.h"
 #include "efflux-sample.h"
+#include "efflux-test-util.h"
 
 static void
 write_file (const char *dir,
@@ -17,30 +18,8 @@ write_file (const char *dir,
             const char *text)
 {
   g_autofree char *path = g_build_filename (dir, name, NULL);
-  g_autoptr (GError) error = NULL;
 
-  g_assert_true (g_file_set_contents (path, text, -1, &error));
-  g_assert_no_error (error);
-}
-
-static void
-rm_rf (const char *path)
-{
-  if (g_file_test (path, G_FILE_TEST_IS_DIR))
-    {
-      g_autoptr (GDir) dir = g_dir_open (path, 0, NULL);
-      const char *name;
-
-      while (dir != NULL && (name = g_dir_read_name (dir)) != NULL)
-        {
-          g_autofree char *child = g_build_filename (path, name, NULL);
-
-          rm_rf (child);
-        }
-      g_rmdir (path);
-    }
-  else
-    g_unlink (path);
+  efflux_test_write_file (path, text);
 }
 
 static const char plain[] =
@@ -57,7 +36,7 @@ static void
 test_scan (void)
 {
   g_autoptr (GError) error = NULL;
-  g_autofree char *tmp = g_dir_make_tmp ("efflux-sample-XXXXXX", &error);
+  g_autofree char *tmp = efflux_test_tmp_dir ("efflux-sample");
   g_autofree char *sub = NULL;
   g_autoptr (GPtrArray) list = NULL;
   g_autoptr (GPtrArray) entries = NULL;
@@ -123,14 +102,14 @@ test_scan (void)
     g_assert_true (g_str_has_prefix (error->message, missing));
     g_clear_error (&error);
   }
-  rm_rf (tmp);
+  efflux_test_remove_tree (tmp);
 }
 
 static void
 test_mark (void)
 {
   g_autoptr (GError) error = NULL;
-  g_autofree char *tmp = g_dir_make_tmp ("efflux-sample-XXXXXX", &error);
+  g_autofree char *tmp = efflux_test_tmp_dir ("efflux-sample");
   g_autofree char *path = NULL, *text = NULL;
   g_autoptr (GDateTime) when = g_date_time_new_utc (2026, 12, 2, 1, 2, 3);
   g_autoptr (GTimeZone) plus1 = g_time_zone_new_offset (3600);
@@ -170,7 +149,7 @@ test_mark (void)
     g_assert_true (g_str_has_prefix (error->message, gone));
     g_clear_error (&error);
   }
-  rm_rf (tmp);
+  efflux_test_remove_tree (tmp);
 }
 
 int

@@ -18,6 +18,7 @@
 #include <unistd.h>
 
 #include "efflux-cube.h"
+#include "efflux-test-util.h"
 
 #define BIG_NX 2048
 #define BIG_NY 2048
@@ -172,7 +173,7 @@ run_measure (const char *dir, const char *dossier, gboolean cap, char **err_out)
 static void
 test_stream_large (void)
 {
-  g_autofree char *dir = g_dir_make_tmp ("efflux-stream-test-XXXXXX", NULL);
+  g_autofree char *dir = efflux_test_tmp_dir ("efflux-stream-test");
   g_autofree char *big = g_build_filename (dir, "big.fits", NULL);
   g_autofree char *small = g_build_filename (dir, "small.fits", NULL);
   g_autofree char *big_d = g_build_filename (dir, "big.efflux", NULL);
@@ -265,9 +266,7 @@ main (int    argc,
       char **argv)
 {
   g_test_init (&argc, &argv, NULL);
-  cli = g_getenv ("EFFLUX_CLI");
-  if (cli == NULL)
-    g_error ("EFFLUX_CLI must be set (tests/meson.build sets it)");
+  cli = efflux_test_cli ();
   g_test_add_func ("/stream/large-sparse-cube", test_stream_large);
   return g_test_run ();
 }

@@ -7,6 +7,7 @@
 #include "efflux-error.h"
 #include "efflux-lte.h"
 #include "efflux-synth.h"
+#include "efflux-test-util.h"
 
 #include <glib/gstdio.h>
 #include <math.h>
@@ -60,35 +61,6 @@ write_recipe (const char *name,
   g_assert_true (g_file_set_contents (path, text, -1, &error));
   g_assert_no_error (error);
   return path;
-}
-
-static void
-rm_rf (const char *dir)
-{
-  g_autoptr (GDir) d = g_dir_open (dir, 0, NULL);
-  const char *name;
-
-  if (d == NULL)
-    return;
-  while ((name = g_dir_read_name (d)) != NULL)
-    {
-      g_autofree char *p = g_build_filename (dir, name, NULL);
-      g_assert_cmpint (g_unlink (p), ==, 0);
-    }
-  g_assert_cmpint (g_rmdir (dir), ==, 0);
-}
-
-static guint
-count_entries (const char *dir)
-{
-  g_autoptr (GDir) d = g_dir_open (dir, 0, NULL);
-  guint n = 0;
-
-  if (d == NULL)
-    return 0;
-  while (g_dir_read_name (d) != NULL)
-    n++;
-  return n;
 }
 
 static char *
@@ -189,9 +161,9 @@ test_determinism (void)
     g_assert_cmpfloat_with_epsilon (sqrt (s2 / (double) n), 0.05, 0.003);
     g_assert_cmpfloat (diff / (double) n, >, 0.02);
   }
-  rm_rf (d1);
-  rm_rf (d2);
-  rm_rf (d3);
+  efflux_test_remove_tree (d1);
+  efflux_test_remove_tree (d2);
+  efflux_test_remove_tree (d3);
 }
 
 /* Point in polygon (even-odd rule) and distance to its edges, in pixel coordinates. */
@@ -342,7 +314,7 @@ test_thin_mass (void)
       g_assert_cmpfloat_with_epsilon (su * dv * msun_per_kkms, p_obs, 2e-4 * p_obs);
       lobe_clear (&lobe);
     }
-  rm_rf (dir);
+  efflux_test_remove_tree (dir);
 }
 
 /* Independent radiative transfer of one voxel: tests/ref/synth_lte.py with astropy's constants. */
@@ -355,33 +327,20 @@ python_lte (const EffluxLine *line,
             double           *tau,
             double           *t)
 {
-  const char *python = g_getenv ("EFFLUX_PYTHON");
-  const char *root = g_getenv ("EFFLUX_SOURCE_ROOT");
-  g_autofree char *script = NULL;
   char args[8][G_ASCII_DTOSTR_BUF_SIZE];
   double values[8] = { line->freq_hz, line->a_ul, line->eu_k, (double) line->g_u, line->b_hz, tex, tbg, column };
   char dvs[G_ASCII_DTOSTR_BUF_SIZE];
   g_autofree char *out = NULL;
-  g_autofree char *err = NULL;
   g_auto (GStrv) lines = NULL;
-  int status = 0;
 
-  /* a missing reference interpreter is a failure, not a skip */
-  g_assert_nonnull (python);
-  g_assert_cmpstr (python, !=, "");
-  g_assert_nonnull (root);
-  script = g_build_filename (root, "tests", "ref", "synth_lte.py", NULL);
   for (int i = 0; i < 8; i++)
     g_ascii_dtostr (args[i], sizeof args[i], values[i]);
   g_ascii_dtostr (dvs, sizeof dvs, dv);
   {
-    const char *argv[] = { python, script, args[0], args[1], args[2], args[3], args[4], args[5], args[6],
-                           args[7], dvs, NULL };
-    g_assert_true (g_spawn_sync (NULL, (char **) argv, NULL, G_SPAWN_DEFAULT, NULL, NULL, &out, &err,
-                                 &status, NULL));
+    const char *argv[] = { args[0], args[1], args[2], args[3], args[4], args[5], args[6], args[7], dvs, NULL };
+
+    out = efflux_test_python ("synth_lte.py", argv);
   }
-  if (!g_spawn_check_wait_status (status, NULL))
-    g_error ("synth_lte.py failed: %s", err);
   lines = g_strsplit (out, "\n", -1);
   g_assert_true (g_str_has_prefix (lines[0], "tau "));
   g_assert_true (g_str_has_prefix (lines[1], "t "));
@@ -460,27 +419,14 @@ check_massvel (GKeyFile   *truth,
                const char *group,
                const char *args)
 {
-  const char *python = g_getenv ("EFFLUX_PYTHON");
-  const char *root = g_getenv ("EFFLUX_SOURCE_ROOT");
-  g_autofree char *script = NULL;
-  g_autofree char *cmd = NULL;
-  g_autofree char *out = NULL;
-  g_autofree char *err = NULL;
+  g_auto (GStrv) argv = g_strsplit (args, " ", -1);
+  g_autofree char *out = efflux_test_python ("synth_massvel.py", (const char * const *) argv);
   g_autofree double *v = NULL;
   g_autofree double *m = NULL;
   g_auto (GStrv) lines = NULL;
   g_autoptr (GError) error = NULL;
   gsize nv = 0, nm = 0, n = 0;
-  int status = 0;
 
-  g_assert_nonnull (python);
-  g_assert_cmpstr (python, !=, "");
-  g_assert_nonnull (root);
-  script = g_build_filename (root, "tests", "ref", "synth_massvel.py", NULL);
-  cmd = g_strdup_printf ("'%s' '%s' %s", python, script, args);
-  g_assert_true (g_spawn_command_line_sync (cmd, &out, &err, &status, NULL));
-  if (!g_spawn_check_wait_status (status, NULL))
-    g_error ("synth_massvel.py failed: %s", err);
   v = g_key_file_get_double_list (truth, group, "channel-velocity-kms", &nv, &error);
   g_assert_no_error (error);
   m = g_key_file_get_double_list (truth, group, "channel-mass-msun", &nm, &error);
@@ -665,7 +611,7 @@ test_dossier (void)
       }
     g_assert_cmpfloat (peak, >, 1.0);
   }
-  rm_rf (dir);
+  efflux_test_remove_tree (dir);
 }
 
 /* The demo: its recipe builds, and the hand-drawn lobes of sample-data/demo.efflux enclose the
@@ -710,7 +656,7 @@ test_demo (void)
     g_assert_true (g_file_test (f2, G_FILE_TEST_IS_REGULAR));
     g_assert_true (g_file_test (f3, G_FILE_TEST_IS_REGULAR));
   }
-  rm_rf (dir);
+  efflux_test_remove_tree (dir);
 }
 
 /* ---------------------------------------------------------------------------------------- */
@@ -721,27 +667,22 @@ run_cli_refusal (const char *name,
                  const char *group,
                  const char *key)
 {
-  const char *cli = g_getenv ("EFFLUX_CLI");
   g_autofree char *recipe = write_recipe (name, text);
   g_autofree char *out_dir = g_build_filename (tmpdir, "refused-out", NULL);
   g_autofree char *out = NULL;
   g_autofree char *err = NULL;
   g_autofree char *tag = g_strdup_printf ("[%s] %s", group, key);
-  int status = 0;
-  const char *argv[] = { cli, "synth", recipe, "-o", out_dir, NULL };
+  const char *args[] = { "synth", recipe, "-o", out_dir, NULL };
 
-  g_assert_nonnull (cli);
   g_assert_cmpint (g_mkdir (out_dir, 0755), ==, 0);
-  g_assert_true (g_spawn_sync (NULL, (char **) argv, NULL, G_SPAWN_DEFAULT, NULL, NULL, &out, &err, &status, NULL));
-  g_assert_true (WIFEXITED (status));
-  g_assert_cmpint (WEXITSTATUS (status), ==, 1);
+  g_assert_cmpint (efflux_test_run_cli (args, &out, &err), ==, 1);
   g_assert_true (g_str_has_prefix (err, "efflux-cli: error: "));
   /* one line, naming the recipe file, the group and the key */
   g_assert_nonnull (strchr (err, '\n'));
   g_assert_cmpstr (strchr (err, '\n') + 1, ==, "");
   g_assert_nonnull (strstr (err, recipe));
   g_assert_nonnull (strstr (err, tag));
-  g_assert_cmpuint (count_entries (out_dir), ==, 0);
+  g_assert_cmpuint (efflux_test_count_entries (out_dir), ==, 0);
   g_assert_cmpint (g_rmdir (out_dir), ==, 0);
   g_assert_cmpint (g_unlink (recipe), ==, 0);
 }
@@ -778,22 +719,18 @@ test_cli_refusals (void)
 static void
 test_cli_writes (void)
 {
-  const char *cli = g_getenv ("EFFLUX_CLI");
   g_autofree char *recipe = write_recipe ("thin.recipe", thin_recipe);
   g_autofree char *out_dir = g_build_filename (tmpdir, "cli-out", "nested", NULL);
   g_autofree char *parent = g_build_filename (tmpdir, "cli-out", NULL);
   g_autofree char *err = NULL;
-  int status = 0;
-  const char *argv[] = { cli, "synth", recipe, "-o", out_dir, NULL };
+  const char *args[] = { "synth", recipe, "-o", out_dir, NULL };
+  int status = efflux_test_run_cli (args, NULL, &err);
 
-  g_assert_nonnull (cli);
-  g_assert_true (g_spawn_sync (NULL, (char **) argv, NULL, G_SPAWN_STDOUT_TO_DEV_NULL, NULL, NULL, NULL, &err,
-                               &status, NULL));
   g_assert_cmpstr (err, ==, "");
-  g_assert_true (g_spawn_check_wait_status (status, NULL));
+  g_assert_cmpint (status, ==, 0);
   /* the cube, the truth and the dossier, and no temporary files */
-  g_assert_cmpuint (count_entries (out_dir), ==, 3);
-  rm_rf (out_dir);
+  g_assert_cmpuint (efflux_test_count_entries (out_dir), ==, 3);
+  efflux_test_remove_tree (out_dir);
   g_assert_cmpint (g_rmdir (parent), ==, 0);
   g_assert_cmpint (g_unlink (recipe), ==, 0);
 }
@@ -806,8 +743,7 @@ main (int    argc,
   int rc;
 
   g_test_init (&argc, &argv, NULL);
-  tmpdir = g_dir_make_tmp ("efflux-synth-XXXXXX", &error);
-  g_assert_no_error (error);
+  tmpdir = efflux_test_tmp_dir ("efflux-synth");
 
   g_test_add_func ("/synth/determinism", test_determinism);
   g_test_add_func ("/synth/thin-mass-matches-truth", test_thin_mass);

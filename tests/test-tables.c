@@ -12,6 +12,7 @@
 
 #include "efflux-sample.h"
 #include "efflux-table.h"
+#include "efflux-test-util.h"
 
 /* ---------------------------------------------------------------------------------------------- */
 /* rounding, by hand                                                                                */
@@ -102,48 +103,11 @@ typedef struct
   const char *cli;
 } Fixture;
 
-static int
-run (const char * const *argv,
-     char              **out,
-     char              **err)
-{
-  g_autoptr (GError) error = NULL;
-  int status = 0;
-
-  g_assert_true (g_spawn_sync (NULL, (char **) argv, NULL, G_SPAWN_DEFAULT, NULL, NULL, out, err, &status, &error));
-  g_assert_no_error (error);
-  if (WIFEXITED (status))
-    return WEXITSTATUS (status);
-  g_error ("%s %s died on a signal", argv[0], argv[1]);
-  return -1;
-}
-
 static char *
 path_in (const Fixture *f,
          const char    *name)
 {
   return g_build_filename (f->tmp, name, NULL);
-}
-
-static char *
-read_file (const char *path)
-{
-  g_autoptr (GError) error = NULL;
-  char *data = NULL;
-
-  g_assert_true (g_file_get_contents (path, &data, NULL, &error));
-  g_assert_no_error (error);
-  return data;
-}
-
-static void
-write_file (const char *path,
-            const char *text)
-{
-  g_autoptr (GError) error = NULL;
-
-  g_assert_true (g_file_set_contents (path, text, -1, &error));
-  g_assert_no_error (error);
 }
 
 static char *
@@ -181,14 +145,12 @@ fixture_set_up (Fixture *f)
     { "c.efflux", "Gamma_1", "distance-pc=300", "co-abundance-range=5e-5;2e-4\nmc-samples=200\nmc-seed=7" },
   };
 
-  f->cli = g_getenv ("EFFLUX_CLI");
-  g_assert_nonnull (f->cli);
+  f->cli = efflux_test_cli ();
   g_assert_nonnull (g_getenv ("EFFLUX_SOURCE_ROOT"));
-  f->tmp = g_dir_make_tmp ("efflux-tables-XXXXXX", &error);
-  g_assert_no_error (error);
+  f->tmp = efflux_test_tmp_dir ("efflux-tables");
 
   /* the demo recipe on a coarser, smaller grid: quick to make and to measure */
-  recipe = read_file (recipe_src);
+  recipe = efflux_test_read_file (recipe_src, NULL);
   {
     char *a = replace_line (recipe, "nx=", "nx=48");
     char *b = replace_line (a, "ny=", "ny=48");
@@ -200,15 +162,15 @@ fixture_set_up (Fixture *f)
     recipe = c;
   }
   recipe_path = path_in (f, "small.recipe");
-  write_file (recipe_path, recipe);
+  efflux_test_write_file (recipe_path, recipe);
   cubes = path_in (f, "cubes");
   {
     const char *argv[] = { f->cli, "synth", recipe_path, "-o", cubes, NULL };
 
-    g_assert_cmpint (run (argv, &out, &err), ==, 0);
+    g_assert_cmpint (efflux_test_spawn (NULL, argv, &out, &err), ==, 0);
   }
   dossier_path = g_build_filename (cubes, "demo-model.efflux", NULL);
-  dossier = read_file (dossier_path);
+  dossier = efflux_test_read_file (dossier_path, NULL);
 
   f->sample = path_in (f, "sample");
   g_assert_cmpint (g_mkdir (f->sample, 0755), ==, 0);
@@ -237,40 +199,20 @@ fixture_set_up (Fixture *f)
           g_string_append_c (s, *p);
         }
       d = g_string_free (s, FALSE);
-      write_file (path, d);
+      efflux_test_write_file (path, d);
     }
   {
     /* not a dossier: ignored by the folder listing */
     g_autofree char *other = g_build_filename (f->sample, "notes.txt", NULL);
 
-    write_file (other, "not a dossier\n");
+    efflux_test_write_file (other, "not a dossier\n");
   }
-}
-
-static void
-rm_rf (const char *path)
-{
-  if (g_file_test (path, G_FILE_TEST_IS_DIR) && !g_file_test (path, G_FILE_TEST_IS_SYMLINK))
-    {
-      g_autoptr (GDir) dir = g_dir_open (path, 0, NULL);
-      const char *name;
-
-      while (dir != NULL && (name = g_dir_read_name (dir)) != NULL)
-        {
-          g_autofree char *child = g_build_filename (path, name, NULL);
-
-          rm_rf (child);
-        }
-      g_rmdir (path);
-    }
-  else
-    g_unlink (path);
 }
 
 static void
 fixture_tear_down (Fixture *f)
 {
-  rm_rf (f->tmp);
+  efflux_test_remove_tree (f->tmp);
   g_free (f->tmp);
   g_free (f->sample);
 }
@@ -286,7 +228,7 @@ measure_to (const Fixture *f,
   const char *argv[] = { f->cli, "measure", f->sample, "--format", format, "-o", path,
                          shard ? "--shard" : NULL, shard, NULL };
 
-  if (run (argv, &out, &err) != 0)
+  if (efflux_test_spawn (NULL, argv, &out, &err) != 0)
     g_error ("measure %s: %s", format, err);
   return path;
 }
@@ -298,7 +240,7 @@ assert_one_line_error (const char * const *argv,
                        const char         *names)
 {
   g_autofree char *out = NULL, *err = NULL;
-  int status = run (argv, &out, &err);
+  int status = efflux_test_spawn (NULL, argv, &out, &err);
 
   g_test_message ("%s %s -> %d: %s", argv[1], argv[2], status, err);
   g_assert_cmpint (status, ==, want);
@@ -315,30 +257,21 @@ test_formats_astropy (void)
 {
   Fixture f;
   static const char * const formats[] = { "csv", "ecsv", "votable", "json" };
-  g_autofree char *out = NULL, *err = NULL;
-  g_autofree char *script = NULL, *stem = NULL;
-  const char *python = g_getenv ("EFFLUX_PYTHON");
+  g_autofree char *out = NULL;
+  g_autofree char *stem = NULL;
 
-  if (python == NULL || *python == '\0')
-    {
-      g_test_fail_printf ("EFFLUX_PYTHON is not set (run through meson test)");
-      return;
-    }
   fixture_set_up (&f);
   for (guint i = 0; i < G_N_ELEMENTS (formats); i++)
     {
       g_autofree char *file = g_strdup_printf ("whole.%s", formats[i]);
       g_autofree char *p = measure_to (&f, formats[i], NULL, file);
     }
-  script = g_build_filename (g_getenv ("EFFLUX_SOURCE_ROOT"), "tests", "ref", "tables_check.py", NULL);
   stem = path_in (&f, "whole");
   {
-    const char *argv[] = { python, script, stem, PACKAGE_VERSION, "3", NULL };
-    int status = run (argv, &out, &err);
+    const char *args[] = { stem, PACKAGE_VERSION, "3", NULL };
 
-    g_test_message ("%s%s", out, err);
-    if (status != 0)
-      g_error ("tables_check.py: %s%s", out, err);
+    out = efflux_test_python ("tables_check.py", args);
+    g_test_message ("%s", out);
     g_assert_nonnull (strstr (out, "ok ecsv"));
     g_assert_nonnull (strstr (out, "ok votable"));
   }
@@ -374,9 +307,9 @@ test_latex_markdown (void)
   tex_path = measure_to (&f, "latex", NULL, "t.tex");
   md_path = measure_to (&f, "markdown", NULL, "t.md");
   csv_path = measure_to (&f, "csv", NULL, "t.csv");
-  tex = read_file (tex_path);
-  md = read_file (md_path);
-  csv = read_file (csv_path);
+  tex = efflux_test_read_file (tex_path, NULL);
+  md = efflux_test_read_file (md_path, NULL);
+  csv = efflux_test_read_file (csv_path, NULL);
 
   /* LaTeX: version and assumptions in comments, one deluxetable, 14 columns */
   g_assert_true (g_str_has_prefix (tex, "% Outflow table written by Efflux " PACKAGE_VERSION));
@@ -507,9 +440,9 @@ test_shards_merge (void)
 
   fixture_set_up (&f);
   whole_path = measure_to (&f, "csv", NULL, "whole.csv");
-  whole = read_file (whole_path);
+  whole = efflux_test_read_file (whole_path, NULL);
   ecsv_path = measure_to (&f, "ecsv", NULL, "whole.ecsv");
-  ecsv = read_file (ecsv_path);
+  ecsv = efflux_test_read_file (ecsv_path, NULL);
   for (guint n = 1; n <= 4; n++)
     {
       g_autoptr (GPtrArray) argv = g_ptr_array_new_with_free_func (g_free);
@@ -525,7 +458,7 @@ test_shards_merge (void)
           g_autofree char *shard = g_strdup_printf ("%u/%u", k, n);
           g_autofree char *file = g_strdup_printf ("part-%u-of-%u.csv", k, n);
           char *part = measure_to (&f, "csv", shard, file);
-          g_autofree char *text = read_file (part);
+          g_autofree char *text = efflux_test_read_file (part, NULL);
           g_autofree char *sources = NULL;
           guint lines = count (text, "\n") - 1;
 
@@ -536,8 +469,8 @@ test_shards_merge (void)
       g_ptr_array_add (argv, g_strdup ("-o"));
       g_ptr_array_add (argv, g_strdup (merged_path));
       g_ptr_array_add (argv, NULL);
-      g_assert_cmpint (run ((const char * const *) argv->pdata, &out, &err), ==, 0);
-      merged = read_file (merged_path);
+      g_assert_cmpint (efflux_test_spawn (NULL, (const char * const *) argv->pdata, &out, &err), ==, 0);
+      merged = efflux_test_read_file (merged_path, NULL);
       g_assert_cmpstr (merged, ==, whole);
 
       /* and in another format: the same as measuring the whole in it */
@@ -545,8 +478,8 @@ test_shards_merge (void)
       argv->pdata[argv->len - 2] = g_strdup (merged_ecsv);
       g_free (out);
       g_free (err);
-      g_assert_cmpint (run ((const char * const *) argv->pdata, &out, &err), ==, 0);
-      merged2 = read_file (merged_ecsv);
+      g_assert_cmpint (efflux_test_spawn (NULL, (const char * const *) argv->pdata, &out, &err), ==, 0);
+      merged2 = efflux_test_read_file (merged_ecsv, NULL);
       g_assert_cmpstr (merged2, ==, ecsv);
     }
   fixture_tear_down (&f);
@@ -565,11 +498,12 @@ test_errors (void)
   nodir = path_in (&f, "no/such/folder/t.csv");
   {
     const char *argv[] = { f.cli, "measure", f.sample, "-o", nodir, NULL };
-    assert_one_line_error (argv, 2, "no/such/folder/t.csv");
+    /* an unwritable output is refused input (issue 7) */
+    assert_one_line_error (argv, 1, "no/such/folder/t.csv");
   }
   {
     const char *argv[] = { f.cli, "measure", f.sample, "-o", f.sample, NULL };
-    assert_one_line_error (argv, 2, "is a folder");
+    assert_one_line_error (argv, 1, "is a folder");
   }
   {
     static const char * const specs[] = { "0/3", "4/3", "a/b", "3", "1/0", "1/2/3", "-1/2", "" };
@@ -593,13 +527,13 @@ test_errors (void)
   p1 = measure_to (&f, "csv", "1/2", "p1.csv");
   p2 = measure_to (&f, "csv", "2/2", "p2.csv");
   bad = path_in (&f, "bad.csv");
-  text = read_file (p2);
+  text = efflux_test_read_file (p2, NULL);
   {
     GString *s = g_string_new (text);
 
     g_string_replace (s, "," PACKAGE_VERSION ",", ",0.0.1-other,", 0);
     edited = g_string_free (s, FALSE);
-    write_file (bad, edited);
+    efflux_test_write_file (bad, edited);
     const char *argv[] = { f.cli, "merge", p1, bad, NULL };
     assert_one_line_error (argv, 1, "written by Efflux 0.0.1-other");
   }
@@ -609,7 +543,7 @@ test_errors (void)
 
     g_string_replace (s, "mass_msun_err,", "mass_error,", 1);
     renamed = g_string_free (s, FALSE);
-    write_file (bad, renamed);
+    efflux_test_write_file (bad, renamed);
     const char *argv[] = { f.cli, "merge", p1, bad, NULL };
     assert_one_line_error (argv, 1, "mass_error");
   }
@@ -623,10 +557,10 @@ test_errors (void)
   }
   {
     const char *argv[] = { f.cli, "merge", p1, p2, "-o", nodir, NULL };
-    assert_one_line_error (argv, 2, "no/such/folder/t.csv");
+    assert_one_line_error (argv, 1, "no/such/folder/t.csv");
   }
   {
-    g_autofree char *p1_text = read_file (p1);
+    g_autofree char *p1_text = efflux_test_read_file (p1, NULL);
     g_autofree char *huge = NULL;
     GString *s = g_string_new (p1_text);
 
@@ -634,12 +568,12 @@ test_errors (void)
     g_string_replace (s, "," PACKAGE_VERSION ",1,3,a.efflux,", "," PACKAGE_VERSION ",1,4294967295,a.efflux,", 0);
     huge = g_string_free (s, FALSE);
     g_assert_cmpstr (huge, !=, p1_text);
-    write_file (bad, huge);
+    efflux_test_write_file (bad, huge);
     const char *argv[] = { f.cli, "merge", bad, NULL };
     assert_one_line_error (argv, 1, "sample_size '4294967295'");
   }
   {
-    write_file (bad, "a,b\n1,2\n");
+    efflux_test_write_file (bad, "a,b\n1,2\n");
     const char *argv[] = { f.cli, "merge", bad, NULL };
     assert_one_line_error (argv, 1, "no efflux_version column");
   }
@@ -664,7 +598,7 @@ test_mark (void)
   {
     const char *argv[] = { f.cli, "measure", f.sample, "--shard", "2/2", "--mark", "--format", "csv", NULL };
 
-    g_assert_cmpint (run (argv, &out, &err), ==, 0);
+    g_assert_cmpint (efflux_test_spawn (NULL, argv, &out, &err), ==, 0);
   }
   after = efflux_sample_scan (f.sample, &error);
   g_assert_no_error (error);
@@ -674,7 +608,7 @@ test_mark (void)
   g_assert_cmpint (((EffluxSampleEntry *) g_ptr_array_index (after, 2))->state, ==, EFFLUX_SOURCE_NOT_MEASURED);
   /* the marked dossier still measures (and keeps its comments) */
   a = g_build_filename (f.sample, "b.efflux", NULL);
-  text = read_file (a);
+  text = efflux_test_read_file (a, NULL);
   g_assert_nonnull (strstr (text, "\n[Status]\n"));
   g_assert_true (g_str_has_prefix (text, "# Dossier of a synthetic source"));
   {
@@ -682,7 +616,7 @@ test_mark (void)
 
     g_free (out);
     g_free (err);
-    g_assert_cmpint (run (argv, &out, &err), ==, 0);
+    g_assert_cmpint (efflux_test_spawn (NULL, argv, &out, &err), ==, 0);
   }
   fixture_tear_down (&f);
 }
