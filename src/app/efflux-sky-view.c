@@ -9,9 +9,13 @@
 
 #include "efflux-colormap.h"
 #include "efflux-lobe.h"
+#include "efflux-maps.h"
+#include "efflux-reproject.h"
+#include "efflux-wings.h"
 #include "efflux-skygrid.h"
 #include "efflux-sky-view.h"
 #include "efflux-stretch.h"
+#include "efflux-window.h"
 
 #define ZOOM_STEP     G_SQRT2
 #define ZOOM_MAX      64.0
@@ -77,7 +81,39 @@ struct _EffluxSkyView
   GPtrArray          *other_lobes;  /* OtherLobe * */
   char               *other_author;
   GskRenderNode      *other_node;   /* dropped on overlay and view changes */
+
+  /* what the map shows: SHOW_INTEGRATED (data), SHOW_PEAK (peak) or SHOW_CONTEXT (context) */
+  int                 shows;
+  double              layer_limits[3];
+  float              *peak;
+  GCancellable       *peak_cancel;
+  char               *context_path;
+  float              *context;
+  char               *context_unit;
+  char               *context_error;
+  GCancellable       *context_cancel;
+
+  /* wing contours */
+  char               *wing_tracer;
+  char               *wing_signature;  /* lobes' names, kinds and ranges the sets were made for */
+  GPtrArray          *wing_sets;       /* EffluxWingSet * on the shown grid */
+  char               *wing_legend;
+  GCancellable       *wing_cancel;
+  GskRenderNode      *wing_node;
+  GMenu              *wing_menu;
+  GSimpleActionGroup *layer_actions;
 };
+
+enum {
+  SHOW_INTEGRATED,
+  SHOW_PEAK,
+  SHOW_CONTEXT,
+};
+
+static const char *show_names[] = { "integrated", "peak", "context" };
+
+/* the multiples of the wing maps' noise the contours are drawn at */
+static const double wing_multiples[] = { 3.0, 5.0, 8.0, 13.0 };
 
 typedef struct
 {
@@ -121,6 +157,11 @@ enum {
   PROP_SELECTED_LOBE,
   PROP_NEW_LOBE_KIND,
   PROP_CUT_WIDTH,
+  PROP_SHOWS,
+  PROP_HAS_CONTEXT,
+  PROP_CONTEXT_ERROR,
+  PROP_WING_TRACER,
+  PROP_WING_LEGEND,
   N_PROPS
 };
 
@@ -134,7 +175,33 @@ invalidate (EffluxSkyView *self)
   g_clear_pointer (&self->node, gsk_render_node_unref);
   g_clear_pointer (&self->overlay_node, gsk_render_node_unref);
   g_clear_pointer (&self->other_node, gsk_render_node_unref);
+  g_clear_pointer (&self->wing_node, gsk_render_node_unref);
   gtk_widget_queue_draw (GTK_WIDGET (self));
+}
+
+/* The map in view: the layer chosen when it is ready, else the integrated map. */
+static const float *
+shown_data (EffluxSkyView *self)
+{
+  if (self->data == NULL)
+    return NULL;
+  if (self->shows == SHOW_PEAK && self->peak != NULL)
+    return self->peak;
+  if (self->shows == SHOW_CONTEXT && self->context != NULL)
+    return self->context;
+  return self->data;
+}
+
+static const char *
+shown_unit (EffluxSkyView *self)
+{
+  const float *d = shown_data (self);
+
+  if (d != NULL && d == self->peak)
+    return "K";
+  if (d != NULL && d == self->context)
+    return self->context_unit;
+  return self->unit;
 }
 
 /* Colour-map the whole map once per data, colour map, stretch or limits change. */
@@ -144,14 +211,16 @@ recolour (EffluxSkyView *self)
   guint8 lut[EFFLUX_COLORMAP_SIZE * 4];
   gsize n = self->width * self->height;
 
+  const float *data = shown_data (self);
+
   g_clear_pointer (&self->rgba, g_free);
-  if (self->data == NULL)
+  if (data == NULL)
     return;
-  if (!efflux_percentile_limits (self->data, n, self->limits, &self->lo, &self->hi))
+  if (!efflux_percentile_limits (data, n, self->limits, &self->lo, &self->hi))
     self->lo = self->hi = NAN;
   efflux_colormap_fill (self->colormap, lut);
   self->rgba = g_malloc (n * 4);
-  efflux_colormap_apply (lut, self->stretch, self->lo, self->hi, self->data, n, self->rgba);
+  efflux_colormap_apply (lut, self->stretch, self->lo, self->hi, data, n, self->rgba);
   invalidate (self);
 }
 
@@ -311,7 +380,7 @@ update_readout_text (EffluxSkyView *self)
       if (isnan (r->value))
         g_string_append (s, _("blank"));
       else
-        g_string_append_printf (s, "%.5g %s", r->value, self->unit ? self->unit : "");
+        g_string_append_printf (s, "%.5g %s", r->value, shown_unit (self) ? shown_unit (self) : "");
     }
   if (g_strcmp0 (s->str, self->readout_text) == 0)
     return;
@@ -344,7 +413,7 @@ efflux_sky_view_point_at (EffluxSkyView *self,
           r->inside = TRUE;
           r->x = (gssize) px;
           r->y = (gssize) py;
-          r->value = self->data[(gsize) r->y * self->width + (gsize) r->x];
+          r->value = shown_data (self)[(gsize) r->y * self->width + (gsize) r->x];
           if (self->cube != NULL && self->cube->sky != NULL)
             r->has_position = efflux_cube_pixel_to_icrs (self->cube, px, py, &r->ra_deg, &r->dec_deg);
           if (r->has_position && self->has_source)
@@ -371,6 +440,653 @@ efflux_sky_view_get_readout_values (EffluxSkyView    *self,
   *readout = self->readout;
 }
 
+/* ---- layers: peak map, context image, wing contours (computed in GTask workers) ---- */
+
+static void start_peak (EffluxSkyView *self);
+static void start_context (EffluxSkyView *self);
+static void start_wings (EffluxSkyView *self);
+
+static void
+cancel_and_clear (GCancellable **cancellable)
+{
+  if (*cancellable != NULL)
+    g_cancellable_cancel (*cancellable);
+  g_clear_object (cancellable);
+}
+
+gboolean
+efflux_sky_view_is_busy (EffluxSkyView *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_SKY_VIEW (self), FALSE);
+  return self->peak_cancel != NULL || self->context_cancel != NULL || self->wing_cancel != NULL;
+}
+
+const float *
+efflux_sky_view_get_shown_data (EffluxSkyView *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_SKY_VIEW (self), NULL);
+  return shown_data (self);
+}
+
+/* The layer in view changed (or its data): its own limits, colours, readout. */
+static void
+layer_changed (EffluxSkyView *self)
+{
+  double limits = self->layer_limits[self->shows];
+
+  if (limits != self->limits)
+    {
+      self->limits = limits;
+      g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_LIMITS]);
+    }
+  recolour (self);
+  efflux_sky_view_point_at (self, self->pointer_x, self->pointer_y);
+}
+
+static void
+set_shows (EffluxSkyView *self,
+           int            shows)
+{
+  if (shows == self->shows)
+    return;
+  self->shows = shows;
+  if (shows == SHOW_PEAK && self->peak == NULL)
+    start_peak (self);
+  layer_changed (self);
+  g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_SHOWS]);
+}
+
+/* -- the peak map -- */
+
+typedef struct
+{
+  const EffluxCube *cube;   /* borrowed: the window keeps the shown cube while it is shown */
+  gsize             n;
+} PeakJob;
+
+static void
+peak_thread (GTask        *task,
+             gpointer      source,
+             gpointer      task_data,
+             GCancellable *cancellable)
+{
+  PeakJob *job = task_data;
+  const EffluxCube *cube = job->cube;
+  g_autofree float *out = g_try_new (float, job->n);
+  GError *error = NULL;
+
+  if (out == NULL)
+    {
+      g_task_return_new_error (task, EFFLUX_ERROR, EFFLUX_ERROR_IO, "out of memory for the peak map");
+      return;
+    }
+  if (!efflux_moment_map (cube, EFFLUX_MOMENT_PEAK, cube->velocity[0],
+                          cube->velocity[cube->nchan - 1], 0.0, out, &error))
+    {
+      g_task_return_error (task, error);
+      return;
+    }
+  g_task_return_pointer (task, g_steal_pointer (&out), g_free);
+}
+
+static void
+peak_done (GObject      *source,
+           GAsyncResult *result,
+           gpointer      user_data)
+{
+  EffluxSkyView *self = EFFLUX_SKY_VIEW (source);
+  g_autoptr(GError) error = NULL;
+  g_autofree float *map = g_task_propagate_pointer (G_TASK (result), &error);
+
+  if (g_task_get_cancellable (G_TASK (result)) != self->peak_cancel)
+    return;   /* a newer job replaced this one */
+  g_clear_object (&self->peak_cancel);
+  if (map == NULL)
+    {
+      if (!g_error_matches (error, G_IO_ERROR, G_IO_ERROR_CANCELLED))
+        g_warning ("peak map: %s", error->message);
+      return;
+    }
+  g_free (self->peak);
+  self->peak = g_steal_pointer (&map);
+  if (self->shows == SHOW_PEAK)
+    layer_changed (self);
+}
+
+static void
+start_peak (EffluxSkyView *self)
+{
+  g_autoptr(GTask) task = NULL;
+  PeakJob *job;
+
+  cancel_and_clear (&self->peak_cancel);
+  if (self->cube == NULL || self->cube->data == NULL || self->cube->nchan == 0
+      || self->cube->nx != self->width || self->cube->ny != self->height)
+    return;
+  self->peak_cancel = g_cancellable_new ();
+  job = g_new0 (PeakJob, 1);
+  job->cube = self->cube;
+  job->n = self->width * self->height;
+  task = g_task_new (self, self->peak_cancel, peak_done, NULL);
+  g_task_set_task_data (task, job, g_free);
+  g_task_set_return_on_cancel (task, FALSE);
+  g_task_run_in_thread (task, peak_thread);
+}
+
+/* -- the context image -- */
+
+typedef struct
+{
+  char             *path;
+  const EffluxCube *grid;   /* borrowed, as the peak's cube */
+  char             *unit;   /* out */
+} ContextJob;
+
+static void
+context_job_free (gpointer data)
+{
+  ContextJob *job = data;
+
+  g_free (job->path);
+  g_free (job->unit);
+  g_free (job);
+}
+
+static void
+context_thread (GTask        *task,
+                gpointer      source,
+                gpointer      task_data,
+                GCancellable *cancellable)
+{
+  ContextJob *job = task_data;
+  GError *error = NULL;
+  g_autoptr(EffluxCube) image = efflux_image_load (job->path, 0, &error);
+  g_autofree float *out = NULL;
+
+  if (image == NULL)
+    {
+      g_task_return_error (task, error);
+      return;
+    }
+  out = g_try_new (float, job->grid->nx * job->grid->ny);
+  if (out == NULL)
+    {
+      g_task_return_new_error (task, EFFLUX_ERROR, EFFLUX_ERROR_IO, "%s: out of memory", job->path);
+      return;
+    }
+  if (!efflux_reproject_image (image, job->grid, out, NULL, cancellable, &error))
+    {
+      g_task_return_error (task, error);
+      return;
+    }
+  job->unit = g_strdup (image->bunit);
+  g_task_return_pointer (task, g_steal_pointer (&out), g_free);
+}
+
+static void
+set_context_error (EffluxSkyView *self,
+                   const char    *message)
+{
+  if (g_strcmp0 (message, self->context_error) == 0)
+    return;
+  g_free (self->context_error);
+  self->context_error = g_strdup (message);
+  g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_CONTEXT_ERROR]);
+  if (message != NULL && EFFLUX_IS_WINDOW (gtk_widget_get_root (GTK_WIDGET (self))))
+    efflux_window_show_error (EFFLUX_WINDOW (gtk_widget_get_root (GTK_WIDGET (self))), message);
+}
+
+static void
+context_done (GObject      *source,
+              GAsyncResult *result,
+              gpointer      user_data)
+{
+  EffluxSkyView *self = EFFLUX_SKY_VIEW (source);
+  ContextJob *job = g_task_get_task_data (G_TASK (result));
+  g_autoptr(GError) error = NULL;
+  g_autofree float *map = g_task_propagate_pointer (G_TASK (result), &error);
+  gboolean had = self->context != NULL;
+
+  if (g_task_get_cancellable (G_TASK (result)) != self->context_cancel)
+    return;
+  g_clear_object (&self->context_cancel);
+  if (map == NULL)
+    {
+      if (!g_error_matches (error, G_IO_ERROR, G_IO_ERROR_CANCELLED))
+        set_context_error (self, error->message);
+      return;
+    }
+  set_context_error (self, NULL);
+  g_free (self->context);
+  self->context = g_steal_pointer (&map);
+  g_free (self->context_unit);
+  self->context_unit = g_strdup (job->unit);
+  if (!had)
+    g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_HAS_CONTEXT]);
+  if (self->shows == SHOW_CONTEXT)
+    layer_changed (self);
+  else
+    set_shows (self, SHOW_CONTEXT);
+}
+
+static void
+start_context (EffluxSkyView *self)
+{
+  g_autoptr(GTask) task = NULL;
+  ContextJob *job;
+
+  cancel_and_clear (&self->context_cancel);
+  if (self->context_path == NULL)
+    return;
+  if (self->cube == NULL || self->cube->sky == NULL)
+    {
+      g_autofree char *message =
+        g_strdup_printf (_("%s: no map with a sky grid is shown to put the image under"),
+                         self->context_path);
+
+      set_context_error (self, message);
+      return;
+    }
+  self->context_cancel = g_cancellable_new ();
+  job = g_new0 (ContextJob, 1);
+  job->path = g_strdup (self->context_path);
+  job->grid = self->cube;
+  task = g_task_new (self, self->context_cancel, context_done, NULL);
+  g_task_set_task_data (task, job, context_job_free);
+  g_task_run_in_thread (task, context_thread);
+}
+
+void
+efflux_sky_view_set_context_file (EffluxSkyView *self,
+                                  const char    *path)
+{
+  gboolean had = self->context != NULL;
+
+  g_return_if_fail (EFFLUX_IS_SKY_VIEW (self));
+  g_free (self->context_path);
+  self->context_path = g_strdup (path);
+  g_clear_pointer (&self->context, g_free);
+  set_context_error (self, NULL);
+  if (had)
+    g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_HAS_CONTEXT]);
+  if (self->shows == SHOW_CONTEXT)
+    layer_changed (self);
+  start_context (self);
+}
+
+gboolean
+efflux_sky_view_has_context (EffluxSkyView *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_SKY_VIEW (self), FALSE);
+  return self->context != NULL;
+}
+
+const char *
+efflux_sky_view_get_context_error (EffluxSkyView *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_SKY_VIEW (self), NULL);
+  return self->context_error;
+}
+
+/* -- wing contours -- */
+
+typedef struct
+{
+  EffluxDossier    *dossier;   /* a copy: the document replaces its dossier on every edit */
+  char             *cube_id;
+  const EffluxCube *cube;      /* the tracer, owned by the document (kept alive by the ref) */
+  const EffluxCube *grid;
+  EffluxDocument   *document;
+} WingJob;
+
+static void
+wing_job_free (gpointer data)
+{
+  WingJob *job = data;
+
+  efflux_dossier_free (job->dossier);
+  g_free (job->cube_id);
+  g_clear_object (&job->document);
+  g_free (job);
+}
+
+static void
+wing_thread (GTask        *task,
+             gpointer      source,
+             gpointer      task_data,
+             GCancellable *cancellable)
+{
+  WingJob *job = task_data;
+  GError *error = NULL;
+  GPtrArray *sets = efflux_wing_contours (job->dossier, job->cube_id, job->cube, job->grid,
+                                          wing_multiples, G_N_ELEMENTS (wing_multiples), NULL,
+                                          cancellable, &error);
+
+  if (sets == NULL)
+    g_task_return_error (task, error);
+  else
+    g_task_return_pointer (task, sets, (GDestroyNotify) g_ptr_array_unref);
+}
+
+static void
+set_wing_legend (EffluxSkyView *self,
+                 const char    *legend)
+{
+  if (g_strcmp0 (legend, self->wing_legend) == 0)
+    return;
+  g_free (self->wing_legend);
+  self->wing_legend = g_strdup (legend);
+  g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_WING_LEGEND]);
+}
+
+static void
+update_wing_legend (EffluxSkyView *self)
+{
+  g_autoptr(GString) s = g_string_new (NULL);
+
+  if (self->wing_sets != NULL && self->wing_sets->len > 0)
+    {
+      /* Translators: the legend of the wing contours; %s is the tracer's cube id */
+      g_string_append_printf (s, _("Wing contours of %s at"), self->wing_tracer);
+      for (gsize i = 0; i < G_N_ELEMENTS (wing_multiples); i++)
+        g_string_append_printf (s, "%s %g", i ? "," : "", wing_multiples[i]);
+      g_string_append (s, " σ");
+      for (guint k = 0; k < self->wing_sets->len; k++)
+        {
+          const EffluxWingSet *set = g_ptr_array_index (self->wing_sets, k);
+
+          g_string_append_c (s, '\n');
+          /* Translators: one set of wing contours: lobes, velocity range, the noise of the map */
+          g_string_append_printf (s, _("%s (%s, %.1f to %.1f km/s): σ = %.3g K km/s"),
+                                  set->lobes, set->kind == EFFLUX_LOBE_BLUE ? _("blue") : _("red"),
+                                  set->v1_kms, set->v2_kms, set->sigma);
+        }
+    }
+  set_wing_legend (self, s->str);
+}
+
+static void
+wing_done (GObject      *source,
+           GAsyncResult *result,
+           gpointer      user_data)
+{
+  EffluxSkyView *self = EFFLUX_SKY_VIEW (source);
+  g_autoptr(GError) error = NULL;
+  GPtrArray *sets = g_task_propagate_pointer (G_TASK (result), &error);
+
+  if (g_task_get_cancellable (G_TASK (result)) != self->wing_cancel)
+    {
+      if (sets != NULL)
+        g_ptr_array_unref (sets);
+      return;
+    }
+  g_clear_object (&self->wing_cancel);
+  g_clear_pointer (&self->wing_sets, g_ptr_array_unref);
+  if (sets == NULL)
+    {
+      if (!g_error_matches (error, G_IO_ERROR, G_IO_ERROR_CANCELLED))
+        set_wing_legend (self, error->message);
+    }
+  else
+    {
+      self->wing_sets = sets;
+      update_wing_legend (self);
+    }
+  g_clear_pointer (&self->wing_node, gsk_render_node_unref);
+  gtk_widget_queue_draw (GTK_WIDGET (self));
+}
+
+/* What the wing sets depend on: each lobe's name, kind and range. */
+static char *
+wing_signature (EffluxSkyView *self)
+{
+  const EffluxDossier *d = self->document ? efflux_document_get_dossier (self->document) : NULL;
+  GString *s = g_string_new (self->wing_tracer);
+
+  g_string_append_printf (s, "|%p", (gpointer) self->cube);
+  for (guint k = 0; d != NULL && k < d->lobes->len; k++)
+    {
+      const EffluxDossierLobe *lobe = g_ptr_array_index (d->lobes, k);
+
+      g_string_append_printf (s, "|%s %d %.17g %.17g %d", lobe->name, lobe->kind, lobe->v1_kms,
+                              lobe->v2_kms, lobe->n_vertices >= 3);
+    }
+  return g_string_free (s, FALSE);
+}
+
+static void
+start_wings (EffluxSkyView *self)
+{
+  g_autoptr(GTask) task = NULL;
+  g_autofree char *data = NULL;
+  const EffluxDossier *d;
+  const EffluxCube *cube;
+  WingJob *job;
+  gsize length;
+  g_autoptr(GError) error = NULL;
+  EffluxDossier *copy;
+
+  cancel_and_clear (&self->wing_cancel);
+  g_clear_pointer (&self->wing_signature, g_free);
+  if (self->wing_tracer == NULL || self->document == NULL || self->cube == NULL)
+    {
+      g_clear_pointer (&self->wing_sets, g_ptr_array_unref);
+      update_wing_legend (self);
+      g_clear_pointer (&self->wing_node, gsk_render_node_unref);
+      gtk_widget_queue_draw (GTK_WIDGET (self));
+      return;
+    }
+  d = efflux_document_get_dossier (self->document);
+  cube = efflux_document_get_cube (self->document, self->wing_tracer);
+  if (cube == NULL || cube->data == NULL)
+    {
+      g_autofree char *message =
+        /* Translators: %s is a cube id of the dossier */
+        g_strdup_printf (_("[Cube %s]: the cube is not loaded: no wing contours"), self->wing_tracer);
+
+      g_clear_pointer (&self->wing_sets, g_ptr_array_unref);
+      set_wing_legend (self, message);
+      g_clear_pointer (&self->wing_node, gsk_render_node_unref);
+      gtk_widget_queue_draw (GTK_WIDGET (self));
+      return;
+    }
+  data = efflux_dossier_to_data ((EffluxDossier *) d, &length);
+  copy = efflux_dossier_new_from_data (data, (gssize) length, d->path, d->dir, &error);
+  if (copy == NULL)
+    {
+      set_wing_legend (self, error->message);
+      return;
+    }
+  self->wing_signature = wing_signature (self);
+  self->wing_cancel = g_cancellable_new ();
+  job = g_new0 (WingJob, 1);
+  job->dossier = copy;
+  job->cube_id = g_strdup (self->wing_tracer);
+  job->cube = cube;
+  job->grid = self->cube;
+  job->document = g_object_ref (self->document);
+  task = g_task_new (self, self->wing_cancel, wing_done, NULL);
+  g_task_set_task_data (task, job, wing_job_free);
+  g_task_run_in_thread (task, wing_thread);
+}
+
+/* After a document change: again only when a lobe's kind, range or the set of lobes changed. */
+static void
+maybe_restart_wings (EffluxSkyView *self)
+{
+  g_autofree char *signature = NULL;
+
+  if (self->wing_tracer == NULL)
+    return;
+  signature = wing_signature (self);
+  if (g_strcmp0 (signature, self->wing_signature) != 0)
+    start_wings (self);
+}
+
+static void
+set_wing_tracer (EffluxSkyView *self,
+                 const char    *id)
+{
+  if (id != NULL && *id == '\0')
+    id = NULL;
+  if (g_strcmp0 (id, self->wing_tracer) == 0)
+    return;
+  g_free (self->wing_tracer);
+  self->wing_tracer = g_strdup (id);
+  start_wings (self);
+  g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_WING_TRACER]);
+}
+
+GPtrArray *
+efflux_sky_view_get_wing_sets (EffluxSkyView *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_SKY_VIEW (self), NULL);
+  return self->wing_sets;
+}
+
+const char *
+efflux_sky_view_get_wing_legend (EffluxSkyView *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_SKY_VIEW (self), NULL);
+  return self->wing_legend ? self->wing_legend : "";
+}
+
+static void
+fill_wing_menu (EffluxSkyView *self)
+{
+  const EffluxDossier *d = self->document ? efflux_document_get_dossier (self->document) : NULL;
+
+  if (self->wing_menu == NULL)
+    return;
+  g_menu_remove_all (self->wing_menu);
+  {
+    g_autoptr(GMenuItem) item = g_menu_item_new (_("None"), NULL);
+
+    g_menu_item_set_action_and_target (item, "layers.wing-tracer", "s", "");
+    g_menu_append_item (self->wing_menu, item);
+  }
+  for (guint k = 0; d != NULL && k < d->cubes->len; k++)
+    {
+      const EffluxDossierCube *dc = g_ptr_array_index (d->cubes, k);
+      g_autofree char *label = dc->line != NULL || dc->line_name != NULL
+        ? g_strdup_printf ("%s (%s)", dc->id, dc->line_name ? dc->line_name : "")
+        : g_strdup (dc->id);
+      g_autoptr(GMenuItem) item = g_menu_item_new (label, NULL);
+
+      g_menu_item_set_action_and_target (item, "layers.wing-tracer", "s", dc->id);
+      g_menu_append_item (self->wing_menu, item);
+    }
+}
+
+void
+efflux_sky_view_bind_wing_menu (EffluxSkyView *self,
+                                GMenu         *menu)
+{
+  g_return_if_fail (EFFLUX_IS_SKY_VIEW (self));
+  g_set_object (&self->wing_menu, menu);
+  fill_wing_menu (self);
+}
+
+static void
+context_chosen (GtkNativeDialog *dialog,
+                int              response,
+                EffluxSkyView   *self)
+{
+  if (response == GTK_RESPONSE_ACCEPT)
+    {
+      g_autoptr(GFile) file = gtk_file_chooser_get_file (GTK_FILE_CHOOSER (dialog));
+      g_autofree char *path = file ? g_file_get_path (file) : NULL;
+
+      if (path != NULL)
+        efflux_sky_view_set_context_file (self, path);
+    }
+  gtk_native_dialog_destroy (dialog);
+  g_object_unref (dialog);
+  g_object_unref (self);
+}
+
+static void
+choose_context (GSimpleAction *action,
+                GVariant      *parameter,
+                gpointer       user_data)
+{
+  EffluxSkyView *self = user_data;
+  GtkRoot *root = gtk_widget_get_root (GTK_WIDGET (self));
+  GtkFileChooserNative *dialog =
+    gtk_file_chooser_native_new (_("Show a Context Image"),
+                                 GTK_IS_WINDOW (root) ? GTK_WINDOW (root) : NULL,
+                                 GTK_FILE_CHOOSER_ACTION_OPEN, _("_Show"), _("_Cancel"));
+  g_autoptr(GtkFileFilter) fits = gtk_file_filter_new ();
+  g_autoptr(GtkFileFilter) all = gtk_file_filter_new ();
+
+  gtk_file_filter_set_name (fits, _("FITS images"));
+  gtk_file_filter_add_pattern (fits, "*.fits");
+  gtk_file_filter_add_pattern (fits, "*.fit");
+  gtk_file_filter_add_pattern (fits, "*.fts");
+  gtk_file_filter_add_pattern (fits, "*.FITS");
+  gtk_file_filter_add_pattern (fits, "*.fits.gz");
+  gtk_file_chooser_add_filter (GTK_FILE_CHOOSER (dialog), fits);
+  gtk_file_filter_set_name (all, _("All files"));
+  gtk_file_filter_add_pattern (all, "*");
+  gtk_file_chooser_add_filter (GTK_FILE_CHOOSER (dialog), all);
+  gtk_native_dialog_set_modal (GTK_NATIVE_DIALOG (dialog), TRUE);
+  g_signal_connect (dialog, "response", G_CALLBACK (context_chosen), g_object_ref (self));
+  gtk_native_dialog_show (GTK_NATIVE_DIALOG (dialog));
+}
+
+GActionGroup *
+efflux_sky_view_get_layer_actions (EffluxSkyView *self)
+{
+  g_return_val_if_fail (EFFLUX_IS_SKY_VIEW (self), NULL);
+  if (self->layer_actions == NULL)
+    {
+      static const char *props[] = { "shows", "wing-tracer" };
+      g_autoptr(GSimpleAction) choose = g_simple_action_new ("context-image", NULL);
+
+      self->layer_actions = g_simple_action_group_new ();
+      for (gsize i = 0; i < G_N_ELEMENTS (props); i++)
+        {
+          g_autoptr(GPropertyAction) action = g_property_action_new (props[i], self, props[i]);
+
+          g_action_map_add_action (G_ACTION_MAP (self->layer_actions), G_ACTION (action));
+        }
+      g_signal_connect_object (choose, "activate", G_CALLBACK (choose_context), self, 0);
+      g_action_map_add_action (G_ACTION_MAP (self->layer_actions), G_ACTION (choose));
+    }
+  return G_ACTION_GROUP (self->layer_actions);
+}
+
+/* A new map: when its cube changed, the layers made on the old grid are made again. */
+static void
+layers_new_map (EffluxSkyView *self,
+                gboolean       cube_changed)
+{
+  if (!cube_changed)
+    return;
+  cancel_and_clear (&self->peak_cancel);
+  g_clear_pointer (&self->peak, g_free);
+  if (self->shows == SHOW_PEAK)
+    start_peak (self);
+  if (self->context_path != NULL)
+    {
+      g_clear_pointer (&self->context, g_free);
+      start_context (self);
+    }
+  start_wings (self);
+}
+
+static void
+layers_clear (EffluxSkyView *self)
+{
+  cancel_and_clear (&self->peak_cancel);
+  cancel_and_clear (&self->context_cancel);
+  cancel_and_clear (&self->wing_cancel);
+  g_clear_pointer (&self->peak, g_free);
+  g_clear_pointer (&self->context, g_free);
+  g_clear_pointer (&self->wing_sets, g_ptr_array_unref);
+  g_clear_pointer (&self->wing_signature, g_free);
+}
+
 /* ---- the map ---- */
 
 void
@@ -382,10 +1098,17 @@ efflux_sky_view_set_map (EffluxSkyView    *self,
                          const char       *unit)
 {
   gboolean had = self->data != NULL;
+  gboolean cube_changed = cube != self->cube || width != self->width || height != self->height;
 
   g_return_if_fail (EFFLUX_IS_SKY_VIEW (self));
   g_return_if_fail (data != NULL && width > 0 && height > 0);
 
+  if (cube_changed)
+    {
+      /* the old grid's layers no longer fit */
+      g_clear_pointer (&self->peak, g_free);
+      g_clear_pointer (&self->context, g_free);
+    }
   g_free (self->data);
   self->data = g_memdup2 (data, width * height * sizeof (float));
   self->width = width;
@@ -396,6 +1119,7 @@ efflux_sky_view_set_map (EffluxSkyView    *self,
   recolour (self);
   efflux_sky_view_zoom_fit (self);
   efflux_sky_view_point_at (self, self->pointer_x, self->pointer_y);
+  layers_new_map (self, cube_changed);
   if (!had)
     g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_HAS_MAP]);
 }
@@ -407,6 +1131,7 @@ efflux_sky_view_clear (EffluxSkyView *self)
 
   if (self->data == NULL)
     return;
+  layers_clear (self);
   g_clear_pointer (&self->data, g_free);
   g_clear_pointer (&self->rgba, g_free);
   self->cube = NULL;
@@ -728,6 +1453,17 @@ document_changed (EffluxDocument *document,
   if (self->selected != NULL && efflux_dossier_find_lobe (d, self->selected) == NULL)
     efflux_sky_view_select_lobe (self, NULL);
   invalidate_overlay (self);
+  if (group == NULL || g_str_has_prefix (group, "Cube"))
+    fill_wing_menu (self);
+  maybe_restart_wings (self);
+}
+
+static void
+document_measured (EffluxDocument *document,
+                   EffluxSkyView  *self)
+{
+  /* the tracer's cube may have been loaded since */
+  maybe_restart_wings (self);
 }
 
 void
@@ -739,10 +1475,18 @@ efflux_sky_view_set_document (EffluxSkyView  *self,
   if (self->document == document)
     return;
   if (self->document != NULL)
-    g_signal_handlers_disconnect_by_func (self->document, document_changed, self);
+    {
+      g_signal_handlers_disconnect_by_func (self->document, document_changed, self);
+      g_signal_handlers_disconnect_by_func (self->document, document_measured, self);
+    }
   g_set_object (&self->document, document);
   if (document != NULL)
-    g_signal_connect (document, "changed", G_CALLBACK (document_changed), self);
+    {
+      g_signal_connect (document, "changed", G_CALLBACK (document_changed), self);
+      g_signal_connect (document, "measured", G_CALLBACK (document_measured), self);
+    }
+  fill_wing_menu (self);
+  start_wings (self);
   efflux_sky_view_select_lobe (self, NULL);
   g_array_set_size (self->draft_x, 0);
   g_array_set_size (self->draft_y, 0);
@@ -1417,6 +2161,69 @@ draw_other_lobes (EffluxSkyView *self,
     }
 }
 
+/* Wing contours: blue and red lines, thicker at higher levels, over a dark halo; the legend in
+ * the top left corner. */
+static void
+draw_wings (EffluxSkyView *self,
+            cairo_t       *cr)
+{
+  if (self->wing_sets != NULL)
+    {
+      cairo_set_line_join (cr, CAIRO_LINE_JOIN_ROUND);
+      for (int pass = 0; pass < 2; pass++)
+        for (guint k = 0; k < self->wing_sets->len; k++)
+          {
+            const EffluxWingSet *set = g_ptr_array_index (self->wing_sets, k);
+
+            for (guint i = 0; i < set->lines->len; i++)
+              {
+                const EffluxPolyline *line = g_ptr_array_index (set->lines, i);
+                gboolean pen = FALSE;
+                double width = 1.0;
+
+                for (gsize l = 0; l < set->n_levels; l++)
+                  if (line->level == set->levels[l])
+                    width = 1.0 + 0.4 * l;
+                for (gsize j = 0; j < line->n; j++)
+                  {
+                    double wx, wy;
+
+                    if (isnan (line->xy[2 * j]))
+                      {
+                        pen = FALSE;
+                        continue;
+                      }
+                    efflux_sky_view_pixel_to_widget (self, line->xy[2 * j], line->xy[2 * j + 1],
+                                                     &wx, &wy);
+                    if (pen)
+                      cairo_line_to (cr, wx, wy);
+                    else
+                      cairo_move_to (cr, wx, wy);
+                    pen = TRUE;
+                  }
+                if (line->closed && pen)
+                  cairo_close_path (cr);
+                if (pass == 0)
+                  {
+                    cairo_set_source_rgba (cr, 0, 0, 0, 0.55);
+                    cairo_set_line_width (cr, width + 2.0);
+                  }
+                else
+                  {
+                    if (set->kind == EFFLUX_LOBE_BLUE)
+                      cairo_set_source_rgba (cr, 0.35, 0.65, 1.0, 1.0);
+                    else
+                      cairo_set_source_rgba (cr, 1.0, 0.35, 0.3, 1.0);
+                    cairo_set_line_width (cr, width);
+                  }
+                cairo_stroke (cr);
+              }
+          }
+    }
+  if (self->wing_legend != NULL && self->wing_legend[0] != '\0')
+    draw_label (self, cr, self->wing_legend, 8, 8, 0.0, 0.0);
+}
+
 /* ---- drawing ---- */
 
 /* The visible part of the map, resampled nearest-neighbour at the device resolution into a
@@ -1876,6 +2683,18 @@ efflux_sky_view_snapshot (GtkWidget   *widget,
     }
   if (self->other_node != NULL)
     gtk_snapshot_append_node (snapshot, self->other_node);
+  if (self->wing_node == NULL
+      && (self->wing_sets != NULL || (self->wing_legend != NULL && self->wing_legend[0])))
+    {
+      GtkSnapshot *wings = gtk_snapshot_new ();
+      cairo_t *cr = gtk_snapshot_append_cairo (wings, &GRAPHENE_RECT_INIT (0, 0, w, h));
+
+      draw_wings (self, cr);
+      cairo_destroy (cr);
+      self->wing_node = gtk_snapshot_free_to_node (wings);
+    }
+  if (self->wing_node != NULL)
+    gtk_snapshot_append_node (snapshot, self->wing_node);
   if (self->overlay_node == NULL && (self->document != NULL || self->draft_x->len > 0))
     {
       GtkSnapshot *overlay = gtk_snapshot_new ();
@@ -2069,6 +2888,21 @@ efflux_sky_view_get_property (GObject    *object,
     case PROP_CUT_WIDTH:
       g_value_set_double (value, self->cut_width);
       break;
+    case PROP_SHOWS:
+      g_value_set_string (value, show_names[self->shows]);
+      break;
+    case PROP_HAS_CONTEXT:
+      g_value_set_boolean (value, self->context != NULL);
+      break;
+    case PROP_CONTEXT_ERROR:
+      g_value_set_string (value, self->context_error);
+      break;
+    case PROP_WING_TRACER:
+      g_value_set_string (value, self->wing_tracer ? self->wing_tracer : "");
+      break;
+    case PROP_WING_LEGEND:
+      g_value_set_string (value, efflux_sky_view_get_wing_legend (self));
+      break;
     default:
       G_OBJECT_WARN_INVALID_PROPERTY_ID (object, prop_id, pspec);
     }
@@ -2120,6 +2954,7 @@ efflux_sky_view_set_property (GObject      *object,
       if (g_value_get_double (value) == self->limits)
         return;
       self->limits = g_value_get_double (value);
+      self->layer_limits[self->shows] = self->limits;
       recolour (self);
       g_object_notify_by_pspec (object, pspec);
       break;
@@ -2174,6 +3009,18 @@ efflux_sky_view_set_property (GObject      *object,
           g_object_notify_by_pspec (object, pspec);
         }
       break;
+    case PROP_SHOWS:
+      for (int i = 0; i < (int) G_N_ELEMENTS (show_names); i++)
+        if (g_strcmp0 (g_value_get_string (value), show_names[i]) == 0)
+          {
+            set_shows (self, i);
+            return;
+          }
+      g_warning ("unknown map '%s'", g_value_get_string (value));
+      break;
+    case PROP_WING_TRACER:
+      set_wing_tracer (self, g_value_get_string (value));
+      break;
     default:
       G_OBJECT_WARN_INVALID_PROPERTY_ID (object, prop_id, pspec);
     }
@@ -2187,10 +3034,22 @@ efflux_sky_view_finalize (GObject *object)
   g_clear_pointer (&self->node, gsk_render_node_unref);
   g_clear_pointer (&self->overlay_node, gsk_render_node_unref);
   g_clear_pointer (&self->other_node, gsk_render_node_unref);
+  g_clear_pointer (&self->wing_node, gsk_render_node_unref);
+  layers_clear (self);
+  g_free (self->context_path);
+  g_free (self->context_unit);
+  g_free (self->context_error);
+  g_free (self->wing_tracer);
+  g_free (self->wing_legend);
+  g_clear_object (&self->wing_menu);
+  g_clear_object (&self->layer_actions);
   g_ptr_array_unref (self->other_lobes);
   g_free (self->other_author);
   if (self->document != NULL)
-    g_signal_handlers_disconnect_by_func (self->document, document_changed, self);
+    {
+      g_signal_handlers_disconnect_by_func (self->document, document_changed, self);
+      g_signal_handlers_disconnect_by_func (self->document, document_measured, self);
+    }
   g_clear_object (&self->document);
   g_array_unref (self->draft_x);
   g_array_unref (self->draft_y);
@@ -2254,6 +3113,21 @@ efflux_sky_view_class_init (EffluxSkyViewClass *klass)
   properties[PROP_CUT_WIDTH] =
     g_param_spec_double ("cut-width", NULL, NULL, 0.0, 3600.0, 0.0,
                          G_PARAM_READWRITE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
+  properties[PROP_SHOWS] =
+    g_param_spec_string ("shows", NULL, NULL, "integrated",
+                         G_PARAM_READWRITE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
+  properties[PROP_HAS_CONTEXT] =
+    g_param_spec_boolean ("has-context", NULL, NULL, FALSE,
+                          G_PARAM_READABLE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
+  properties[PROP_CONTEXT_ERROR] =
+    g_param_spec_string ("context-error", NULL, NULL, NULL,
+                         G_PARAM_READABLE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
+  properties[PROP_WING_TRACER] =
+    g_param_spec_string ("wing-tracer", NULL, NULL, "",
+                         G_PARAM_READWRITE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
+  properties[PROP_WING_LEGEND] =
+    g_param_spec_string ("wing-legend", NULL, NULL, "",
+                         G_PARAM_READABLE | G_PARAM_EXPLICIT_NOTIFY | G_PARAM_STATIC_STRINGS);
   g_object_class_install_properties (object_class, N_PROPS, properties);
 
   gtk_widget_class_install_action (widget_class, "sky.add-vertex", "(dd)", edit_action);
@@ -2311,6 +3185,8 @@ efflux_sky_view_init (EffluxSkyView *self)
   self->hover_vertex = -1;
   self->new_kind = EFFLUX_LOBE_BLUE;
   self->other_lobes = g_ptr_array_new_with_free_func (other_lobe_free);
+  for (int i = 0; i < 3; i++)
+    self->layer_limits[i] = 99.5;
 
   g_signal_connect (motion, "motion", G_CALLBACK (motion_cb), self);
   g_signal_connect (motion, "leave", G_CALLBACK (leave_cb), self);

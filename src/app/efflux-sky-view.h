@@ -142,4 +142,41 @@ const char *efflux_sky_view_get_overlay_author (EffluxSkyView *self);
 /* The number of lobes in the overlay (0: none). */
 guint       efflux_sky_view_get_n_overlay_lobes (EffluxSkyView *self);
 
+/* ---- what the map shows, context images, wing contours ----
+ *
+ * "shows" (string): "integrated" (the map given by efflux_sky_view_set_map), "peak" (the peak
+ * brightness over all channels of the shown cube, efflux_moment_map, computed off the UI thread
+ * when first asked for) or "context" (a context image, below). Each keeps its own display limits
+ * ("limits" applies to the one shown). Until a peak or context map is ready the integrated map
+ * stays in view.
+ *
+ * A context image: a 2-D image from another FITS file with its own WCS, read and reprojected
+ * onto the shown cube's grid off the UI thread (efflux-reproject.h); when it is ready the view
+ * shows it ("has-context" becomes TRUE); an error is the "context-error" property (the core's
+ * message naming the file and the card). It follows the shown cube: a new cube reprojects it
+ * again.
+ *
+ * Wing contours: "wing-tracer" (string, a dossier cube id; NULL or "": none) draws, over the map,
+ * blue and red contours of the wing maps of the document's lobes on that cube (efflux-wings.h),
+ * at 3, 5, 8 and 13 times each wing map's noise, computed off the UI thread and again when a
+ * lobe's kind or velocity range changes. The legend (drawn in the top left corner, and the
+ * "wing-legend" property) states the tracer, the multiples and the noise of each set. */
+void        efflux_sky_view_set_context_file (EffluxSkyView  *self,
+                                              const char     *path);
+gboolean    efflux_sky_view_has_context    (EffluxSkyView    *self);
+const char *efflux_sky_view_get_context_error (EffluxSkyView *self);
+/* The map in view (width x height floats as set_map's), or NULL. */
+const float *efflux_sky_view_get_shown_data (EffluxSkyView   *self);
+/* The wing sets in view (EffluxWingSet *, borrowed), or NULL; "" legend when none. */
+GPtrArray  *efflux_sky_view_get_wing_sets  (EffluxSkyView    *self);
+const char *efflux_sky_view_get_wing_legend (EffluxSkyView   *self);
+/* TRUE while a peak map, context image or wing contours are being computed. */
+gboolean    efflux_sky_view_is_busy        (EffluxSkyView    *self);
+/* Actions for a window's menus: "shows" and "wing-tracer" (stateful, strings), "context-image"
+ * (asks for a FITS file with a file chooser and shows it). */
+GActionGroup *efflux_sky_view_get_layer_actions (EffluxSkyView *self);
+/* Keep menu filled with one "layers.wing-tracer" item per cube of the document (and "None"). */
+void        efflux_sky_view_bind_wing_menu (EffluxSkyView    *self,
+                                            GMenu            *menu);
+
 G_END_DECLS
