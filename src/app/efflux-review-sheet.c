@@ -321,9 +321,12 @@ row_for_widget (EffluxReviewSheet *self,
   return g_object_get_data (widget, "efflux-review-row");
 }
 
+/* from_status: the dropdown changed ("no note" then removes the note, whatever the entry says);
+ * else the entry was committed. */
 static void
 write_row (EffluxReviewSheet *self,
-           ReviewRow         *r)
+           ReviewRow         *r,
+           gboolean           from_status)
 {
   g_autoptr(GError) error = NULL;
   guint choice;
@@ -333,7 +336,7 @@ write_row (EffluxReviewSheet *self,
     return;
   choice = gtk_drop_down_get_selected (r->status);
   text = gtk_editable_get_text (GTK_EDITABLE (r->note));
-  if (choice == 0 && *text != '\0')
+  if (choice == 0 && *text != '\0' && !from_status)
     {
       /* a note without a status: questioned (a remark to discuss) */
       self->updating = TRUE;
@@ -355,7 +358,7 @@ status_changed (GtkDropDown       *dropdown,
   ReviewRow *r = row_for_widget (self, G_OBJECT (dropdown));
 
   if (r != NULL)
-    write_row (self, r);
+    write_row (self, r, TRUE);
 }
 
 static void
@@ -365,7 +368,7 @@ note_activated (GtkEntry          *entry,
   ReviewRow *r = row_for_widget (self, G_OBJECT (entry));
 
   if (r != NULL)
-    write_row (self, r);
+    write_row (self, r, FALSE);
 }
 
 static void
@@ -376,7 +379,7 @@ note_focus_left (GtkEventControllerFocus *focus,
   ReviewRow *r = row_for_widget (self, G_OBJECT (entry));
 
   if (r != NULL)
-    write_row (self, r);
+    write_row (self, r, FALSE);
 }
 
 static GtkWidget *

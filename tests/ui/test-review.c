@@ -242,6 +242,25 @@ fixture_tear_down (Fixture      *f,
   efflux_cube_free (f->cube);
 }
 
+/* The widgets of a type inside widget, depth first (the rows' dropdowns and entries in order). */
+static void
+collect (GtkWidget *widget,
+         GType      type,
+         GPtrArray *found)
+{
+  if (G_TYPE_CHECK_INSTANCE_TYPE (widget, type))
+    g_ptr_array_add (found, widget);
+  for (GtkWidget *c = gtk_widget_get_first_child (widget); c != NULL; c = gtk_widget_get_next_sibling (c))
+    collect (c, type, found);
+}
+
+static char *
+note_value (EffluxDocument *document,
+            const char     *key)
+{
+  return g_key_file_get_value (efflux_document_get_dossier (document)->keyfile, "Review blue-1", key, NULL);
+}
+
 static EffluxWindow *
 open_window (const char *path)
 {
@@ -464,6 +483,54 @@ test_compare_and_notes (Fixture      *f,
   g_assert_cmpint (status, ==, EFFLUX_REVIEW_CHANGED);
   g_assert_cmpstr (efflux_review_sheet_get_row_note (sheet, (guint) i), ==, "redrawn on my side");
   g_assert_false (efflux_document_get_modified (efflux_window_get_document (window)));
+
+  /* the row's own widgets: the dropdown and the entry of the first row with a lobe of theirs
+   * (blue-1), each change one command */
+  {
+    g_autoptr(GPtrArray) dropdowns = g_ptr_array_new ();
+    g_autoptr(GPtrArray) entries = g_ptr_array_new ();
+    EffluxDocument *doc = efflux_window_get_document (window);
+    guint n0 = efflux_document_get_n_undo (doc);
+    g_autofree char *v1 = NULL, *v2 = NULL, *v3 = NULL, *v4 = NULL;
+
+    collect (GTK_WIDGET (sheet), GTK_TYPE_DROP_DOWN, dropdowns);
+    collect (GTK_WIDGET (sheet), GTK_TYPE_ENTRY, entries);
+    /* blue-1 and R-far have them; my red-1 alone has none */
+    g_assert_cmpuint (dropdowns->len, ==, 2);
+    g_assert_cmpuint (entries->len, ==, 2);
+    g_assert_cmpuint (gtk_drop_down_get_selected (g_ptr_array_index (dropdowns, 0)), ==, 1 + EFFLUX_REVIEW_CHANGED);
+    gtk_drop_down_set_selected (g_ptr_array_index (dropdowns, 0), 1 + EFFLUX_REVIEW_AGREED);
+    v1 = note_value (doc, "status");
+    v2 = note_value (doc, "note");
+    g_assert_cmpstr (v1, ==, "agreed");
+    g_assert_cmpstr (v2, ==, "redrawn on my side");
+    gtk_editable_set_text (GTK_EDITABLE (g_ptr_array_index (entries, 0)), "fine after all");
+    g_signal_emit_by_name (g_ptr_array_index (entries, 0), "activate");
+    v3 = note_value (doc, "note");
+    g_assert_cmpstr (v3, ==, "fine after all");
+    /* "no note" removes it, though the entry holds text */
+    gtk_drop_down_set_selected (g_ptr_array_index (dropdowns, 0), 0);
+    v4 = note_value (doc, "status");
+    g_assert_null (v4);
+    g_assert_cmpstr (gtk_editable_get_text (g_ptr_array_index (entries, 0)), ==, "");
+    /* a note typed without a status is recorded as questioned */
+    gtk_editable_set_text (GTK_EDITABLE (g_ptr_array_index (entries, 1)), "no emission there");
+    g_signal_emit_by_name (g_ptr_array_index (entries, 1), "activate");
+    g_assert_cmpuint (gtk_drop_down_get_selected (g_ptr_array_index (dropdowns, 1)), ==, 1 + EFFLUX_REVIEW_QUESTIONED);
+    {
+      g_autofree char *st = g_key_file_get_value (efflux_document_get_dossier (doc)->keyfile,
+                                                  "Review R-far", "status", NULL);
+
+      g_assert_cmpstr (st, ==, "questioned");
+    }
+    g_assert_cmpuint (efflux_document_get_n_undo (doc), ==, n0 + 4);
+    for (int k = 0; k < 4; k++)
+      g_assert_true (efflux_document_undo (doc));
+    g_assert_false (efflux_document_get_modified (doc));
+    g_assert_cmpuint (gtk_drop_down_get_selected (g_ptr_array_index (dropdowns, 0)), ==, 1 + EFFLUX_REVIEW_CHANGED);
+    g_assert_cmpstr (gtk_editable_get_text (g_ptr_array_index (entries, 0)), ==, "redrawn on my side");
+    g_assert_cmpuint (gtk_drop_down_get_selected (g_ptr_array_index (dropdowns, 1)), ==, 0);
+  }
 
   /* my lobe edited to the colleague's outline: the sheet compares again (after the edits pause)
    * and the two pixel sets are the same, IoU 1 */
