@@ -855,6 +855,18 @@ efflux_figure_dialog_dispose (GObject *object)
   G_OBJECT_CLASS (efflux_figure_dialog_parent_class)->dispose (object);
 }
 
+/* Closed (gtk_window_destroy unrealizes; the running task may still hold a reference): stop
+ * drawing, nothing is written. */
+static void
+efflux_figure_dialog_unrealize (GtkWidget *widget)
+{
+  EffluxFigureDialog *self = EFFLUX_FIGURE_DIALOG (widget);
+
+  if (self->cancellable != NULL)
+    g_cancellable_cancel (self->cancellable);
+  GTK_WIDGET_CLASS (efflux_figure_dialog_parent_class)->unrealize (widget);
+}
+
 static void
 efflux_figure_dialog_finalize (GObject *object)
 {
@@ -878,6 +890,7 @@ efflux_figure_dialog_class_init (EffluxFigureDialogClass *klass)
 
   object_class->dispose = efflux_figure_dialog_dispose;
   object_class->finalize = efflux_figure_dialog_finalize;
+  widget_class->unrealize = efflux_figure_dialog_unrealize;
 
   signals[SIGNAL_FINISHED] =
     g_signal_new ("finished", G_TYPE_FROM_CLASS (klass), G_SIGNAL_RUN_LAST, 0, NULL, NULL, NULL,
