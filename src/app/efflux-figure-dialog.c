@@ -241,6 +241,32 @@ size_changed (EffluxFigureDialog *self)
   update_preset (self);
 }
 
+/* The height spin shows "auto" for 0 (as tall as the layout needs) and reads it back. */
+static gboolean
+height_output (GtkSpinButton *spin,
+               gpointer       user_data)
+{
+  double value = gtk_spin_button_get_value (spin);
+
+  if (value > 0)
+    return FALSE;
+  gtk_editable_set_text (GTK_EDITABLE (spin), _("auto"));
+  return TRUE;
+}
+
+static int
+height_input (GtkSpinButton *spin,
+              double        *value,
+              gpointer       user_data)
+{
+  const char *text = gtk_editable_get_text (GTK_EDITABLE (spin));
+
+  if (g_strcmp0 (text, _("auto")) != 0 && g_strcmp0 (text, "auto") != 0)
+    return FALSE;
+  *value = 0.0;
+  return TRUE;
+}
+
 /* ---- the file chooser --------------------------------------------------------------------- */
 
 static void
@@ -949,6 +975,8 @@ efflux_figure_dialog_init (EffluxFigureDialog *self)
   g_signal_connect_swapped (self->unit_dropdown, "notify::selected", G_CALLBACK (unit_changed), self);
   g_signal_connect_swapped (self->width_spin, "value-changed", G_CALLBACK (size_changed), self);
   g_signal_connect_swapped (self->height_spin, "value-changed", G_CALLBACK (size_changed), self);
+  g_signal_connect (self->height_spin, "output", G_CALLBACK (height_output), NULL);
+  g_signal_connect (self->height_spin, "input", G_CALLBACK (height_input), NULL);
   g_signal_connect_swapped (self->range_check, "toggled", G_CALLBACK (update_sensitivity), self);
   set_spins_mm (self);
 }
