@@ -749,6 +749,31 @@ test_window_action (void)
   GListModel *toplevels = gtk_window_get_toplevels ();
   GtkWindow *found = NULL;
 
+  /* the window's shortcuts hold Ctrl+Shift+E for the action */
+  {
+    g_autoptr(GListModel) controllers = gtk_widget_observe_controllers (GTK_WIDGET (window));
+    gboolean bound = FALSE;
+
+    for (guint i = 0; i < g_list_model_get_n_items (controllers) && !bound; i++)
+      {
+        g_autoptr(GObject) c = g_list_model_get_item (controllers, i);
+
+        if (!GTK_IS_SHORTCUT_CONTROLLER (c))
+          continue;
+        for (guint j = 0; j < g_list_model_get_n_items (G_LIST_MODEL (c)) && !bound; j++)
+          {
+            g_autoptr(GtkShortcut) sc = g_list_model_get_item (G_LIST_MODEL (c), j);
+            GtkShortcutAction *action = gtk_shortcut_get_action (sc);
+            g_autofree char *trigger = gtk_shortcut_trigger_to_string (gtk_shortcut_get_trigger (sc));
+
+            bound = GTK_IS_NAMED_ACTION (action)
+                    && g_strcmp0 (gtk_named_action_get_action_name (GTK_NAMED_ACTION (action)),
+                                  "win.export-figure") == 0
+                    && g_strcmp0 (trigger, "<Shift><Control>e") == 0;
+          }
+      }
+    g_assert_true (bound);
+  }
   g_assert_true (gtk_widget_activate_action (GTK_WIDGET (window), "win.export-figure", NULL));
   for (guint i = 0; i < g_list_model_get_n_items (toplevels) && found == NULL; i++)
     {
