@@ -16,7 +16,9 @@
  *   first and last channel velocities, computed here from the cube's own channels.
  * - Sizes in inches, the format from the file name's extension, an error naming the file when it
  *   cannot be written (nothing left behind), Cancel (nothing written, no temporary file left), and
- *   the window's win.export-figure action opening the dialog modal and transient for the window. */
+ *   the window's win.export-figure action (bound to Ctrl+Shift+E) opening the dialog modal and
+ *   transient for the window; closing the dialog mid-export writes nothing.
+ * - efflux_figure_new_full: progress never decreasing and ending at 1, and cancellation. */
 #include "config.h"
 
 #include <cairo.h>
@@ -789,6 +791,43 @@ test_window_action (void)
   close_all (window, EFFLUX_FIGURE_DIALOG (found));
 }
 
+static void
+record_progress (double   fraction,
+                 gpointer user_data)
+{
+  g_array_append_val ((GArray *) user_data, fraction);
+}
+
+/* The renderer's entry for the dialog: progress over the cubes read, ending at 1; a cancelled
+ * cancellable stops it with EFFLUX_ERROR_CANCELLED or G_IO_ERROR_CANCELLED. */
+static void
+test_figure_new_full (void)
+{
+  g_autofree char *demo = efflux_application_find_demo ();
+  g_autoptr(GError) error = NULL;
+  g_autoptr(EffluxDossier) d = efflux_dossier_load (demo, &error);
+  g_autoptr(GArray) seen = g_array_new (FALSE, FALSE, sizeof (double));
+  g_autoptr(EffluxFigure) figure = NULL;
+  g_autoptr(GCancellable) cancellable = g_cancellable_new ();
+
+  g_assert_no_error (error);
+  figure = efflux_figure_new_full (d, NULL, record_progress, seen, &error);
+  g_assert_no_error (error);
+  g_assert_nonnull (figure);
+  g_assert_cmpuint (seen->len, >=, 2);
+  for (guint i = 1; i < seen->len; i++)
+    g_assert_cmpfloat (g_array_index (seen, double, i), >=, g_array_index (seen, double, i - 1));
+  g_assert_cmpfloat (g_array_index (seen, double, 0), >=, 0.0);
+  g_assert_cmpfloat (g_array_index (seen, double, seen->len - 1), ==, 1.0);
+  g_clear_pointer (&figure, efflux_figure_free);
+
+  g_cancellable_cancel (cancellable);
+  figure = efflux_figure_new_full (d, cancellable, NULL, NULL, &error);
+  g_assert_null (figure);
+  g_assert_true (g_error_matches (error, EFFLUX_ERROR, EFFLUX_ERROR_CANCELLED)
+                 || g_error_matches (error, G_IO_ERROR, G_IO_ERROR_CANCELLED));
+}
+
 int
 main (int    argc,
       char **argv)
@@ -801,5 +840,6 @@ main (int    argc,
   g_test_add_func ("/ui/figure-dialog/sizes-and-names", test_sizes_and_names);
   g_test_add_func ("/ui/figure-dialog/errors-and-cancel", test_errors_and_cancel);
   g_test_add_func ("/ui/figure-dialog/window-action", test_window_action);
+  g_test_add_func ("/ui/figure-dialog/figure-new-full", test_figure_new_full);
   return g_test_run ();
 }
