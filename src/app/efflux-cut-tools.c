@@ -156,7 +156,7 @@ cut_job_free (gpointer data)
 {
   CutJob *j = data;
 
-  for (gsize i = 0; i < j->n; i++)
+  for (gsize i = 0; j->refs != NULL && i < j->n; i++)
     cube_ref_unref (j->refs[i]);
   g_free (j->refs);
   g_strfreev (j->ids);
