@@ -1040,10 +1040,14 @@ alloc_voxels (gsize bytes)
 
   if (bytes < 4 * huge)
     return g_try_malloc (bytes);
+  /* whole huge pages: a partial last one would be 4 KiB pages, up to 512 faults more */
+  if (bytes > G_MAXSIZE - huge)
+    return NULL;
+  bytes = (bytes + huge - 1) / huge * huge;
   if (posix_memalign (&p, huge, bytes) != 0)
     return NULL;
 #ifdef MADV_HUGEPAGE
-  madvise (p, bytes - bytes % huge, MADV_HUGEPAGE);
+  madvise (p, bytes, MADV_HUGEPAGE);
 #endif
   return p;
 }

@@ -694,41 +694,50 @@ query_rows (gsize    begin,
 
   if (job->order == EFFLUX_MOMENT_0)
     {
+      /* Each remainder lies within one or two cache lines of the pixel's spectrum; a second
+       * line is fetched only when the remainder reaches into it (when the spectra are 64-byte
+       * aligned, the usual case, that is known once for all pixels). */
+      const gboolean aligned = ((guintptr) cube->data % 64) == 0 && (nchan * sizeof (float)) % 64 == 0;
+      const gsize line = 64 / sizeof (float);
+      const gboolean a_two = a.lo < a.hi && (!aligned || a.lo / line != (a.hi - 1) / line);
+      const gboolean z_two = z.lo < z.hi && (!aligned || z.lo / line != (z.hi - 1) / line);
+      const gsize ahead_n = PREFETCH_AHEAD;
+
       for (gsize pix = pix_begin; pix < pix_end; pix++)
         {
           const float *spec = cube->data + pix * nchan;
           double ra = 0.0, rz = 0.0;
           gint64 ca = 0, cz = 0, n;
 
-          if (pix + PREFETCH_AHEAD < pix_end)
+          if (pix + ahead_n < pix_end)
             {
-              const float *ahead = spec + PREFETCH_AHEAD * nchan;
+              const float *ahead = spec + ahead_n * nchan;
 
-              /* first and last line of each remainder (they span at most two); an empty
-               * remainder is not fetched at all */
               if (a.lo < a.hi)
-                {
-                  __builtin_prefetch (ahead + a.lo);
-                  __builtin_prefetch (ahead + a.hi - 1);
-                }
+                __builtin_prefetch (ahead + a.lo);
+              if (a_two)
+                __builtin_prefetch (ahead + a.hi - 1);
               if (z.lo < z.hi)
-                {
-                  __builtin_prefetch (ahead + z.lo);
-                  __builtin_prefetch (ahead + z.hi - 1);
-                }
+                __builtin_prefetch (ahead + z.lo);
+              if (z_two)
+                __builtin_prefetch (ahead + z.hi - 1);
             }
           for (gsize k = a.lo; k < a.hi; k++)
-            if (isfinite (spec[k]))
-              {
-                ra += spec[k];
-                ca++;
-              }
+            {
+              float t = spec[k];
+              gboolean f = isfinite (t);
+
+              ra += f ? t : 0.0f;
+              ca += f;
+            }
           for (gsize k = z.lo; k < z.hi; k++)
-            if (isfinite (spec[k]))
-              {
-                rz += spec[k];
-                cz++;
-              }
+            {
+              float t = spec[k];
+              gboolean f = isfinite (t);
+
+              rz += f ? t : 0.0f;
+              cz += f;
+            }
           n = ((gint64) zn[pix] + nz_sign * cz) - ((gint64) an[pix] + na_sign * ca);
           if (n <= 0)
             job->out[pix] = NAN;
