@@ -102,6 +102,11 @@ struct _EffluxSkyView
   GskRenderNode      *wing_node;
   GMenu              *wing_menu;
   GSimpleActionGroup *layer_actions;
+
+  /* workers that read the borrowed cube: a new cube or clear waits for them */
+  GMutex              workers_lock;
+  GCond               workers_cond;
+  int                 workers;
 };
 
 enum {
@@ -446,6 +451,35 @@ static void start_peak (EffluxSkyView *self);
 static void start_context (EffluxSkyView *self);
 static void start_wings (EffluxSkyView *self);
 
+/* The cube is borrowed until the next set_map or clear: workers reading it are counted, and
+ * those two wait until none is left (they are cancelled first; a peak map of a large cube may
+ * take a second to end). */
+static void
+worker_started (EffluxSkyView *self)
+{
+  g_mutex_lock (&self->workers_lock);
+  self->workers++;
+  g_mutex_unlock (&self->workers_lock);
+}
+
+static void
+worker_ended (EffluxSkyView *self)
+{
+  g_mutex_lock (&self->workers_lock);
+  self->workers--;
+  g_cond_broadcast (&self->workers_cond);
+  g_mutex_unlock (&self->workers_lock);
+}
+
+static void
+wait_for_workers (EffluxSkyView *self)
+{
+  g_mutex_lock (&self->workers_lock);
+  while (self->workers > 0)
+    g_cond_wait (&self->workers_cond, &self->workers_lock);
+  g_mutex_unlock (&self->workers_lock);
+}
+
 static void
 cancel_and_clear (GCancellable **cancellable)
 {
@@ -516,17 +550,17 @@ peak_thread (GTask        *task,
   GError *error = NULL;
 
   if (out == NULL)
-    {
-      g_task_return_new_error (task, EFFLUX_ERROR, EFFLUX_ERROR_IO, "out of memory for the peak map");
-      return;
-    }
-  if (!efflux_moment_map (cube, EFFLUX_MOMENT_PEAK, cube->velocity[0],
-                          cube->velocity[cube->nchan - 1], 0.0, out, &error))
-    {
-      g_task_return_error (task, error);
-      return;
-    }
-  g_task_return_pointer (task, g_steal_pointer (&out), g_free);
+    error = g_error_new (EFFLUX_ERROR, EFFLUX_ERROR_IO, "out of memory for the peak map");
+  else if (!g_cancellable_is_cancelled (cancellable))
+    efflux_moment_map (cube, EFFLUX_MOMENT_PEAK, cube->velocity[0],
+                       cube->velocity[cube->nchan - 1], 0.0, out, &error);
+  worker_ended (EFFLUX_SKY_VIEW (source));
+  if (error != NULL)
+    g_task_return_error (task, error);
+  else if (g_task_return_error_if_cancelled (task))
+    return;
+  else
+    g_task_return_pointer (task, g_steal_pointer (&out), g_free);
 }
 
 static void
@@ -570,6 +604,7 @@ start_peak (EffluxSkyView *self)
   task = g_task_new (self, self->peak_cancel, peak_done, NULL);
   g_task_set_task_data (task, job, g_free);
   g_task_set_return_on_cancel (task, FALSE);
+  worker_started (self);
   g_task_run_in_thread (task, peak_thread);
 }
 
@@ -603,24 +638,19 @@ context_thread (GTask        *task,
   g_autoptr(EffluxCube) image = efflux_image_load (job->path, 0, &error);
   g_autofree float *out = NULL;
 
-  if (image == NULL)
+  if (image != NULL)
     {
-      g_task_return_error (task, error);
-      return;
+      out = g_try_new (float, job->grid->nx * job->grid->ny);
+      if (out == NULL)
+        error = g_error_new (EFFLUX_ERROR, EFFLUX_ERROR_IO, "%s: out of memory", job->path);
+      else if (efflux_reproject_image (image, job->grid, out, NULL, cancellable, &error))
+        job->unit = g_strdup (image->bunit);
     }
-  out = g_try_new (float, job->grid->nx * job->grid->ny);
-  if (out == NULL)
-    {
-      g_task_return_new_error (task, EFFLUX_ERROR, EFFLUX_ERROR_IO, "%s: out of memory", job->path);
-      return;
-    }
-  if (!efflux_reproject_image (image, job->grid, out, NULL, cancellable, &error))
-    {
-      g_task_return_error (task, error);
-      return;
-    }
-  job->unit = g_strdup (image->bunit);
-  g_task_return_pointer (task, g_steal_pointer (&out), g_free);
+  worker_ended (EFFLUX_SKY_VIEW (source));
+  if (error != NULL)
+    g_task_return_error (task, error);
+  else
+    g_task_return_pointer (task, g_steal_pointer (&out), g_free);
 }
 
 static void
@@ -693,6 +723,7 @@ start_context (EffluxSkyView *self)
   job->grid = self->cube;
   task = g_task_new (self, self->context_cancel, context_done, NULL);
   g_task_set_task_data (task, job, context_job_free);
+  worker_started (self);
   g_task_run_in_thread (task, context_thread);
 }
 
@@ -762,6 +793,7 @@ wing_thread (GTask        *task,
                                           wing_multiples, G_N_ELEMENTS (wing_multiples), NULL,
                                           cancellable, &error);
 
+  worker_ended (EFFLUX_SKY_VIEW (source));
   if (sets == NULL)
     g_task_return_error (task, error);
   else
@@ -907,6 +939,7 @@ start_wings (EffluxSkyView *self)
   job->document = g_object_ref (self->document);
   task = g_task_new (self, self->wing_cancel, wing_done, NULL);
   g_task_set_task_data (task, job, wing_job_free);
+  worker_started (self);
   g_task_run_in_thread (task, wing_thread);
 }
 
@@ -1065,6 +1098,9 @@ layers_new_map (EffluxSkyView *self,
     return;
   cancel_and_clear (&self->peak_cancel);
   g_clear_pointer (&self->peak, g_free);
+  cancel_and_clear (&self->context_cancel);
+  cancel_and_clear (&self->wing_cancel);
+  wait_for_workers (self);
   if (self->shows == SHOW_PEAK)
     start_peak (self);
   if (self->context_path != NULL)
@@ -1081,6 +1117,7 @@ layers_clear (EffluxSkyView *self)
   cancel_and_clear (&self->peak_cancel);
   cancel_and_clear (&self->context_cancel);
   cancel_and_clear (&self->wing_cancel);
+  wait_for_workers (self);
   g_clear_pointer (&self->peak, g_free);
   g_clear_pointer (&self->context, g_free);
   g_clear_pointer (&self->wing_sets, g_ptr_array_unref);
@@ -3043,6 +3080,8 @@ efflux_sky_view_finalize (GObject *object)
   g_free (self->wing_legend);
   g_clear_object (&self->wing_menu);
   g_clear_object (&self->layer_actions);
+  g_mutex_clear (&self->workers_lock);
+  g_cond_clear (&self->workers_cond);
   g_ptr_array_unref (self->other_lobes);
   g_free (self->other_author);
   if (self->document != NULL)
@@ -3185,6 +3224,8 @@ efflux_sky_view_init (EffluxSkyView *self)
   self->hover_vertex = -1;
   self->new_kind = EFFLUX_LOBE_BLUE;
   self->other_lobes = g_ptr_array_new_with_free_func (other_lobe_free);
+  g_mutex_init (&self->workers_lock);
+  g_cond_init (&self->workers_cond);
   for (int i = 0; i < 3; i++)
     self->layer_limits[i] = 99.5;
 
