@@ -7,7 +7,8 @@
  *   2. a PV cut of 500 samples x 1024 channels, width 5 pixels (target <= 10 ms);
  *   3. the whole `efflux-cli moment` process on a ~110 MB cube file, against maps_numpy.py doing
  *      the same with astropy.io.fits + numpy (imports included), and against `cat FILE >
- *      /dev/null` from the page cache (targets: <= half the numpy script, <= 3x cat).
+ *      /dev/null` from the page cache (targets: <= half the numpy script, <= 3x cat); 7 rounds of
+ *      the three back to back (the machine may be shared), medians, wall and CPU time.
  * Prints every figure. Needs EFFLUX_CLI, EFFLUX_PYTHON and EFFLUX_SOURCE_ROOT (tests/meson.build). */
 #include <glib.h>
 #include <glib/gstdio.h>
@@ -17,6 +18,8 @@
 #include <string.h>
 #include <time.h>
 #include <sys/mman.h>
+#include <sys/resource.h>
+#include <sys/wait.h>
 
 #include "efflux-cube.h"
 #include "efflux-fitsout.h"
@@ -132,6 +135,32 @@ run_process (const char * const *argv,
   return best;
 }
 
+static double
+children_cpu_seconds (void)
+{
+  struct rusage ru;
+
+  getrusage (RUSAGE_CHILDREN, &ru);
+  return ru.ru_utime.tv_sec + ru.ru_utime.tv_usec * 1e-6 + ru.ru_stime.tv_sec + ru.ru_stime.tv_usec * 1e-6;
+}
+
+/* One run of a process with its output thrown away: wall seconds (NAN on failure) and CPU
+ * seconds (user + system) in *cpu. */
+static double
+run_timed (const char * const *argv,
+           double             *cpu)
+{
+  double c0 = children_cpu_seconds ();
+  double wall;
+  int status;
+
+  wall = run_process (argv, 1, &status, FALSE);
+  *cpu = children_cpu_seconds () - c0;
+  return status == 0 ? wall : NAN;
+}
+
+#define ROUNDS 7
+
 int
 main (int    argc,
       char **argv)
@@ -212,8 +241,9 @@ main (int    argc,
               cmedian);
       if (order == 0)
         {
-          printf ("  target <= 5 ms: %s on the best run, %s on the median\n",
-                  best <= 5.0 ? "met" : "MISSED", median <= 5.0 ? "met" : "missed");
+          printf ("  target <= 5 ms: %s on the best run, %s on the median; goal <= 3 ms: %s on "
+                  "the median\n", best <= 5.0 ? "met" : "MISSED", median <= 5.0 ? "met" : "missed",
+                  median <= 3.0 ? "met" : "missed");
           if (best > 5.0)
             failures++;
         }
@@ -375,19 +405,46 @@ main (int    argc,
                                  "-o", out, NULL };
       const char *np_argv[] = { python, script, path, v1, v2, out_np, NULL };
 
+      double w_cat[ROUNDS], w_cli[ROUNDS], w_np[ROUNDS], c_cat[ROUNDS], c_cli[ROUNDS], c_np[ROUNDS];
+      double r_cat[ROUNDS], r_np[ROUNDS], m_cat, m_cli, m_np, mc_cat, mc_cli, mc_np, rr_cat, rr_np, b;
+
       run_process (cat_argv, 2, &status_cat, FALSE);  /* into the page cache */
-      t_cat = run_process (cat_argv, 5, &status_cat, FALSE);
-      t_cli = run_process (cli_argv, 5, &status_cli, FALSE);
-      t_np = run_process (np_argv, 3, &status_np, FALSE);
-      printf ("whole process on a %.0f MB cube file (256 x 256 x 420, moment 0 over %s..%s km/s, "
-              "best of 5/5/3):\n", st.st_size / 1e6, v1, v2);
-      printf ("  cat FILE > /dev/null (page cache): %.3f s\n", t_cat);
-      printf ("  efflux-cli moment:                 %.3f s  (%.2f x cat%s)\n", t_cli,
-              t_cli / t_cat, t_cli <= 3.0 * t_cat ? ", target <= 3x: met" : ", target <= 3x: MISSED");
-      printf ("  maps_numpy.py (astropy + numpy):   %.3f s  (efflux-cli takes %.2f of it%s)\n",
-              t_np, t_cli / t_np,
-              t_cli <= 0.5 * t_np ? ", target <= 0.5: met" : ", target <= 0.5: MISSED");
-      if (status_cli != 0 || status_np != 0 || t_cli > 3.0 * t_cat || t_cli > 0.5 * t_np)
+      status_cat = status_cli = status_np = 0;
+      for (int r = 0; r < ROUNDS; r++)
+        {
+          w_cat[r] = run_timed (cat_argv, &c_cat[r]);
+          w_cli[r] = run_timed (cli_argv, &c_cli[r]);
+          w_np[r] = run_timed (np_argv, &c_np[r]);
+          if (isnan (w_cat[r]))
+            status_cat = 1;
+          if (isnan (w_cli[r]))
+            status_cli = 1;
+          if (isnan (w_np[r]))
+            status_np = 1;
+          r_cat[r] = w_cli[r] / w_cat[r];
+          r_np[r] = w_cli[r] / w_np[r];
+        }
+      best_median (w_cat, ROUNDS, &b, &m_cat);
+      best_median (w_cli, ROUNDS, &b, &m_cli);
+      best_median (w_np, ROUNDS, &b, &m_np);
+      best_median (c_cat, ROUNDS, &b, &mc_cat);
+      best_median (c_cli, ROUNDS, &b, &mc_cli);
+      best_median (c_np, ROUNDS, &b, &mc_np);
+      best_median (r_cat, ROUNDS, &b, &rr_cat);
+      best_median (r_np, ROUNDS, &b, &rr_np);
+      t_cat = m_cat;
+      t_cli = m_cli;
+      t_np = m_np;
+      printf ("whole process on a %.0f MB cube file (256 x 256 x 420, moment 0 over %s..%s km/s), "
+              "medians of %d rounds of the three back to back:\n", st.st_size / 1e6, v1, v2, ROUNDS);
+      printf ("  cat FILE > /dev/null (page cache): %.3f s  CPU %.3f s\n", t_cat, mc_cat);
+      printf ("  efflux-cli moment:                 %.3f s  CPU %.3f s  (%.2f x cat, median of the "
+              "per-round ratios %.2f, CPU %.2f x%s)\n", t_cli, mc_cli, t_cli / t_cat, rr_cat,
+              mc_cli / mc_cat, rr_cat <= 3.0 ? ", target <= 3x: met" : ", target <= 3x: MISSED");
+      printf ("  maps_numpy.py (astropy + numpy):   %.3f s  CPU %.3f s  (efflux-cli takes %.2f of it, "
+              "per-round median %.2f%s)\n", t_np, mc_np, t_cli / t_np, rr_np,
+              rr_np <= 0.5 ? ", target <= 0.5: met" : ", target <= 0.5: MISSED");
+      if (status_cli != 0 || status_np != 0 || rr_cat > 3.0 || rr_np > 0.5)
         failures++;
     }
     /* the two maps agree */
@@ -406,6 +463,6 @@ main (int    argc,
   g_rmdir (dir);
   print_load ("at the end");
   printf ("bench-maps: %d target(s) missed or failed (in-memory targets judged on the best run, "
-          "the whole-process ones on the best of 5 / 3)\n", failures);
+          "the whole-process ones on the median of the per-round ratios)\n", failures);
   return failures == 0 ? 0 : 1;
 }

@@ -11,12 +11,13 @@ import numpy as np
 from astropy.io import fits
 
 path = sys.argv[1]
-best = None
-for _ in range(3):
+times = []
+for _ in range(5):
     t0 = time.perf_counter()
     data = fits.getdata(path, memmap=False)                 # (nchan, ny, nx), big-endian
     cube = np.ascontiguousarray(np.transpose(data, (1, 2, 0)), dtype=np.float32)  # (ny, nx, nchan)
     t = time.perf_counter() - t0
-    best = t if best is None else min(best, t)
+    times.append(t)
     del data, cube
-print("  astropy getdata + numpy transpose (load_numpy.py)  %8.3f s" % best)
+times.sort()
+print("%.4f s (median of 5; best %.4f s)" % (times[2], times[0]))
