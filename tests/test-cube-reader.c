@@ -1,0 +1,213 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* The float32 fast path of efflux_cube_load (pread on two threads, the SIMD byte-swap
+ * transpose by 4 x 4 blocks, units of 64 channels by a few rows) on shapes that exercise every
+ * edge: several units of channels and of rows, widths and channel counts that are not multiples
+ * of 4, NaN voxels, and the channel subset. The reference is the file itself: every voxel is
+ * written here as a big-endian IEEE 754 float32, as the FITS standard 4.0 defines BITPIX = -32
+ * (Pence et al. 2010, A&A 524, A42, section 5.3), with a value known from its position, and
+ * every voxel read back must be that float exactly. */
+#include "config.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+
+#include <glib.h>
+#include <glib/gstdio.h>
+
+#include "efflux-cube.h"
+
+static void
+card (GString    *h,
+      const char *text)
+{
+  char line[81];
+
+  memset (line, ' ', 80);
+  memcpy (line, text, strlen (text));
+  line[80] = '\0';
+  g_string_append (h, line);
+}
+
+/* voxel (x, y, k): a smooth value, NaN on a sparse pattern */
+static float
+voxel (gsize x,
+       gsize y,
+       gsize k,
+       gsize nx)
+{
+  gsize p = y * nx + x;
+
+  if ((p * 31 + k * 7) % 997 == 0)
+    return NAN;
+  return (float) sin (0.001 * (double) p + 0.1 * (double) k) + (float) k;
+}
+
+static void
+write_cube (const char *path,
+            gsize       nx,
+            gsize       ny,
+            gsize       nchan)
+{
+  GString *h = g_string_new (NULL);
+  g_autofree char *text = NULL;
+  g_autofree guint32 *plane = g_new (guint32, nx * ny);
+  FILE *fp;
+
+  card (h, "SIMPLE  =                    T");
+  card (h, "BITPIX  =                  -32");
+  card (h, "NAXIS   =                    3");
+  text = g_strdup_printf ("NAXIS1  = %20" G_GSIZE_FORMAT, nx);
+  card (h, text);
+  g_free (text);
+  text = g_strdup_printf ("NAXIS2  = %20" G_GSIZE_FORMAT, ny);
+  card (h, text);
+  g_free (text);
+  text = g_strdup_printf ("NAXIS3  = %20" G_GSIZE_FORMAT, nchan);
+  card (h, text);
+  card (h, "CTYPE1  = 'RA---SIN'");
+  card (h, "CRVAL1  =               52.263");
+  card (h, "CDELT1  =     -5.5555555556E-5");
+  card (h, "CRPIX1  =                 10.0");
+  card (h, "CUNIT1  = 'deg'");
+  card (h, "CTYPE2  = 'DEC--SIN'");
+  card (h, "CRVAL2  =               31.255");
+  card (h, "CDELT2  =      5.5555555556E-5");
+  card (h, "CRPIX2  =                 10.0");
+  card (h, "CUNIT2  = 'deg'");
+  card (h, "CTYPE3  = 'VRAD'");
+  card (h, "CRVAL3  =                  0.0");
+  card (h, "CDELT3  =                  0.5");
+  card (h, "CRPIX3  =                  1.0");
+  card (h, "CUNIT3  = 'km/s'");
+  card (h, "SPECSYS = 'LSRK'");
+  card (h, "BUNIT   = 'K'");
+  card (h, "END");
+  while (h->len % 2880)
+    g_string_append_c (h, ' ');
+  fp = fopen (path, "wb");
+  g_assert_nonnull (fp);
+  g_assert_cmpuint (fwrite (h->str, 1, h->len, fp), ==, h->len);
+  for (gsize k = 0; k < nchan; k++)
+    {
+      for (gsize y = 0; y < ny; y++)
+        for (gsize x = 0; x < nx; x++)
+          {
+            union { float f; guint32 u; } v;
+
+            v.f = voxel (x, y, k, nx);
+            plane[y * nx + x] = GUINT32_TO_BE (v.u);
+          }
+      g_assert_cmpuint (fwrite (plane, sizeof (guint32), nx * ny, fp), ==, nx * ny);
+    }
+  /* pad the data to a whole FITS block */
+  {
+    gsize data = nx * ny * nchan * 4;
+    char zero[2880] = { 0 };
+
+    if (data % 2880)
+      g_assert_cmpuint (fwrite (zero, 1, 2880 - data % 2880, fp), ==, 2880 - data % 2880);
+  }
+  g_string_free (h, TRUE);
+  g_assert_cmpint (fclose (fp), ==, 0);
+}
+
+static void
+check_shape (gsize nx,
+             gsize ny,
+             gsize nchan)
+{
+  g_autoptr(GError) error = NULL;
+  g_autofree char *dir = g_dir_make_tmp ("efflux-test-cube-reader-XXXXXX", &error);
+  g_autofree char *path = NULL;
+  g_autoptr(EffluxCube) cube = NULL;
+  g_autoptr(EffluxCube) sub = NULL;
+  EffluxCubeLoadOptions options = { 0 };
+  gsize bad = 0, kb = 0, ke = 0;
+
+  g_assert_no_error (error);
+  path = g_build_filename (dir, "cube.fits", NULL);
+  write_cube (path, nx, ny, nchan);
+
+  options.no_noise = TRUE;
+  cube = efflux_cube_load (path, &options, NULL, NULL, NULL, &error);
+  g_assert_no_error (error);
+  g_assert_cmpuint (cube->nx, ==, nx);
+  g_assert_cmpuint (cube->ny, ==, ny);
+  g_assert_cmpuint (cube->nchan, ==, nchan);
+  for (gsize y = 0; y < ny; y++)
+    for (gsize x = 0; x < nx; x++)
+      {
+        const float *spec = efflux_cube_spectrum (cube, x, y);
+
+        for (gsize k = 0; k < nchan; k++)
+          {
+            float want = voxel (x, y, k, nx);
+
+            if (isnan (want) ? !isnan (spec[k]) : spec[k] != want)
+              bad++;
+          }
+      }
+  g_assert_cmpuint (bad, ==, 0);
+  if (nchan < 8)
+    {
+      g_unlink (path);
+      g_rmdir (dir);
+      return;
+    }
+
+  /* channels 3 .. nchan - 2 (velocities 0.5 k km/s): the subset starts at a channel that is not
+   * a multiple of 4 and is not one either in length */
+  options.channel_subset = TRUE;
+  options.v1_kms = 1.5;
+  options.v2_kms = 0.5 * (double) (nchan - 2);
+  sub = efflux_cube_load (path, &options, NULL, NULL, NULL, &error);
+  g_assert_no_error (error);
+  g_assert_true (efflux_cube_channel_range (cube, options.v1_kms, options.v2_kms, &kb, &ke));
+  g_assert_cmpuint (kb, ==, 3);
+  g_assert_cmpuint (sub->nchan, ==, ke - kb);
+  for (gsize y = 0; y < ny; y++)
+    for (gsize x = 0; x < nx; x++)
+      {
+        const float *spec = efflux_cube_spectrum (sub, x, y);
+
+        for (gsize k = 0; k < sub->nchan; k++)
+          {
+            float want = voxel (x, y, kb + k, nx);
+
+            if (isnan (want) ? !isnan (spec[k]) : spec[k] != want)
+              bad++;
+          }
+      }
+  g_assert_cmpuint (bad, ==, 0);
+
+  g_unlink (path);
+  g_rmdir (dir);
+}
+
+static void
+test_wide_rows (void)
+{
+  /* 1030 words a row: 7 rows a unit, so 19 rows make three row blocks; 150 channels make three
+   * units of 64, the last of 22 */
+  check_shape (1030, 19, 150);
+}
+
+static void
+test_odd_sizes (void)
+{
+  /* neither the width nor the channel count a multiple of 4; one row block */
+  check_shape (37, 29, 67);
+  check_shape (5, 3, 2);
+  check_shape (1, 1, 9);
+}
+
+int
+main (int    argc,
+      char **argv)
+{
+  g_test_init (&argc, &argv, NULL);
+  g_test_add_func ("/cube-reader/wide-rows", test_wide_rows);
+  g_test_add_func ("/cube-reader/odd-sizes", test_odd_sizes);
+  return g_test_run ();
+}
