@@ -51,8 +51,11 @@ G_BEGIN_DECLS
  * the residuals give it, with its correlations (the beam's in an interferometer cube, the cut's
  * interpolation, and model mismatch correlated along the ridge, which is thereby counted too).
  * The earlier form, (J^T J)^-1 chi^2 / (n / pixels per beam - 4), overstated the noise part by
- * about 5x on uncorrelated noise and ignored the mismatch. Calibration: tests/test-shellfit-
- * coverage.c (the fraction of fits within 1 sigma of the truth over noise realisations).
+ * about 5x on uncorrelated noise and ignored the mismatch. Calibration (tests/test-shellfit-
+ * coverage.c, 180 fits of noisy synthetic shells at 30, 50 and 70 deg): 56% of the fits lie
+ * within 1 sigma of the mean of their truth's fits (68% expected: the errors are still about
+ * 1.3x small) and 39% within 1 sigma of the truth itself, the rest being the model's bias there
+ * (i 0.1 to 0.3 deg, t0 about 1%, C up to 2%), which the errors do not include.
  *
  * Bow-shock spurs (REFERENCES.md 1.10 item 3). After the fit, each offset column of a lobe where
  * more than 50% of the flux above the threshold lies in pixels the scaled model fills to less than
