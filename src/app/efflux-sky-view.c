@@ -1001,9 +1001,9 @@ fill_wing_menu (EffluxSkyView *self)
   for (guint k = 0; d != NULL && k < d->cubes->len; k++)
     {
       const EffluxDossierCube *dc = g_ptr_array_index (d->cubes, k);
-      g_autofree char *label = dc->line != NULL || dc->line_name != NULL
-        ? g_strdup_printf ("%s (%s)", dc->id, dc->line_name ? dc->line_name : "")
-        : g_strdup (dc->id);
+      const char *line = dc->line != NULL ? dc->line->name : dc->line_name;
+      g_autofree char *label = line != NULL ? g_strdup_printf ("%s (%s)", dc->id, line)
+                                            : g_strdup (dc->id);
       g_autoptr(GMenuItem) item = g_menu_item_new (label, NULL);
 
       g_menu_item_set_action_and_target (item, "layers.wing-tracer", "s", dc->id);

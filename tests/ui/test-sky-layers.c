@@ -564,6 +564,25 @@ test_wings (void)
                                NULL, NULL, &error);
   compare_sets (efflux_sky_view_get_wing_sets (view), want);
 
+  /* the menu of tracers and the actions a window's menus use */
+  {
+    g_autoptr(GMenu) menu = g_menu_new ();
+    GActionGroup *actions = efflux_sky_view_get_layer_actions (view);
+    g_autofree char *label = NULL;
+    g_autofree char *shows = NULL;
+
+    efflux_sky_view_bind_wing_menu (view, menu);
+    g_assert_cmpint (g_menu_model_get_n_items (G_MENU_MODEL (menu)), ==, 2);   /* None, co */
+    g_assert_true (g_menu_model_get_item_attribute (G_MENU_MODEL (menu), 1, "label", "s", &label));
+    g_assert_cmpstr (label, ==, "co (12CO 2-1)");
+    g_assert_true (g_action_group_has_action (actions, "context-image"));
+    g_action_group_activate_action (actions, "shows", g_variant_new_string ("peak"));
+    g_object_get (view, "shows", &shows, NULL);
+    g_assert_cmpstr (shows, ==, "peak");
+    wait_until_idle (view);
+    efflux_sky_view_bind_wing_menu (view, NULL);
+  }
+
   /* none */
   g_object_set (view, "wing-tracer", "", NULL);
   g_assert_null (efflux_sky_view_get_wing_sets (view));
