@@ -524,6 +524,10 @@ set_fits_error (GError     **error,
   if (fits_read_errmsg (line) != 0)
     g_strlcpy (detail, line, sizeof detail);
   fits_clear_errmsg ();
+  /* CFITSIO quotes a card's own bytes: keep the message on one line */
+  for (char *c = detail; *c != '\0'; c++)
+    if ((unsigned char) *c < 0x20 || (unsigned char) *c == 0x7f)
+      *c = ' ';
   g_strstrip (detail);
   g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: %s: %s%s%s", path, what, text,
                detail[0] ? " (" : "", detail[0] ? detail : "");
