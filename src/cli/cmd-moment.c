@@ -98,11 +98,9 @@ efflux_cmd_moment (int    argc,
   if (output == NULL)
     return efflux_cli_usage ("moment", "-o OUT.fits is required");
   if (!isfinite (clip_sigma) || clip_sigma < 0.0)
-    {
-      g_set_error (&error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                   "--clip-sigma %g: expected a number >= 0", clip_sigma);
-      return efflux_cli_fail (error);
-    }
+    return efflux_cli_usage ("moment", "--clip-sigma %g: expected a number >= 0", clip_sigma);
+  if (!efflux_cli_check_output ("-o", output, &status))
+    return status;
 
   load.no_noise = clip_sigma <= 0.0;
   /* read only the channels of the range (and estimate the noise of those alone) */
