@@ -46,6 +46,8 @@ efflux_cmd_shellfit (int    argc,
   g_autoptr (EffluxDossier) dossier = NULL;
   g_autoptr (EffluxShellFit) fit = NULL;
   EffluxShellfitOptions opt = { NAN, NAN, NAN };
+  g_auto (GStrv) args = g_strdupv (argv);   /* before parsing: which numbers were given */
+  const char * const numbers[] = { "--threshold-k", "--vmin-kms", NULL };
   GError *error = NULL;
   int status = EFFLUX_EXIT_OK;
 
@@ -59,6 +61,8 @@ efflux_cmd_shellfit (int    argc,
   g_option_context_set_translation_domain (context, GETTEXT_PACKAGE);
   g_option_context_add_main_entries (context, entries, NULL);
   if (!efflux_cli_parse (context, &argc, &argv, &status))
+    return status;
+  if (!efflux_cli_check_finite ("shellfit", args, numbers, &status))
     return status;
   if (rest == NULL || g_strv_length (rest) != 1)
     return efflux_cli_usage ("shellfit", "expected exactly one DOSSIER");
