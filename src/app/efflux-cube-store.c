@@ -15,6 +15,8 @@ typedef struct
 } Entry;
 
 static GMutex      store_lock;
+static GCond       store_cond; /* a read ended */
+static GHashTable *reading;    /* keys of the files being read now */
 static GHashTable *by_key;     /* key -> Entry * */
 static GHashTable *by_cube;    /* EffluxCube * -> Entry * (owns) */
 static guint       n_reads;
@@ -36,6 +38,7 @@ ensure_tables (void)
     {
       by_key = g_hash_table_new (g_str_hash, g_str_equal);
       by_cube = g_hash_table_new_full (g_direct_hash, g_direct_equal, NULL, entry_free);
+      reading = g_hash_table_new_full (g_str_hash, g_str_equal, g_free, NULL);
     }
 }
 
@@ -75,24 +78,47 @@ efflux_cube_store_load (const char                  *path,
     {
       g_mutex_lock (&store_lock);
       ensure_tables ();
-      entry = g_hash_table_lookup (by_key, key);
-      if (entry != NULL)
+      for (;;)
         {
-          entry->refs++;
-          g_mutex_unlock (&store_lock);
-          if (progress != NULL)
-            progress (1.0, progress_data);
-          return entry->cube;
+          entry = g_hash_table_lookup (by_key, key);
+          if (entry != NULL)
+            {
+              entry->refs++;
+              g_mutex_unlock (&store_lock);
+              if (progress != NULL)
+                progress (1.0, progress_data);
+              return entry->cube;
+            }
+          if (!g_hash_table_contains (reading, key))
+            break;
+          /* another thread reads this file now: wait for its cube rather than read it twice */
+          if (g_cancellable_set_error_if_cancelled (cancellable, error))
+            {
+              g_mutex_unlock (&store_lock);
+              return NULL;
+            }
+          g_cond_wait_until (&store_cond, &store_lock,
+                             g_get_monotonic_time () + 50 * G_TIME_SPAN_MILLISECOND);
         }
+      g_hash_table_add (reading, g_strdup (key));
       g_mutex_unlock (&store_lock);
     }
 
   cube = efflux_cube_load (path, options, cancellable, progress, progress_data, error);
-  if (cube == NULL)
-    return NULL;
 
   g_mutex_lock (&store_lock);
   ensure_tables ();
+  if (key != NULL)
+    {
+      /* the waiting threads take this cube, or read the file themselves if this read failed */
+      g_hash_table_remove (reading, key);
+      g_cond_broadcast (&store_cond);
+    }
+  if (cube == NULL)
+    {
+      g_mutex_unlock (&store_lock);
+      return NULL;
+    }
   n_reads++;
   entry = key != NULL ? g_hash_table_lookup (by_key, key) : NULL;
   if (entry != NULL)

@@ -13,8 +13,9 @@ G_BEGIN_DECLS
  * A cube leaves the store with its last reference. Thread-safe: workers load, the main thread
  * releases. */
 
-/* As efflux_cube_load; the cube is shared: give it back with efflux_cube_store_release. Two
- * threads asking for the same file at once may both read it; the second keeps the first's cube. */
+/* As efflux_cube_load; the cube is shared: give it back with efflux_cube_store_release. A thread
+ * asking for a file another thread is reading waits for that read (or for its own cancellable)
+ * and shares the cube; if that read fails it reads the file itself. */
 EffluxCube *efflux_cube_store_load    (const char                  *path,
                                        const EffluxCubeLoadOptions *options,
                                        GCancellable                *cancellable,

@@ -8,6 +8,7 @@
 #include <string.h>
 
 #include "efflux-cut-tools.h"
+#include "efflux-cube-store.h"
 #include "efflux-kinematics.h"
 #include "efflux-plot.h"
 
@@ -24,7 +25,7 @@ cube_ref_clear (gpointer data)
   CubeRef *r = data;
 
   g_free (r->path);
-  g_clear_pointer (&r->cube, efflux_cube_free);
+  g_clear_pointer (&r->cube, efflux_cube_store_release);
 }
 
 static void
@@ -145,6 +146,7 @@ typedef struct
   double   *ra_dec;
   gsize     n_vertices;
   double    width;
+  double   *rms_k;       /* n; the dossier's rms-k, NaN when absent */
   char     *key;
   /* results */
   EffluxPvSet *set;
@@ -162,6 +164,7 @@ cut_job_free (gpointer data)
   g_strfreev (j->ids);
   g_strfreev (j->paths);
   g_free (j->ra_dec);
+  g_free (j->rms_k);
   g_free (j->key);
   g_clear_pointer (&j->set, efflux_pv_set_free);
   g_free (j->sigma);
@@ -182,8 +185,12 @@ cut_worker (GTask        *task,
     {
       if (j->refs[i] == NULL)
         {
+          /* the window's and the document's cube when they hold it: each file is read once */
           EffluxCubeLoadOptions load = { 0 };
-          EffluxCube *cube = efflux_cube_load (j->paths[i], &load, cancellable, NULL, NULL, &error);
+          EffluxCube *cube;
+
+          load.no_noise = isfinite (j->rms_k[i]);
+          cube = efflux_cube_store_load (j->paths[i], &load, cancellable, NULL, NULL, &error);
 
           if (cube == NULL)
             {
@@ -204,7 +211,8 @@ cut_worker (GTask        *task,
     }
   j->sigma = g_new (double, j->n);
   for (gsize i = 0; i < j->n; i++)
-    j->sigma[i] = efflux_kinematics_pv_sigma (cubes[i]);
+    /* the dossier's rms-k when it gives one (as the measurement does), else the cube's estimate */
+    j->sigma[i] = isfinite (j->rms_k[i]) ? j->rms_k[i] : efflux_kinematics_pv_sigma (cubes[i]);
   g_task_return_boolean (task, TRUE);
 }
 
@@ -331,6 +339,7 @@ efflux_cut_tools_sync (EffluxCutTools *self,
   const EffluxDossierCut *cut;
   g_autoptr(GStrvBuilder) ids = g_strv_builder_new ();
   g_autoptr(GStrvBuilder) paths = g_strv_builder_new ();
+  g_autoptr(GArray) rms = g_array_new (FALSE, FALSE, sizeof (double));
   g_autoptr(GTask) task = NULL;
   g_autofree char *key = NULL;
   CutJob *j;
@@ -356,6 +365,7 @@ efflux_cut_tools_sync (EffluxCutTools *self,
       {
         g_strv_builder_add (ids, first->id);
         g_strv_builder_add (paths, first->abs_path);
+        g_array_append_val (rms, first->rms_k);
       }
     for (guint i = 0; i < d->cubes->len; i++)
       {
@@ -365,12 +375,14 @@ efflux_cut_tools_sync (EffluxCutTools *self,
           continue;
         g_strv_builder_add (ids, dc->id);
         g_strv_builder_add (paths, dc->abs_path);
+        g_array_append_val (rms, dc->rms_k);
       }
   }
   j = g_new0 (CutJob, 1);
   j->ids = g_strv_builder_end (ids);
   j->paths = g_strv_builder_end (paths);
   j->n = g_strv_length (j->paths);
+  j->rms_k = (double *) g_array_free (g_steal_pointer (&rms), FALSE);
   key = make_key (d, cut, j->paths);
   /* made already, or being made */
   if (j->n == 0 || (self->refs != NULL && self->cut_cancellable == NULL && g_strcmp0 (key, self->made_key) == 0)

@@ -113,7 +113,11 @@ save_screenshot (GtkWidget  *widget,
   g_test_message ("screenshot: %s", path);
 }
 
-/* The contours of the core for every cut of the set but `image`, checked against the view's. */
+/* The dossier's rms-k of each cube of the set (NaN when it gives none). */
+static double set_rms_k[8];
+
+/* The contours of the core for every cut of the set but `image`, checked against the view's: the
+ * noise is the dossier's rms-k when it gives one, else the cube's own estimate. */
 static void
 check_contours (EffluxCutView      *view,
                 const EffluxPvSet  *ref,
@@ -129,7 +133,7 @@ check_contours (EffluxCutView      *view,
   for (guint i = 0; i < ref->n_cubes; i++)
     {
       const EffluxPv *pv = ref->cuts[i];
-      double sigma = efflux_kinematics_pv_sigma (cubes[i]);
+      double sigma = isfinite (set_rms_k[i]) ? set_rms_k[i] : efflux_kinematics_pv_sigma (cubes[i]);
       g_autofree double *levels = efflux_contour_levels_sigma (sigma, multiples, 5, NULL);
       g_autoptr(GPtrArray) lines = NULL;
       GPtrArray *shown_lines = efflux_cut_view_get_contours (view, i);
@@ -215,6 +219,7 @@ test_tracers (void)
       const EffluxDossierCube *dc = efflux_dossier_find_cube (dossier, ids[i]);
       cubes[i] = efflux_cube_load (dc->abs_path, NULL, NULL, NULL, NULL, &error);
       g_assert_no_error (error);
+      set_rms_k[i] = dc->rms_k;
       if (dc->line != NULL && g_str_has_prefix (dc->line->name, "SiO"))
         sio = i;
     }

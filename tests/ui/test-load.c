@@ -17,6 +17,7 @@
 
 #include "efflux-application.h"
 #include "efflux-cube-store.h"
+#include "efflux-cut-tools.h"
 #include "efflux-document.h"
 #include "efflux-fitsout.h"
 #include "efflux-sky-view.h"
@@ -49,6 +50,31 @@ is_measuring (gpointer window)
 
   return document == NULL || efflux_document_is_measuring (document)
          || efflux_document_get_result (document) == NULL;
+}
+
+static EffluxCutTools *
+find_cut_tools (GtkWidget *widget)
+{
+  if (EFFLUX_IS_CUT_TOOLS (widget))
+    return EFFLUX_CUT_TOOLS (widget);
+  for (GtkWidget *child = gtk_widget_get_first_child (widget); child != NULL;
+       child = gtk_widget_get_next_sibling (child))
+    {
+      EffluxCutTools *tools = find_cut_tools (child);
+
+      if (tools != NULL)
+        return tools;
+    }
+  return NULL;
+}
+
+/* The Cut view's tracers come from the same store: wait until its cut is made too. */
+static gboolean
+is_cutting (gpointer window)
+{
+  EffluxCutTools *tools = find_cut_tools (GTK_WIDGET (window));
+
+  return tools != NULL && efflux_cut_tools_get_busy (tools);
 }
 
 /* Resident memory of this process, KiB (/proc/self/status VmRSS). */
@@ -175,6 +201,7 @@ test_load (void)
   efflux_window_open (window, demo_file);
   iterate_while (is_loading, window, 60);
   iterate_while (is_measuring, window, 120);
+  iterate_while (is_cutting, window, 120);
   g_assert_null (efflux_document_get_measure_error (efflux_window_get_document (window)));
   d = efflux_document_get_dossier (efflux_window_get_document (window));
   for (guint i = 0; i < d->cubes->len && shown_id == NULL; i++)
