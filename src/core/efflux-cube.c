@@ -181,6 +181,12 @@ efflux_cube_add_note (EffluxCube *cube,
   g_ptr_array_add (cube->notes, line);
 }
 
+/* wcslib's transformations are re-entrant once wcsset has run, except for their error records: a
+ * failed call allocates the wcsprm's error message, and two threads failing on one cube at once
+ * (the sky grid on the UI thread, a reprojection or wing-contour worker) race on it and lose one.
+ * One lock around the two calls of the whole library. */
+static GMutex wcs_call_lock;
+
 gboolean
 efflux_cube_pixel_to_icrs (const EffluxCube *cube,
                            double            x,
@@ -190,12 +196,16 @@ efflux_cube_pixel_to_icrs (const EffluxCube *cube,
 {
   double pixcrd[2], imgcrd[2], world[2], phi, theta;
   int stat = 0;
+  gboolean ok;
 
   if (cube->sky == NULL)
     return FALSE;
   pixcrd[0] = x + 1.0;
   pixcrd[1] = y + 1.0;
-  if (wcsp2s (cube->sky, 1, 2, pixcrd, imgcrd, &phi, &theta, world, &stat) != 0 || stat != 0)
+  g_mutex_lock (&wcs_call_lock);
+  ok = wcsp2s (cube->sky, 1, 2, pixcrd, imgcrd, &phi, &theta, world, &stat) == 0 && stat == 0;
+  g_mutex_unlock (&wcs_call_lock);
+  if (!ok)
     return FALSE;
   if (!isfinite (world[0]) || !isfinite (world[1]))
     return FALSE;
@@ -212,6 +222,7 @@ efflux_cube_icrs_to_pixel (const EffluxCube *cube,
 {
   double pixcrd[2], imgcrd[2], world[2], phi, theta, lon, lat;
   int stat = 0;
+  gboolean ok;
 
   if (cube->sky == NULL)
     return FALSE;
@@ -219,7 +230,10 @@ efflux_cube_icrs_to_pixel (const EffluxCube *cube,
     return FALSE;
   world[cube->sky->lng] = lon;
   world[cube->sky->lat] = lat;
-  if (wcss2p (cube->sky, 1, 2, world, &phi, &theta, imgcrd, pixcrd, &stat) != 0 || stat != 0)
+  g_mutex_lock (&wcs_call_lock);
+  ok = wcss2p (cube->sky, 1, 2, world, &phi, &theta, imgcrd, pixcrd, &stat) == 0 && stat == 0;
+  g_mutex_unlock (&wcs_call_lock);
+  if (!ok)
     return FALSE;
   if (!isfinite (pixcrd[0]) || !isfinite (pixcrd[1]))
     return FALSE;
