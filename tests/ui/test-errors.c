@@ -14,6 +14,7 @@
 
 #include <gtk/gtk.h>
 #include <glib/gstdio.h>
+#include <fcntl.h>
 #include <signal.h>
 #include <string.h>
 #include <sys/resource.h>
@@ -147,6 +148,39 @@ find_spin (GtkWidget  *widget,
   return NULL;
 }
 
+/* A cube file far larger than memory: a FITS header claiming 8192 x 8192 x 4096 float32 voxels
+ * (1 TiB) and a sparse file of that size (ftruncate: nothing is written). FALSE when the file
+ * system cannot hold so large a sparse file. */
+static gboolean
+write_huge_cube (const char *path)
+{
+  static const char *cards[] = {
+    "SIMPLE  =                    T", "BITPIX  =                  -32", "NAXIS   =                    3",
+    "NAXIS1  =                 8192", "NAXIS2  =                 8192", "NAXIS3  =                 4096",
+    "CTYPE1  = 'RA---TAN'", "CRVAL1  =                 83.8", "CRPIX1  =                 4096",
+    "CDELT1  =          -0.00005555", "CUNIT1  = 'deg'",
+    "CTYPE2  = 'DEC--TAN'", "CRVAL2  =                 -5.4", "CRPIX2  =                 4096",
+    "CDELT2  =           0.00005555", "CUNIT2  = 'deg'",
+    "CTYPE3  = 'VRAD'", "CRVAL3  =                  0.0", "CRPIX3  =                    1",
+    "CDELT3  =                  0.1", "CUNIT3  = 'km/s'", "SPECSYS = 'LSRK'", "BUNIT   = 'K'", "END",
+  };
+  g_autoptr(GString) h = g_string_new (NULL);
+  guint64 data = (guint64) 8192 * 8192 * 4096 * 4;
+  int fd;
+  gboolean ok;
+
+  for (gsize i = 0; i < G_N_ELEMENTS (cards); i++)
+    g_string_append_printf (h, "%-80s", cards[i]);
+  while (h->len % 2880 != 0)
+    g_string_append_c (h, ' ');
+  fd = g_open (path, O_WRONLY | O_CREAT | O_TRUNC, 0644);
+  g_assert_cmpint (fd, >=, 0);
+  g_assert_cmpint (write (fd, h->str, h->len), ==, (gssize) h->len);
+  ok = ftruncate (fd, (off_t) (h->len + data)) == 0;
+  close (fd);
+  return ok;
+}
+
 static void
 test_errors_keep_the_dossier (void)
 {
@@ -159,6 +193,7 @@ test_errors_keep_the_dossier (void)
   g_autofree char *junk = g_build_filename (root, "junk.fits", NULL);
   g_autofree char *bad = g_build_filename (root, "bad.efflux", NULL);
   g_autofree char *badcube = g_build_filename (root, "bad-cube.efflux", NULL);
+  g_autofree char *huge = g_build_filename (root, "huge.fits", NULL);
   g_autoptr(GFile) file = NULL;
   EffluxWindow *window;
   EffluxDocument *document;
@@ -310,6 +345,23 @@ test_errors_keep_the_dossier (void)
     /* the load failed: the dossier shown before stays the window's */
     assert_kept (window, &s);
   }
+
+  /* 6. a cube larger than memory is refused before anything is allocated: the message names the
+   * file, its NAXISn cards and the memory needed and available; the dossier stays */
+  if (write_huge_cube (huge))
+    {
+      g_autoptr(GFile) f = g_file_new_for_path (huge);
+
+      efflux_window_open (window, f);
+      wait_until_loaded (window);
+      iterate_ms (50);
+      /* "huge.fits: NAXIS1 x NAXIS2 x NAXIS3 = 8192 x 8192 x 4096: the cube needs 1024.0 GiB, ..." */
+      assert_error (window, "huge.fits: NAXIS1 x NAXIS2 x NAXIS3", "available");
+      assert_kept (window, &s);
+    }
+  else
+    g_test_message ("this file system holds no 1 TiB sparse file: the larger-than-memory case is left out");
+  g_unlink (huge);
 
   gtk_window_destroy (GTK_WINDOW (window));
   clear_snapshot (&s);
