@@ -138,6 +138,9 @@ typedef struct
   double          sum_ms;
   gint64          last_beat;    /* the 1 ms timeout's last run */
   gint64          worst_stall;  /* us */
+  guint           n_beats;
+  guint           n_long;       /* gaps over 16 ms */
+  gint64          sum_long;     /* us spent in them */
   double          cpu_main0, cpu_all0, cpu_main, cpu_all;   /* s, over the drag */
   gboolean        done;
 } Drag;
@@ -161,7 +164,17 @@ heartbeat (gpointer user_data)
   gint64 now = g_get_monotonic_time ();
 
   if (drag->last_beat != 0 && drag->t_start != 0 && !drag->done)
-    drag->worst_stall = MAX (drag->worst_stall, now - drag->last_beat - 1000);
+    {
+      gint64 gap = now - drag->last_beat - 1000;
+
+      drag->worst_stall = MAX (drag->worst_stall, gap);
+      drag->n_beats++;
+      if (gap > 16000)
+        {
+          drag->n_long++;
+          drag->sum_long += gap;
+        }
+    }
   drag->last_beat = now;
   return G_SOURCE_CONTINUE;
 }
@@ -257,6 +270,8 @@ run_drag (Drag       *drag,
   drag->worst_ms = drag->sum_ms = 0;
   drag->last_beat = 0;
   drag->worst_stall = 0;
+  drag->n_beats = drag->n_long = 0;
+  drag->sum_long = 0;
   drag->done = FALSE;
   drag->merge = efflux_document_new_merge_id ();
   beat = g_timeout_add_full (G_PRIORITY_HIGH, 1, heartbeat, drag, NULL);
@@ -272,6 +287,8 @@ run_drag (Drag       *drag,
           what, drag->frames / DRAG_SECONDS, drag->frames_with_result / DRAG_SECONDS,
           drag->worst_stall / 1e3, drag->sum_ms / MAX (drag->frames, 1), drag->worst_ms,
           drag->measured / DRAG_SECONDS);
+  printf ("  main-loop gaps over 16 ms: %u of %u (%.2f%% of the time)\n", drag->n_long, drag->n_beats,
+          100.0 * drag->sum_long / (DRAG_SECONDS * G_USEC_PER_SEC));
   /* CPU time does not depend on how many other processes share the machine: what one frame and
    * one measurement cost */
   printf ("  CPU time: UI thread %.2f ms per frame; other threads (the measurement worker, GTK's "
