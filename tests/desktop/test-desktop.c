@@ -17,6 +17,7 @@
 #include "efflux-settings.h"
 #include "efflux-sky-view.h"
 #include "efflux-window.h"
+#include "efflux-ui-test-util.h"
 
 static char *
 get_string (gpointer    object,
@@ -186,47 +187,6 @@ test_recent_manager (void)
   g_assert_cmpint (g_rmdir (dir), ==, 0);
 }
 
-static gboolean
-count_frame (GtkWidget     *widget,
-             GdkFrameClock *clock,
-             gpointer       user_data)
-{
-  (*(int *) user_data)++;
-  return G_SOURCE_CONTINUE;
-}
-
-/* Draw the window a few frames, then write it as a PNG into the build dir (for the report). */
-static void
-save_screenshot (GtkWidget  *widget,
-                 const char *name)
-{
-  g_autoptr(GdkPaintable) paintable = NULL;
-  g_autoptr(GtkSnapshot) snapshot = gtk_snapshot_new ();
-  g_autoptr(GskRenderNode) node = NULL;
-  g_autoptr(GdkTexture) texture = NULL;
-  g_autofree char *path = NULL;
-  gint64 deadline = g_get_monotonic_time () + 20 * G_USEC_PER_SEC;
-  int frames = 0;
-  guint id = gtk_widget_add_tick_callback (widget, count_frame, &frames, NULL);
-  int w, h;
-
-  while ((frames < 3 || gtk_widget_get_width (widget) == 0) && g_get_monotonic_time () < deadline)
-    g_main_context_iteration (NULL, TRUE);
-  gtk_widget_remove_tick_callback (widget, id);
-  g_assert_cmpint (frames, >=, 3);
-  w = gtk_widget_get_width (widget);
-  h = gtk_widget_get_height (widget);
-  paintable = gtk_widget_paintable_new (widget);
-  gdk_paintable_snapshot (paintable, GDK_SNAPSHOT (snapshot), w, h);
-  node = gtk_snapshot_free_to_node (g_steal_pointer (&snapshot));
-  g_assert_nonnull (node);
-  texture = gsk_renderer_render_texture (gtk_native_get_renderer (gtk_widget_get_native (widget)),
-                                         node, &GRAPHENE_RECT_INIT (0, 0, w, h));
-  path = g_build_filename (g_getenv ("G_TEST_BUILDDIR"), name, NULL);
-  g_assert_true (gdk_texture_save_to_png (texture, path));
-  g_test_message ("screenshot: %s", path);
-}
-
 static void
 test_help_pages (void)
 {
@@ -263,7 +223,8 @@ test_help_pages (void)
     }
   g_assert_null (efflux_help_window_get_text (EFFLUX_HELP_WINDOW (help), "no-such-page"));
   efflux_help_window_show_page (EFFLUX_HELP_WINDOW (help), "quantities");
-  save_screenshot (help, "screenshot-help-quantities.png");
+  efflux_ui_test_wait_for_frames (help, 3);
+  efflux_ui_test_save_screenshot (help, "screenshot-help-quantities.png");
   gtk_window_destroy (GTK_WINDOW (help));
 }
 

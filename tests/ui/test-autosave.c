@@ -30,6 +30,7 @@
 #include "efflux-dossier.h"
 #include "efflux-recovery.h"
 #include "efflux-window.h"
+#include "efflux-ui-test-util.h"
 
 #define EDIT_GROUP "Autosave test"
 #define EDIT_MS 100
@@ -95,33 +96,6 @@ run_child (const char *path)
 }
 
 /* ---- helpers ---- */
-
-static gboolean
-wake (gpointer data)
-{
-  *(gboolean *) data = TRUE;
-  return G_SOURCE_REMOVE;
-}
-
-static void
-iterate_ms (guint ms)
-{
-  gboolean done = FALSE;
-
-  g_timeout_add (ms, wake, &done);
-  while (!done)
-    g_main_context_iteration (NULL, TRUE);
-}
-
-static void
-wait_until_loaded (EffluxWindow *window)
-{
-  gint64 deadline = g_get_monotonic_time () + 60 * G_USEC_PER_SEC;
-
-  while (efflux_window_is_loading (window) && g_get_monotonic_time () < deadline)
-    iterate_ms (20);
-  g_assert_false (efflux_window_is_loading (window));
-}
 
 static GtkWidget *
 find_dialog (GtkWindow *parent)
@@ -301,7 +275,7 @@ test_crash_and_recover (void)
     gtk_window_present (GTK_WINDOW (window));
     efflux_window_open (window, file);
     /* the dossier is the window's (and the offer made) once its cube is read */
-    wait_until_loaded (window);
+    efflux_ui_test_wait_until_loaded_in_steps (window);
     document = efflux_window_get_document (window);
     g_assert_nonnull (document);
     assert_state (efflux_document_get_dossier (document), -1);
@@ -335,14 +309,14 @@ test_crash_and_recover (void)
     g_assert_false (efflux_document_get_modified (document));
     deadline = g_get_monotonic_time () + 5 * G_USEC_PER_SEC;
     while (g_file_test (recovery, G_FILE_TEST_EXISTS) && g_get_monotonic_time () < deadline)
-      iterate_ms (20);
+      efflux_ui_test_iterate_ms (20);
     g_assert_false (g_file_test (recovery, G_FILE_TEST_EXISTS));
     /* Redo: modified again, and autosaved again within 2 s */
     g_assert_true (efflux_document_redo (document));
     assert_state (efflux_document_get_dossier (document), j);
     deadline = g_get_monotonic_time () + BEHIND_US;
     while (!g_file_test (recovery, G_FILE_TEST_EXISTS) && g_get_monotonic_time () < deadline)
-      iterate_ms (20);
+      efflux_ui_test_iterate_ms (20);
     g_assert_true (g_file_test (recovery, G_FILE_TEST_EXISTS));
     {
       g_autoptr(EffluxDossier) again = efflux_recovery_load (path, &error);
@@ -355,7 +329,7 @@ test_crash_and_recover (void)
     g_assert_no_error (error);
     deadline = g_get_monotonic_time () + 5 * G_USEC_PER_SEC;
     while (g_file_test (recovery, G_FILE_TEST_EXISTS) && g_get_monotonic_time () < deadline)
-      iterate_ms (20);
+      efflux_ui_test_iterate_ms (20);
     g_assert_false (g_file_test (recovery, G_FILE_TEST_EXISTS));
     {
       g_autoptr(EffluxDossier) saved = efflux_dossier_load (path, &error);
@@ -409,7 +383,7 @@ test_discard_and_later (void)
     gtk_window_present (GTK_WINDOW (window));
     efflux_window_open (window, file);
     /* the dossier is the window's (and the offer made) once its cube is read */
-    wait_until_loaded (window);
+    efflux_ui_test_wait_until_loaded_in_steps (window);
     document = efflux_window_get_document (window);
     dialog = find_dialog (GTK_WINDOW (window));
     g_assert_nonnull (dialog);
@@ -419,12 +393,12 @@ test_discard_and_later (void)
     g_assert_nonnull (strstr (efflux_window_get_error (window), recovery));
     g_assert_true (efflux_document_set_lobe_velocity (document, "blue", -12.0, 3.2, 0, &error));
     g_assert_no_error (error);
-    iterate_ms (EFFLUX_AUTOSAVE_DELAY_MS + 1000);
+    efflux_ui_test_iterate_ms (EFFLUX_AUTOSAVE_DELAY_MS + 1000);
     g_assert_true (g_file_get_contents (recovery, &now_text, NULL, NULL));
     g_assert_cmpstr (now_text, ==, kept_text);
     /* undo back to the saved state: the kept file still stays */
     g_assert_true (efflux_document_undo (document));
-    iterate_ms (300);
+    efflux_ui_test_iterate_ms (300);
     g_assert_true (g_file_test (recovery, G_FILE_TEST_EXISTS));
     gtk_window_destroy (GTK_WINDOW (window));
     g_assert_true (g_file_test (recovery, G_FILE_TEST_EXISTS));
@@ -439,7 +413,7 @@ test_discard_and_later (void)
     gtk_window_present (GTK_WINDOW (window));
     efflux_window_open (window, file);
     /* the dossier is the window's (and the offer made) once its cube is read */
-    wait_until_loaded (window);
+    efflux_ui_test_wait_until_loaded_in_steps (window);
     document = efflux_window_get_document (window);
     dialog = find_dialog (GTK_WINDOW (window));
     g_assert_nonnull (dialog);
@@ -455,7 +429,7 @@ test_discard_and_later (void)
       gint64 deadline = g_get_monotonic_time () + BEHIND_US;
 
       while (!g_file_test (recovery, G_FILE_TEST_EXISTS) && g_get_monotonic_time () < deadline)
-        iterate_ms (20);
+        efflux_ui_test_iterate_ms (20);
     }
     g_assert_true (g_file_test (recovery, G_FILE_TEST_EXISTS));
     gtk_window_destroy (GTK_WINDOW (window));
@@ -506,7 +480,7 @@ test_save_as (void)
   g_assert_no_error (error);
   deadline = g_get_monotonic_time () + BEHIND_US;
   while (!g_file_test (recovery, G_FILE_TEST_EXISTS) && g_get_monotonic_time () < deadline)
-    iterate_ms (20);
+    efflux_ui_test_iterate_ms (20);
   g_assert_true (g_file_test (recovery, G_FILE_TEST_EXISTS));
 
   g_assert_true (efflux_document_save_as (document, target, &error));
@@ -533,7 +507,7 @@ test_save_as (void)
   /* the old dossier's recovery file goes: its edits are saved (elsewhere) */
   deadline = g_get_monotonic_time () + 5 * G_USEC_PER_SEC;
   while (g_file_test (recovery, G_FILE_TEST_EXISTS) && g_get_monotonic_time () < deadline)
-    iterate_ms (20);
+    efflux_ui_test_iterate_ms (20);
   g_assert_false (g_file_test (recovery, G_FILE_TEST_EXISTS));
   /* undo both edits: the demo's own cubes, named from the new place */
   g_assert_true (efflux_document_undo (document));

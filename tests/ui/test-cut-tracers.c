@@ -30,16 +30,7 @@
 #include "efflux-shellfit.h"
 #include "efflux-synth.h"
 #include "efflux-window.h"
-
-static void
-wait_until_loaded (EffluxWindow *window)
-{
-  gint64 deadline = g_get_monotonic_time () + 60 * G_USEC_PER_SEC;
-
-  while (efflux_window_is_loading (window) && g_get_monotonic_time () < deadline)
-    g_main_context_iteration (NULL, TRUE);
-  g_assert_false (efflux_window_is_loading (window));
-}
+#include "efflux-ui-test-util.h"
 
 static EffluxCutTools *
 find_tools (EffluxWindow *window)
@@ -66,51 +57,6 @@ wait_for_tools (EffluxCutTools *tools,
          && g_get_monotonic_time () < deadline)
     g_main_context_iteration (NULL, TRUE);
   g_assert_false (efflux_cut_tools_get_busy (tools));
-}
-
-static gboolean
-count_frame (GtkWidget     *widget,
-             GdkFrameClock *clock,
-             gpointer       user_data)
-{
-  (*(int *) user_data)++;
-  return G_SOURCE_CONTINUE;
-}
-
-static void
-wait_for_frames (GtkWidget *widget,
-                 int        n)
-{
-  int frames = 0;
-  gint64 deadline = g_get_monotonic_time () + 20 * G_USEC_PER_SEC;
-  guint id = gtk_widget_add_tick_callback (widget, count_frame, &frames, NULL);
-
-  while ((frames < n || gtk_widget_get_width (widget) == 0) && g_get_monotonic_time () < deadline)
-    g_main_context_iteration (NULL, TRUE);
-  gtk_widget_remove_tick_callback (widget, id);
-  g_assert_cmpint (frames, >=, n);
-}
-
-static void
-save_screenshot (GtkWidget  *widget,
-                 const char *name)
-{
-  g_autoptr(GdkPaintable) paintable = gtk_widget_paintable_new (widget);
-  g_autoptr(GtkSnapshot) snapshot = gtk_snapshot_new ();
-  g_autoptr(GskRenderNode) node = NULL;
-  g_autoptr(GdkTexture) texture = NULL;
-  g_autofree char *path = NULL;
-  int w = gtk_widget_get_width (widget);
-  int h = gtk_widget_get_height (widget);
-
-  gdk_paintable_snapshot (paintable, GDK_SNAPSHOT (snapshot), w, h);
-  node = gtk_snapshot_free_to_node (g_steal_pointer (&snapshot));
-  g_assert_nonnull (node);
-  texture = gsk_renderer_render_texture (gtk_native_get_renderer (gtk_widget_get_native (widget)),
-                                         node, &GRAPHENE_RECT_INIT (0, 0, w, h));
-  path = g_build_filename (g_getenv ("G_TEST_BUILDDIR"), name, NULL);
-  g_assert_true (gdk_texture_save_to_png (texture, path));
-  g_test_message ("screenshot: %s", path);
 }
 
 /* The dossier's rms-k of each cube of the set (NaN when it gives none). */
@@ -197,7 +143,7 @@ test_tracers (void)
   gtk_window_set_default_size (GTK_WINDOW (window), 1366, 740);
   gtk_window_present (GTK_WINDOW (window));
   efflux_window_open (window, file);
-  wait_until_loaded (window);
+  efflux_ui_test_wait_until_loaded (window);
   view = EFFLUX_CUT_VIEW (efflux_window_get_cut_view (window));
   tools = find_tools (window);
   wait_for_tools (tools, view, TRUE);
@@ -235,14 +181,14 @@ test_tracers (void)
 
   /* the cut's cube (12CO) is the image; 13CO and SiO are contours */
   check_contours (view, ref, cubes, 0);
-  wait_for_frames (GTK_WIDGET (view), 2);
-  save_screenshot (GTK_WIDGET (view), "cut-tracers-co.png");
+  efflux_ui_test_wait_for_frames (GTK_WIDGET (view), 2);
+  efflux_ui_test_save_screenshot (GTK_WIDGET (view), "cut-tracers-co.png");
 
   /* SiO as the image: the CO tracers are the contours now */
   g_assert_true (gtk_widget_activate_action (GTK_WIDGET (tools), "cut.image", "s", ids[sio]));
   check_contours (view, ref, cubes, sio);
-  wait_for_frames (GTK_WIDGET (view), 2);
-  save_screenshot (GTK_WIDGET (view), "cut-tracers-sio.png");
+  efflux_ui_test_wait_for_frames (GTK_WIDGET (view), 2);
+  efflux_ui_test_save_screenshot (GTK_WIDGET (view), "cut-tracers-sio.png");
 
   for (guint i = 0; i < n; i++)
     efflux_cube_free (cubes[i]);
@@ -260,20 +206,6 @@ test_tracers (void)
   "[Lobe red]\nkind=red\nshape=shell\nmass-msun=2e-5\nlength-au=3000\nvmin-kms=1\nvmax-kms=20\n" \
   "shell-c-per-arcsec=1.2\n\n" \
   "[Cube co]\nline=12CO 2-1\nrms-k=0.05\n"
-
-static void
-remove_dir (const char *dir)
-{
-  g_autoptr(GDir) d = g_dir_open (dir, 0, NULL);
-  const char *name;
-
-  while (d != NULL && (name = g_dir_read_name (d)) != NULL)
-    {
-      g_autofree char *p = g_build_filename (dir, name, NULL);
-      g_assert_cmpint (g_remove (p), ==, 0);
-    }
-  g_assert_cmpint (g_rmdir (dir), ==, 0);
-}
 
 static void
 test_shells (void)
@@ -310,7 +242,7 @@ test_shells (void)
   gtk_window_set_default_size (GTK_WINDOW (window), 1366, 740);
   gtk_window_present (GTK_WINDOW (window));
   efflux_window_open (window, file);
-  wait_until_loaded (window);
+  efflux_ui_test_wait_until_loaded (window);
   view = EFFLUX_CUT_VIEW (efflux_window_get_cut_view (window));
   tools = find_tools (window);
   wait_for_tools (tools, view, TRUE);
@@ -352,8 +284,8 @@ test_shells (void)
           g_assert_cmpfloat (sv[i], ==, vel[i]);
         }
     }
-  wait_for_frames (GTK_WIDGET (view), 2);
-  save_screenshot (GTK_WIDGET (view), "cut-shells.png");
+  efflux_ui_test_wait_for_frames (GTK_WIDGET (view), 2);
+  efflux_ui_test_save_screenshot (GTK_WIDGET (view), "cut-shells.png");
 
   /* one click: [Source] takes the fitted inclination and its range */
   g_assert_true (gtk_widget_activate_action (GTK_WIDGET (tools), "cut.use-inclination", NULL));
@@ -377,7 +309,7 @@ test_shells (void)
   g_assert_false (efflux_document_get_modified (document));
 
   gtk_window_destroy (GTK_WINDOW (window));
-  remove_dir (dir);
+  efflux_ui_test_remove_flat_dir (dir);
 }
 
 int

@@ -22,18 +22,7 @@
 #include "efflux-measure.h"
 #include "efflux-sky-view.h"
 #include "efflux-window.h"
-
-static void
-iterate_until (gboolean (*done) (gpointer),
-               gpointer   data,
-               double     seconds)
-{
-  gint64 deadline = g_get_monotonic_time () + (gint64) (seconds * G_USEC_PER_SEC);
-
-  while (!done (data) && g_get_monotonic_time () < deadline)
-    g_main_context_iteration (NULL, TRUE);
-  g_assert_true (done (data));
-}
+#include "efflux-ui-test-util.h"
 
 static gboolean
 window_ready (gpointer data)
@@ -46,52 +35,14 @@ window_ready (gpointer data)
          && !efflux_document_is_measuring (document);
 }
 
-static gboolean
-count_frame (GtkWidget     *widget,
-             GdkFrameClock *clock,
-             gpointer       user_data)
-{
-  (*(int *) user_data)++;
-  return G_SOURCE_CONTINUE;
-}
-
+/* A screenshot of a widget that has a size (asserted). */
 static void
-wait_for_frames (GtkWidget *widget,
-                 int        n)
+save_sized_screenshot (GtkWidget  *widget,
+                       const char *name)
 {
-  int frames = 0;
-  gint64 deadline = g_get_monotonic_time () + 20 * G_USEC_PER_SEC;
-  guint id = gtk_widget_add_tick_callback (widget, count_frame, &frames, NULL);
-
-  while ((frames < n || gtk_widget_get_width (widget) == 0) && g_get_monotonic_time () < deadline)
-    g_main_context_iteration (NULL, TRUE);
-  gtk_widget_remove_tick_callback (widget, id);
-  g_assert_cmpint (frames, >=, n);
-}
-
-static void
-save_screenshot (GtkWidget  *widget,
-                 const char *name)
-{
-  g_autoptr(GdkPaintable) paintable = gtk_widget_paintable_new (widget);
-  GtkSnapshot *snapshot = gtk_snapshot_new ();
-  g_autoptr(GskRenderNode) node = NULL;
-  g_autoptr(GdkTexture) texture = NULL;
-  g_autofree char *path = NULL;
-  GskRenderer *renderer;
-  int w = gtk_widget_get_width (widget);
-  int h = gtk_widget_get_height (widget);
-
-  g_assert_cmpint (w, >, 0);
-  g_assert_cmpint (h, >, 0);
-  gdk_paintable_snapshot (paintable, GDK_SNAPSHOT (snapshot), w, h);
-  node = gtk_snapshot_free_to_node (snapshot);
-  g_assert_nonnull (node);
-  renderer = gtk_native_get_renderer (gtk_widget_get_native (widget));
-  texture = gsk_renderer_render_texture (renderer, node, &GRAPHENE_RECT_INIT (0, 0, w, h));
-  path = g_build_filename (g_getenv ("G_TEST_BUILDDIR"), name, NULL);
-  g_assert_true (gdk_texture_save_to_png (texture, path));
-  g_test_message ("screenshot: %s", path);
+  g_assert_cmpint (gtk_widget_get_width (widget), >, 0);
+  g_assert_cmpint (gtk_widget_get_height (widget), >, 0);
+  efflux_ui_test_save_screenshot (widget, name);
 }
 
 /* The ledger's row for a lobe (the table's own copy of the numbers). */
@@ -196,8 +147,8 @@ test_edit_demo (void)
   gtk_window_set_default_size (GTK_WINDOW (window), 1366, 740);
   gtk_window_present (GTK_WINDOW (window));
   efflux_window_open (window, file);
-  iterate_until (window_ready, window, 60);
-  wait_for_frames (GTK_WIDGET (window), 3);
+  efflux_ui_test_iterate_until (window_ready, window, 60);
+  efflux_ui_test_wait_for_frames (GTK_WIDGET (window), 3);
 
   document = efflux_window_get_document (window);
   sky = efflux_window_get_sky_view (window);
@@ -252,8 +203,8 @@ test_edit_demo (void)
   g_assert_cmpstr (efflux_sky_view_get_selected_lobe (sky), ==, "red-1");
   g_assert_true (efflux_document_get_modified (document));
   g_assert_true (title_has_mark (window));
-  wait_for_frames (GTK_WIDGET (window), 2);
-  save_screenshot (GTK_WIDGET (sky), "screenshot-editing-sky.png");
+  efflux_ui_test_wait_for_frames (GTK_WIDGET (window), 2);
+  save_sized_screenshot (GTK_WIDGET (sky), "screenshot-editing-sky.png");
 
   /* undo and redo it */
   n_undo = efflux_document_get_n_undo (document);
@@ -272,7 +223,7 @@ test_edit_demo (void)
   g_assert_true (title_has_mark (window));
 
   /* the new lobe in the ledger: the core's numbers for the same lobe */
-  iterate_until (window_ready, window, 60);
+  efflux_ui_test_iterate_until (window_ready, window, 60);
   expected = core_row (document, "red-1", &keep);
   shown = ledger_row (window, "red-1");
   g_assert_nonnull (shown);
@@ -338,7 +289,7 @@ test_edit_demo (void)
   }
 
   /* drag the blue lobe's range in the Spectrum view; the ledger follows to the core's value */
-  iterate_until (window_ready, window, 60);
+  efflux_ui_test_iterate_until (window_ready, window, 60);
   mass_before = ledger_row (window, "blue")->mass_msun;
   spectrum = efflux_window_get_spectrum_view (window);
   n_undo = efflux_document_get_n_undo (document);
@@ -349,15 +300,15 @@ test_edit_demo (void)
   lobe = efflux_dossier_find_lobe (d, "blue");
   g_assert_cmpfloat (lobe->v1_kms, ==, -10.0);
   g_assert_cmpfloat (lobe->v2_kms, ==, 2.0);
-  iterate_until (window_ready, window, 60);
+  efflux_ui_test_iterate_until (window_ready, window, 60);
   shown = ledger_row (window, "blue");
   g_assert_cmpfloat (shown->mass_msun, <, mass_before);
   expected = core_row (document, "blue", &keep);
   assert_rows_equal (shown, expected);
   g_clear_pointer (&keep, efflux_measure_result_free);
-  wait_for_frames (GTK_WIDGET (window), 2);
-  save_screenshot (spectrum, "screenshot-editing-spectrum.png");
-  save_screenshot (efflux_window_get_ledger (window), "screenshot-editing-ledger.png");
+  efflux_ui_test_wait_for_frames (GTK_WIDGET (window), 2);
+  save_sized_screenshot (spectrum, "screenshot-editing-spectrum.png");
+  save_sized_screenshot (efflux_window_get_ledger (window), "screenshot-editing-ledger.png");
 
   /* the Assumptions sheet: a refused value keeps the core's message beside it */
   {
@@ -375,13 +326,13 @@ test_edit_demo (void)
     g_assert_cmpstr (efflux_assumptions_get_message (sheet, "distance-pc"), ==, "");
     g_assert_cmpfloat (efflux_document_get_dossier (document)->distance_pc, ==, 400.0);
     g_assert_cmpuint (efflux_document_get_n_undo (document), ==, n_undo + 1);
-    iterate_until (window_ready, window, 60);
+    efflux_ui_test_iterate_until (window_ready, window, 60);
     expected = core_row (document, "red", &keep);
     assert_rows_equal (ledger_row (window, "red"), expected);
     g_clear_pointer (&keep, efflux_measure_result_free);
-    wait_for_frames (GTK_WIDGET (window), 3);
-    save_screenshot (GTK_WIDGET (sheet), "screenshot-editing-assumptions.png");
-    save_screenshot (GTK_WIDGET (window), "screenshot-editing-window.png");
+    efflux_ui_test_wait_for_frames (GTK_WIDGET (window), 3);
+    save_sized_screenshot (GTK_WIDGET (sheet), "screenshot-editing-assumptions.png");
+    save_sized_screenshot (GTK_WIDGET (window), "screenshot-editing-window.png");
   }
 
   /* a modified dossier asks before the window closes: the window stays */

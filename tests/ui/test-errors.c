@@ -24,6 +24,8 @@
 #include "efflux-document.h"
 #include "efflux-dossier.h"
 #include "efflux-window.h"
+#include "efflux-ui-test-util.h"
+#include "efflux-test-util.h"
 
 typedef struct
 {
@@ -91,61 +93,6 @@ assert_error (EffluxWindow *window,
   if (piece2 != NULL)
     g_assert_nonnull (strstr (msg, piece2));
   g_assert_true (gtk_widget_get_visible (efflux_window_get_banner (window)));
-}
-
-static gboolean
-wake (gpointer data)
-{
-  *(gboolean *) data = TRUE;
-  return G_SOURCE_REMOVE;
-}
-
-static void
-iterate_ms (guint ms)
-{
-  gboolean done = FALSE;
-
-  g_timeout_add (ms, wake, &done);
-  while (!done)
-    g_main_context_iteration (NULL, TRUE);
-}
-
-static void
-wait_until_loaded (EffluxWindow *window)
-{
-  gint64 deadline = g_get_monotonic_time () + 60 * G_USEC_PER_SEC;
-
-  while (efflux_window_is_loading (window) && g_get_monotonic_time () < deadline)
-    iterate_ms (20);
-  g_assert_false (efflux_window_is_loading (window));
-}
-
-static guint
-count_entries (const char *dir)
-{
-  g_autoptr(GDir) d = g_dir_open (dir, 0, NULL);
-  guint n = 0;
-
-  while (d != NULL && g_dir_read_name (d) != NULL)
-    n++;
-  return n;
-}
-
-static GtkWidget *
-find_spin (GtkWidget  *widget,
-           const char *tooltip)
-{
-  if (GTK_IS_SPIN_BUTTON (widget) && g_strcmp0 (gtk_widget_get_tooltip_text (widget), tooltip) == 0)
-    return widget;
-  for (GtkWidget *child = gtk_widget_get_first_child (widget); child != NULL;
-       child = gtk_widget_get_next_sibling (child))
-    {
-      GtkWidget *found = find_spin (child, tooltip);
-
-      if (found != NULL)
-        return found;
-    }
-  return NULL;
 }
 
 /* A cube file far larger than memory: a FITS header claiming 8192 x 8192 x 4096 float32 voxels
@@ -216,7 +163,7 @@ test_errors_keep_the_dossier (void)
   gtk_window_present (GTK_WINDOW (window));
   file = g_file_new_for_path (path);
   efflux_window_open (window, file);
-  wait_until_loaded (window);
+  efflux_ui_test_wait_until_loaded_in_steps (window);
   document = efflux_window_get_document (window);
   g_assert_nonnull (document);
   g_assert_null (efflux_window_get_error (window));
@@ -231,8 +178,8 @@ test_errors_keep_the_dossier (void)
     g_autoptr(GFile) f = g_file_new_for_path (junk);
 
     efflux_window_open (window, f);
-    wait_until_loaded (window);
-    iterate_ms (50);
+    efflux_ui_test_wait_until_loaded_in_steps (window);
+    efflux_ui_test_iterate_ms (50);
     assert_error (window, "junk.fits", NULL);
     assert_kept (window, &s);
   }
@@ -250,7 +197,7 @@ test_errors_keep_the_dossier (void)
     broken = g_strjoin ("velocity-kms=-4", parts[0], parts[1], NULL);
     g_assert_true (g_file_set_contents (bad, broken, -1, &error));
     efflux_window_open (window, f);
-    iterate_ms (50);
+    efflux_ui_test_iterate_ms (50);
     /* "bad.efflux: [Lobe blue] velocity-kms: expected two numbers 'V1;V2', got '-4'" */
     assert_error (window, "bad.efflux: [Lobe blue] velocity-kms", "-4");
     assert_kept (window, &s);
@@ -260,7 +207,7 @@ test_errors_keep_the_dossier (void)
   g_assert_cmpint (g_rename (work, moved), ==, 0);
   g_assert_true (g_file_set_contents (work, "a plain file where the folder was\n", -1, &error));
   gtk_widget_activate_action (GTK_WIDGET (window), "win.save", NULL);
-  iterate_ms (50);
+  efflux_ui_test_iterate_ms (50);
   assert_error (window, path, NULL);
   assert_kept (window, &s);
   g_assert_no_errno (g_unlink (work));
@@ -282,13 +229,13 @@ test_errors_keep_the_dossier (void)
     gtk_widget_activate_action (GTK_WIDGET (window), "win.save", NULL);
     g_assert_cmpint (setrlimit (RLIMIT_FSIZE, &old_limit), ==, 0);
     signal (SIGXFSZ, old_handler);
-    iterate_ms (50);
+    efflux_ui_test_iterate_ms (50);
     assert_error (window, path, NULL);
     assert_kept (window, &s);
     g_assert_true (g_file_get_contents (path, &after, NULL, NULL));
     g_assert_cmpstr (after, ==, before);
     /* no temporary file left beside it */
-    g_assert_cmpuint (count_entries (work), ==, 1);
+    g_assert_cmpuint (efflux_test_count_entries (work), ==, 1);
   }
   /* and a read-only folder, where its mode counts */
   if (geteuid () != 0)
@@ -299,7 +246,7 @@ test_errors_keep_the_dossier (void)
       g_assert_true (g_file_get_contents (path, &before, NULL, NULL));
       g_assert_no_errno (g_chmod (work, 0555));
       gtk_widget_activate_action (GTK_WIDGET (window), "win.save", NULL);
-      iterate_ms (50);
+      efflux_ui_test_iterate_ms (50);
       assert_error (window, path, NULL);
       assert_kept (window, &s);
       g_assert_no_errno (g_chmod (work, 0755));
@@ -309,20 +256,21 @@ test_errors_keep_the_dossier (void)
 
   /* 4. an edit the core refuses: an empty velocity range typed into the lobe bar */
   {
-    GtkWidget *v1 = find_spin (GTK_WIDGET (window), "Lowest channel-centre velocity of the lobe (km/s, LSRK)");
+    GtkWidget *v1 = efflux_ui_test_find_widget_with_tooltip (GTK_WIDGET (window), GTK_TYPE_SPIN_BUTTON,
+                                                             "Lowest channel-centre velocity of the lobe (km/s, LSRK)");
     const EffluxDossierLobe *blue = efflux_dossier_find_lobe (efflux_document_get_dossier (document), "blue");
 
     g_assert_nonnull (v1);
     efflux_sky_view_select_lobe (efflux_window_get_sky_view (window), "blue");
-    iterate_ms (50);
+    efflux_ui_test_iterate_ms (50);
     gtk_spin_button_set_value (GTK_SPIN_BUTTON (v1), blue->v2_kms);
-    iterate_ms (50);
+    efflux_ui_test_iterate_ms (50);
     /* "copy.efflux: [Lobe blue] velocity-kms: the range 3.2;3.2 is empty" */
     assert_error (window, "[Lobe blue] velocity-kms", "empty");
     assert_kept (window, &s);
     /* the next edit that goes through closes that message (and is one command) */
     gtk_spin_button_set_value (GTK_SPIN_BUTTON (v1), -13.25);
-    iterate_ms (50);
+    efflux_ui_test_iterate_ms (50);
     g_assert_null (efflux_window_get_error (window));
     g_assert_cmpuint (efflux_document_get_n_undo (document), ==, s.n_undo + 1);
     g_assert_true (efflux_document_undo (document));
@@ -339,8 +287,8 @@ test_errors_keep_the_dossier (void)
     g_assert_true (efflux_dossier_save (d, badcube, &error));
     g_assert_no_error (error);
     efflux_window_open (window, f);
-    wait_until_loaded (window);
-    iterate_ms (50);
+    efflux_ui_test_wait_until_loaded_in_steps (window);
+    efflux_ui_test_iterate_ms (50);
     assert_error (window, "junk.fits", NULL);
     /* the load failed: the dossier shown before stays the window's */
     assert_kept (window, &s);
@@ -353,8 +301,8 @@ test_errors_keep_the_dossier (void)
       g_autoptr(GFile) f = g_file_new_for_path (huge);
 
       efflux_window_open (window, f);
-      wait_until_loaded (window);
-      iterate_ms (50);
+      efflux_ui_test_wait_until_loaded_in_steps (window);
+      efflux_ui_test_iterate_ms (50);
       /* "huge.fits: NAXIS1 x NAXIS2 x NAXIS3 = 8192 x 8192 x 4096: the cube needs 1024.0 GiB, ..." */
       assert_error (window, "huge.fits: NAXIS1 x NAXIS2 x NAXIS3", "available");
       assert_kept (window, &s);

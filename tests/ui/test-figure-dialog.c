@@ -35,18 +35,9 @@
 #include "efflux-figure-dialog.h"
 #include "efflux-sky-view.h"
 #include "efflux-window.h"
+#include "efflux-ui-test-util.h"
 
 #define MM_PT (72.0 / 25.4)
-
-static void
-wait_until_loaded (EffluxWindow *window)
-{
-  gint64 deadline = g_get_monotonic_time () + 60 * G_USEC_PER_SEC;
-
-  while (efflux_window_is_loading (window) && g_get_monotonic_time () < deadline)
-    g_main_context_iteration (NULL, TRUE);
-  g_assert_false (efflux_window_is_loading (window));
-}
 
 static EffluxWindow *
 open_demo (void)
@@ -60,7 +51,7 @@ open_demo (void)
   window = efflux_window_new (NULL);
   gtk_window_present (GTK_WINDOW (window));
   efflux_window_open (window, file);
-  wait_until_loaded (window);
+  efflux_ui_test_wait_until_loaded (window);
   g_assert_nonnull (efflux_window_get_document (window));
   return window;
 }
@@ -196,21 +187,6 @@ png_size (const char *path,
   cairo_surface_destroy (s);
 }
 
-static void
-remove_tree (const char *dir)
-{
-  g_autoptr(GDir) d = g_dir_open (dir, 0, NULL);
-  const char *name;
-
-  while (d != NULL && (name = g_dir_read_name (d)) != NULL)
-    {
-      g_autofree char *p = g_build_filename (dir, name, NULL);
-
-      g_assert_cmpint (g_remove (p), ==, 0);
-    }
-  g_assert_cmpint (g_rmdir (dir), ==, 0);
-}
-
 static guint
 count_entries (const char *dir)
 {
@@ -304,7 +280,7 @@ test_png_matches_cli (void)
   g_assert_nonnull (strstr (caption_ch, "6 channel maps"));
 
   close_all (window, dialog);
-  remove_tree (dir);
+  efflux_ui_test_remove_flat_dir (dir);
 }
 
 /* The edited dossier with absolute cube paths, so that it can be read from another directory. */
@@ -380,7 +356,7 @@ test_unsaved_edit (void)
   }
 
   close_all (window, dialog);
-  remove_tree (dir);
+  efflux_ui_test_remove_flat_dir (dir);
 }
 
 /* Path operators in the inflated content streams of a PDF written by Cairo (binary data: memmem,
@@ -549,7 +525,7 @@ test_vector_formats (void)
   g_assert_nonnull (strstr (efflux_figure_dialog_get_caption (dialog), "axis"));
 
   close_all (window, dialog);
-  remove_tree (dir);
+  efflux_ui_test_remove_flat_dir (dir);
 }
 
 /* Channel maps over a chosen velocity range: the panels spread over every channel in it. */
@@ -599,7 +575,7 @@ test_channel_range (void)
   g_assert_false (o.channel_v1_kms < o.channel_v2_kms);
 
   close_all (window, dialog);
-  remove_tree (dir);
+  efflux_ui_test_remove_flat_dir (dir);
 }
 
 static void
@@ -700,47 +676,18 @@ test_errors_and_cancel (void)
   gtk_window_destroy (GTK_WINDOW (window));
   while (g_main_context_iteration (NULL, FALSE))
     ;
-  remove_tree (dir);
+  efflux_ui_test_remove_flat_dir (dir);
 }
 
-static gboolean
-count_frame (GtkWidget     *widget,
-             GdkFrameClock *clock,
-             gpointer       user_data)
-{
-  (*(int *) user_data)++;
-  return G_SOURCE_CONTINUE;
-}
-
-/* A picture of the dialog in the build directory, for the eye (and the help). */
+/* A picture of the dialog in the build directory, for the eye (and the help): a few frames, the
+ * dialog mapped. */
 static void
-save_screenshot (GtkWidget  *widget,
-                 const char *name)
+save_mapped_screenshot (GtkWidget  *widget,
+                        const char *name)
 {
-  g_autoptr(GdkPaintable) paintable = NULL;
-  g_autoptr(GtkSnapshot) snapshot = gtk_snapshot_new ();
-  g_autoptr(GskRenderNode) node = NULL;
-  g_autoptr(GdkTexture) texture = NULL;
-  g_autofree char *path = NULL;
-  gint64 deadline = g_get_monotonic_time () + 20 * G_USEC_PER_SEC;
-  int frames = 0, w, h;
-  guint id = gtk_widget_add_tick_callback (widget, count_frame, &frames, NULL);
-
-  while ((frames < 3 || gtk_widget_get_width (widget) == 0) && g_get_monotonic_time () < deadline)
-    g_main_context_iteration (NULL, TRUE);
-  gtk_widget_remove_tick_callback (widget, id);
+  efflux_ui_test_run_frames (widget, 3, TRUE);
   g_assert_true (gtk_widget_get_mapped (widget));
-  w = gtk_widget_get_width (widget);
-  h = gtk_widget_get_height (widget);
-  paintable = gtk_widget_paintable_new (widget);
-  gdk_paintable_snapshot (paintable, GDK_SNAPSHOT (snapshot), w, h);
-  node = gtk_snapshot_free_to_node (g_steal_pointer (&snapshot));
-  g_assert_nonnull (node);
-  texture = gsk_renderer_render_texture (gtk_native_get_renderer (gtk_widget_get_native (widget)), node,
-                                         &GRAPHENE_RECT_INIT (0, 0, w, h));
-  path = g_build_filename (g_getenv ("G_TEST_BUILDDIR"), name, NULL);
-  g_assert_true (gdk_texture_save_to_png (texture, path));
-  g_test_message ("screenshot: %s", path);
+  efflux_ui_test_save_screenshot (widget, name);
 }
 
 /* win.export-figure (the dossier menu's Export Figure…, Ctrl+Shift+E) opens the dialog. */
@@ -787,7 +734,7 @@ test_window_action (void)
   g_assert_nonnull (found);
   g_assert_true (gtk_window_get_modal (found));
   g_assert_true (gtk_window_get_transient_for (found) == GTK_WINDOW (window));
-  save_screenshot (GTK_WIDGET (found), "figure-dialog.png");
+  save_mapped_screenshot (GTK_WIDGET (found), "figure-dialog.png");
   close_all (window, EFFLUX_FIGURE_DIALOG (found));
 }
 

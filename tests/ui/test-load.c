@@ -22,20 +22,11 @@
 #include "efflux-fitsout.h"
 #include "efflux-sky-view.h"
 #include "efflux-window.h"
+#include "efflux-ui-test-util.h"
 
 #define BIG_NX 256
 #define BIG_NY 256
 #define BIG_NCHAN 800        /* 256 x 256 x 800 float32 = 200 MiB */
-
-static void
-iterate_while (gboolean (*cond) (gpointer), gpointer data, double seconds)
-{
-  gint64 deadline = g_get_monotonic_time () + (gint64) (seconds * G_USEC_PER_SEC);
-
-  while (cond (data) && g_get_monotonic_time () < deadline)
-    g_main_context_iteration (NULL, TRUE);
-  g_assert_false (cond (data));
-}
 
 static gboolean
 is_loading (gpointer window)
@@ -52,27 +43,12 @@ is_measuring (gpointer window)
          || efflux_document_get_result (document) == NULL;
 }
 
-static EffluxCutTools *
-find_cut_tools (GtkWidget *widget)
-{
-  if (EFFLUX_IS_CUT_TOOLS (widget))
-    return EFFLUX_CUT_TOOLS (widget);
-  for (GtkWidget *child = gtk_widget_get_first_child (widget); child != NULL;
-       child = gtk_widget_get_next_sibling (child))
-    {
-      EffluxCutTools *tools = find_cut_tools (child);
-
-      if (tools != NULL)
-        return tools;
-    }
-  return NULL;
-}
-
 /* The Cut view's tracers come from the same store: wait until its cut is made too. */
 static gboolean
 is_cutting (gpointer window)
 {
-  EffluxCutTools *tools = find_cut_tools (GTK_WIDGET (window));
+  EffluxCutTools *tools = EFFLUX_CUT_TOOLS (efflux_ui_test_find_widget (GTK_WIDGET (window),
+                                                                     EFFLUX_TYPE_CUT_TOOLS));
 
   return tools != NULL && efflux_cut_tools_get_busy (tools);
 }
@@ -88,22 +64,6 @@ rss_kib (void)
   p = strstr (status, "VmRSS:");
   g_assert_nonnull (p);
   return g_ascii_strtoull (p + 6, NULL, 10);
-}
-
-static GtkProgressBar *
-find_progress_bar (GtkWidget *widget)
-{
-  if (GTK_IS_PROGRESS_BAR (widget))
-    return GTK_PROGRESS_BAR (widget);
-  for (GtkWidget *child = gtk_widget_get_first_child (widget); child != NULL;
-       child = gtk_widget_get_next_sibling (child))
-    {
-      GtkProgressBar *bar = find_progress_bar (child);
-
-      if (bar != NULL)
-        return bar;
-    }
-  return NULL;
 }
 
 typedef struct
@@ -150,7 +110,8 @@ open_and_cancel (EffluxWindow *window,
                  guint64      *peak_kib)
 {
   g_autoptr(GFile) file = g_file_new_for_path (path);
-  GtkProgressBar *bar = find_progress_bar (GTK_WIDGET (window));
+  GtkProgressBar *bar = GTK_PROGRESS_BAR (efflux_ui_test_find_widget (GTK_WIDGET (window),
+                                                                     GTK_TYPE_PROGRESS_BAR));
   gint64 deadline = g_get_monotonic_time () + 60 * G_USEC_PER_SEC;
   double fraction;
 
@@ -169,7 +130,7 @@ open_and_cancel (EffluxWindow *window,
   g_assert_true (efflux_window_is_loading (window));
   fraction = gtk_progress_bar_get_fraction (bar);
   g_assert_true (gtk_widget_activate_action (GTK_WIDGET (window), "win.cancel", NULL));
-  iterate_while (is_loading, window, 60);
+  efflux_ui_test_iterate_while (is_loading, window, 60);
   g_assert_cmpstr (efflux_window_get_status (window), ==, "Loading cancelled.");
   return fraction;
 }
@@ -199,9 +160,9 @@ test_load (void)
   demo_file = g_file_new_for_path (demo);
   reads = efflux_cube_store_reads ();
   efflux_window_open (window, demo_file);
-  iterate_while (is_loading, window, 60);
-  iterate_while (is_measuring, window, 120);
-  iterate_while (is_cutting, window, 120);
+  efflux_ui_test_iterate_while (is_loading, window, 60);
+  efflux_ui_test_iterate_while (is_measuring, window, 120);
+  efflux_ui_test_iterate_while (is_cutting, window, 120);
   g_assert_null (efflux_document_get_measure_error (efflux_window_get_document (window)));
   d = efflux_document_get_dossier (efflux_window_get_document (window));
   for (guint i = 0; i < d->cubes->len && shown_id == NULL; i++)
@@ -282,7 +243,7 @@ test_load (void)
     g_autoptr(GFile) file = g_file_new_for_path (cut);
 
     efflux_window_open (window, file);
-    iterate_while (is_loading, window, 60);
+    efflux_ui_test_iterate_while (is_loading, window, 60);
   }
   g_assert_nonnull (efflux_window_get_error (window));
   g_assert_nonnull (strstr (efflux_window_get_error (window), "cut.fits"));

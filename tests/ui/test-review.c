@@ -31,6 +31,7 @@
 #include "efflux-sample.h"
 #include "efflux-sky-view.h"
 #include "efflux-window.h"
+#include "efflux-ui-test-util.h"
 
 #define REST_12CO21 230.538e9
 #define RA0 83.8
@@ -48,81 +49,13 @@ typedef struct
 } Fixture;
 
 static void
-iterate (void)
-{
-  if (!g_main_context_iteration (NULL, FALSE))
-    g_usleep (2000);
-}
-
-static void
-spin (double seconds)
-{
-  gint64 end = g_get_monotonic_time () + (gint64) (seconds * G_USEC_PER_SEC);
-
-  while (g_get_monotonic_time () < end)
-    iterate ();
-}
-
-static void
-wait_loaded (EffluxWindow *window)
-{
-  gint64 deadline = g_get_monotonic_time () + 60 * G_USEC_PER_SEC;
-
-  while (efflux_window_is_loading (window) && g_get_monotonic_time () < deadline)
-    iterate ();
-  g_assert_false (efflux_window_is_loading (window));
-}
-
-static void
 wait_compared (EffluxReviewSheet *sheet)
 {
   gint64 deadline = g_get_monotonic_time () + 60 * G_USEC_PER_SEC;
 
   while (efflux_review_sheet_is_busy (sheet) && g_get_monotonic_time () < deadline)
-    iterate ();
+    efflux_ui_test_iterate ();
   g_assert_false (efflux_review_sheet_is_busy (sheet));
-}
-
-static gboolean
-count_frame (GtkWidget     *widget,
-             GdkFrameClock *clock,
-             gpointer       user_data)
-{
-  (*(int *) user_data)++;
-  return G_SOURCE_CONTINUE;
-}
-
-/* Draw a few frames, then save the window as a PNG into the build directory (for a look). */
-static void
-save_screenshot (GtkWidget  *widget,
-                 const char *name)
-{
-  g_autoptr(GdkPaintable) paintable = NULL;
-  g_autoptr(GtkSnapshot) snapshot = NULL;
-  g_autoptr(GskRenderNode) node = NULL;
-  g_autoptr(GdkTexture) texture = NULL;
-  g_autofree char *path = NULL;
-  gint64 deadline = g_get_monotonic_time () + 20 * G_USEC_PER_SEC;
-  int frames = 0;
-  guint id = gtk_widget_add_tick_callback (widget, count_frame, &frames, NULL);
-  int w, h;
-
-  while (frames < 4 && g_get_monotonic_time () < deadline)
-    g_main_context_iteration (NULL, TRUE);
-  gtk_widget_remove_tick_callback (widget, id);
-  g_assert_cmpint (frames, >=, 4);
-  w = gtk_widget_get_width (widget);
-  h = gtk_widget_get_height (widget);
-  paintable = gtk_widget_paintable_new (widget);
-  snapshot = gtk_snapshot_new ();
-  gdk_paintable_snapshot (paintable, GDK_SNAPSHOT (snapshot), w, h);
-  node = gtk_snapshot_free_to_node (g_steal_pointer (&snapshot));
-  g_assert_nonnull (node);
-  texture = gsk_renderer_render_texture (gtk_native_get_renderer (gtk_widget_get_native (widget)),
-                                         node, &GRAPHENE_RECT_INIT (0, 0, w, h));
-  path = g_build_filename (g_getenv ("G_TEST_BUILDDIR"), name, NULL);
-  g_assert_true (gdk_texture_save_to_png (texture, path));
-  g_test_message ("screenshot: %s", path);
 }
 
 /* "ra,dec;..." of the pixel square whose pixel centres x0..x1, y0..y1 (inclusive) are inside. */
@@ -242,18 +175,6 @@ fixture_tear_down (Fixture      *f,
   efflux_cube_free (f->cube);
 }
 
-/* The widgets of a type inside widget, depth first (the rows' dropdowns and entries in order). */
-static void
-collect (GtkWidget *widget,
-         GType      type,
-         GPtrArray *found)
-{
-  if (G_TYPE_CHECK_INSTANCE_TYPE (widget, type))
-    g_ptr_array_add (found, widget);
-  for (GtkWidget *c = gtk_widget_get_first_child (widget); c != NULL; c = gtk_widget_get_next_sibling (c))
-    collect (c, type, found);
-}
-
 static char *
 note_value (EffluxDocument *document,
             const char     *key)
@@ -270,7 +191,7 @@ open_window (const char *path)
   gtk_window_set_default_size (GTK_WINDOW (window), 1300, 720);
   gtk_window_present (GTK_WINDOW (window));
   efflux_window_open (window, file);
-  wait_loaded (window);
+  efflux_ui_test_poll_until_loaded (window);
   g_assert_nonnull (efflux_window_get_document (window));
   return window;
 }
@@ -391,7 +312,7 @@ test_compare_and_notes (Fixture      *f,
   g_assert_cmpstr (efflux_review_sheet_get_row_note (sheet, (guint) i), ==, "");
   i = find_row (sheet, NULL, "R-far");
   g_assert_nonnull (strstr (efflux_review_sheet_get_row_text (sheet, (guint) i), "R-far: only theirs"));
-  save_screenshot (GTK_WIDGET (window), "screenshot-review.png");
+  efflux_ui_test_save_screenshot_after_frames (GTK_WIDGET (window), "screenshot-review.png", 4);
 
   /* a note: one command that writes the core's review groups into my dossier */
   efflux_review_sheet_set_reviewer (sheet, "A. Reviewer");
@@ -463,7 +384,7 @@ test_compare_and_notes (Fixture      *f,
   g_assert_true (efflux_document_save (document, NULL, &error));
   g_assert_no_error (error);
   gtk_window_destroy (GTK_WINDOW (window));
-  spin (0.1);
+  efflux_ui_test_spin (0.1);
   {
     g_autofree char *text = NULL;
 
@@ -493,8 +414,8 @@ test_compare_and_notes (Fixture      *f,
     guint n0 = efflux_document_get_n_undo (doc);
     g_autofree char *v1 = NULL, *v2 = NULL, *v3 = NULL, *v4 = NULL;
 
-    collect (GTK_WIDGET (sheet), GTK_TYPE_DROP_DOWN, dropdowns);
-    collect (GTK_WIDGET (sheet), GTK_TYPE_ENTRY, entries);
+    efflux_ui_test_collect_widgets (GTK_WIDGET (sheet), GTK_TYPE_DROP_DOWN, dropdowns);
+    efflux_ui_test_collect_widgets (GTK_WIDGET (sheet), GTK_TYPE_ENTRY, entries);
     /* blue-1 and R-far have them; my red-1 alone has none */
     g_assert_cmpuint (dropdowns->len, ==, 2);
     g_assert_cmpuint (entries->len, ==, 2);
@@ -562,33 +483,7 @@ test_compare_and_notes (Fixture      *f,
   g_assert_false (efflux_document_get_modified (efflux_window_get_document (window)));
 
   gtk_window_destroy (GTK_WINDOW (window));
-  spin (0.1);
-}
-
-static GtkDialog *
-find_dialog (void)
-{
-  g_autoptr(GList) windows = gtk_window_list_toplevels ();
-
-  for (GList *l = windows; l != NULL; l = l->next)
-    if (GTK_IS_DIALOG (l->data) && gtk_widget_get_visible (l->data))
-      return l->data;
-  return NULL;
-}
-
-static GtkEditable *
-find_entry (GtkWidget *widget)
-{
-  if (GTK_IS_ENTRY (widget))
-    return GTK_EDITABLE (widget);
-  for (GtkWidget *c = gtk_widget_get_first_child (widget); c != NULL; c = gtk_widget_get_next_sibling (c))
-    {
-      GtkEditable *e = find_entry (c);
-
-      if (e != NULL)
-        return e;
-    }
-  return NULL;
+  efflux_ui_test_spin (0.1);
 }
 
 /* No reviewer known: the first note asks for the name (default: the real name, or the user name
@@ -608,22 +503,22 @@ test_reviewer_asked_once (Fixture      *f,
   g_assert_true (efflux_review_sheet_open (sheet, f->theirs, &error));
   g_assert_no_error (error);
   wait_compared (sheet);
-  g_assert_null (find_dialog ());
+  g_assert_null (GTK_DIALOG (efflux_ui_test_find_visible_toplevel (GTK_TYPE_DIALOG)));
   /* not written yet: the name is asked */
   g_assert_false (efflux_review_sheet_set_note (sheet, "blue-1", TRUE, EFFLUX_REVIEW_AGREED, "fine", &error));
   g_assert_no_error (error);
   g_assert_false (efflux_document_get_modified (document));
-  spin (0.1);
-  dialog = find_dialog ();
+  efflux_ui_test_spin (0.1);
+  dialog = GTK_DIALOG (efflux_ui_test_find_visible_toplevel (GTK_TYPE_DIALOG));
   g_assert_nonnull (dialog);
-  entry = find_entry (GTK_WIDGET (dialog));
+  entry = GTK_EDITABLE (efflux_ui_test_find_widget (GTK_WIDGET (dialog), GTK_TYPE_ENTRY));
   g_assert_nonnull (entry);
   g_assert_cmpstr (gtk_editable_get_text (entry), ==,
                    g_strcmp0 (real, "Unknown") != 0 && *real != '\0' ? real : g_get_user_name ());
   gtk_editable_set_text (entry, "B. Checker");
   gtk_dialog_response (dialog, GTK_RESPONSE_ACCEPT);
-  spin (0.1);
-  g_assert_null (find_dialog ());
+  efflux_ui_test_spin (0.1);
+  g_assert_null (GTK_DIALOG (efflux_ui_test_find_visible_toplevel (GTK_TYPE_DIALOG)));
   {
     g_autoptr(EffluxReview) review = efflux_review_read (efflux_document_get_dossier (document), &error);
 
@@ -636,8 +531,8 @@ test_reviewer_asked_once (Fixture      *f,
   g_assert_true (efflux_review_sheet_set_note (sheet, "R-far", TRUE, EFFLUX_REVIEW_QUESTIONED,
                                                "no emission there", &error));
   g_assert_no_error (error);
-  spin (0.05);
-  g_assert_null (find_dialog ());
+  efflux_ui_test_spin (0.05);
+  g_assert_null (GTK_DIALOG (efflux_ui_test_find_visible_toplevel (GTK_TYPE_DIALOG)));
   {
     g_autoptr(EffluxReview) review = efflux_review_read (efflux_document_get_dossier (document), &error);
 
@@ -652,7 +547,7 @@ test_reviewer_asked_once (Fixture      *f,
   efflux_document_undo (document);
   g_assert_false (efflux_document_get_modified (document));
   gtk_window_destroy (GTK_WINDOW (window));
-  spin (0.1);
+  efflux_ui_test_spin (0.1);
 }
 
 int

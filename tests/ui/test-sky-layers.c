@@ -26,60 +26,10 @@
 #include "efflux-reproject.h"
 #include "efflux-sky-view.h"
 #include "efflux-wings.h"
+#include "efflux-ui-test-util.h"
 
 #define NX 40
 #define NY 30
-
-static gboolean
-count_frame (GtkWidget     *widget,
-             GdkFrameClock *clock,
-             gpointer       user_data)
-{
-  (*(int *) user_data)++;
-  return G_SOURCE_CONTINUE;
-}
-
-static void
-wait_for_frames (GtkWidget *widget,
-                 int        n)
-{
-  int frames = 0;
-  gint64 deadline = g_get_monotonic_time () + 20 * G_USEC_PER_SEC;
-  guint id = gtk_widget_add_tick_callback (widget, count_frame, &frames, NULL);
-
-  while ((frames < n || gtk_widget_get_width (widget) == 0) && g_get_monotonic_time () < deadline)
-    g_main_context_iteration (NULL, TRUE);
-  gtk_widget_remove_tick_callback (widget, id);
-  g_assert_cmpint (frames, >=, n);
-}
-
-/* The widget drawn into a texture by the window's renderer. */
-static GdkTexture *
-render (GtkWidget *widget)
-{
-  g_autoptr(GdkPaintable) paintable = gtk_widget_paintable_new (widget);
-  GtkSnapshot *snapshot = gtk_snapshot_new ();
-  g_autoptr(GskRenderNode) node = NULL;
-  int w = gtk_widget_get_width (widget);
-  int h = gtk_widget_get_height (widget);
-
-  gdk_paintable_snapshot (paintable, GDK_SNAPSHOT (snapshot), w, h);
-  node = gtk_snapshot_free_to_node (snapshot);
-  g_assert_nonnull (node);
-  return gsk_renderer_render_texture (gtk_native_get_renderer (gtk_widget_get_native (widget)),
-                                      node, &GRAPHENE_RECT_INIT (0, 0, w, h));
-}
-
-static void
-save_screenshot (GtkWidget  *widget,
-                 const char *name)
-{
-  g_autoptr(GdkTexture) texture = render (widget);
-  g_autofree char *path = g_build_filename (g_getenv ("G_TEST_BUILDDIR"), name, NULL);
-
-  g_assert_true (gdk_texture_save_to_png (texture, path));
-  g_test_message ("screenshot: %s", path);
-}
 
 typedef struct
 {
@@ -222,7 +172,7 @@ test_overlay (void)
   gtk_window_present (GTK_WINDOW (window));
   efflux_sky_view_set_map (view, cube, map, NX, NY, "K");
   g_object_set (view, "colormap", "grey", "grid", "none", NULL);
-  wait_for_frames (window, 2);
+  efflux_ui_test_wait_for_frames (window, 2);
 
   /* the overlay keeps its own copy: the dossier is freed right away */
   other = colleague_dossier (cube, squares);
@@ -230,9 +180,9 @@ test_overlay (void)
   efflux_dossier_free (other);
   g_assert_cmpstr (efflux_sky_view_get_overlay_author (view), ==, "A. Colleague");
   g_assert_cmpuint (efflux_sky_view_get_n_overlay_lobes (view), ==, 2);
-  wait_for_frames (window, 2);
+  efflux_ui_test_wait_for_frames (window, 2);
   {
-    g_autoptr(GdkTexture) texture = render (widget);
+    g_autoptr(GdkTexture) texture = efflux_ui_test_render (widget);
     Pixels p = download (texture);
     double f;
 
@@ -263,7 +213,7 @@ test_overlay (void)
     }
     g_free (p.data);
   }
-  save_screenshot (window, "screenshot-sky-overlay.png");
+  efflux_ui_test_save_screenshot (window, "screenshot-sky-overlay.png");
 
   /* without an author argument: the dossier's own */
   other = colleague_dossier (cube, squares);
@@ -275,9 +225,9 @@ test_overlay (void)
   efflux_sky_view_set_overlay (view, NULL, NULL);
   g_assert_null (efflux_sky_view_get_overlay_author (view));
   g_assert_cmpuint (efflux_sky_view_get_n_overlay_lobes (view), ==, 0);
-  wait_for_frames (window, 2);
+  efflux_ui_test_wait_for_frames (window, 2);
   {
-    g_autoptr(GdkTexture) texture = render (widget);
+    g_autoptr(GdkTexture) texture = efflux_ui_test_render (widget);
     Pixels p = download (texture);
 
     efflux_sky_view_pixel_to_widget (view, squares[0][0], squares[0][1], &ax, &ay);
@@ -338,7 +288,7 @@ test_context_and_peak (void)
   gtk_window_set_child (GTK_WINDOW (window), widget);
   gtk_window_present (GTK_WINDOW (window));
   efflux_sky_view_set_map (view, cube, map, NX, NY, "K km/s");
-  wait_for_frames (window, 2);
+  efflux_ui_test_wait_for_frames (window, 2);
 
   /* the core's reprojection of the same file */
   image = efflux_image_load (path, 0, &error);
@@ -399,8 +349,8 @@ test_context_and_peak (void)
     g_assert_cmpfloat (lo, ==, wlo);
     g_assert_cmpfloat (hi, ==, whi);
   }
-  wait_for_frames (window, 2);
-  save_screenshot (window, "screenshot-sky-context.png");
+  efflux_ui_test_wait_for_frames (window, 2);
+  efflux_ui_test_save_screenshot (window, "screenshot-sky-context.png");
 
   /* back to the integrated map: its own limits (the default 99.5 %) and values */
   g_object_set (view, "shows", "integrated", NULL);
@@ -528,11 +478,11 @@ test_wings (void)
   g_test_message ("legend: %s", efflux_sky_view_get_wing_legend (view));
   g_assert_nonnull (strstr (efflux_sky_view_get_wing_legend (view), "3, 5, 8, 13 σ"));
   g_assert_nonnull (strstr (efflux_sky_view_get_wing_legend (view), "blue-colleague"));
-  wait_for_frames (window, 2);
-  save_screenshot (window, "screenshot-sky-wings.png");
+  efflux_ui_test_wait_for_frames (window, 2);
+  efflux_ui_test_save_screenshot (window, "screenshot-sky-wings.png");
   /* drawn: the blue contour's colour (0.35, 0.65, 1.0) somewhere on the first level's line */
   {
-    g_autoptr(GdkTexture) texture = render (widget);
+    g_autoptr(GdkTexture) texture = efflux_ui_test_render (widget);
     Pixels p = download (texture);
     const EffluxPolyline *line = g_ptr_array_index (((EffluxWingSet *) g_ptr_array_index (want, 0))->lines, 0);
     int hits = 0;

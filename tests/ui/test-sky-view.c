@@ -13,54 +13,10 @@
 #include "efflux-cube.h"
 #include "efflux-skygrid.h"
 #include "efflux-sky-view.h"
+#include "efflux-ui-test-util.h"
 
 #define NX 40
 #define NY 30
-
-static gboolean
-count_frame (GtkWidget     *widget,
-             GdkFrameClock *clock,
-             gpointer       user_data)
-{
-  (*(int *) user_data)++;
-  return G_SOURCE_CONTINUE;
-}
-
-static void
-wait_for_frames (GtkWidget *widget,
-                 int        n)
-{
-  int frames = 0;
-  gint64 deadline = g_get_monotonic_time () + 20 * G_USEC_PER_SEC;
-  guint id = gtk_widget_add_tick_callback (widget, count_frame, &frames, NULL);
-
-  while ((frames < n || gtk_widget_get_width (widget) == 0) && g_get_monotonic_time () < deadline)
-    g_main_context_iteration (NULL, TRUE);
-  gtk_widget_remove_tick_callback (widget, id);
-  g_assert_cmpint (frames, >=, n);
-}
-
-static void
-save_screenshot (GtkWidget  *widget,
-                 const char *name)
-{
-  g_autoptr(GdkPaintable) paintable = gtk_widget_paintable_new (widget);
-  g_autoptr(GtkSnapshot) snapshot = gtk_snapshot_new ();
-  g_autoptr(GskRenderNode) node = NULL;
-  g_autoptr(GdkTexture) texture = NULL;
-  g_autofree char *path = NULL;
-  int w = gtk_widget_get_width (widget);
-  int h = gtk_widget_get_height (widget);
-
-  gdk_paintable_snapshot (paintable, GDK_SNAPSHOT (snapshot), w, h);
-  node = gtk_snapshot_free_to_node (g_steal_pointer (&snapshot));
-  g_assert_nonnull (node);
-  texture = gsk_renderer_render_texture (gtk_native_get_renderer (gtk_widget_get_native (widget)),
-                                         node, &GRAPHENE_RECT_INIT (0, 0, w, h));
-  path = g_build_filename (g_getenv ("G_TEST_BUILDDIR"), name, NULL);
-  g_assert_true (gdk_texture_save_to_png (texture, path));
-  g_test_message ("screenshot: %s", path);
-}
 
 static void
 notify_count (GObject    *object,
@@ -105,7 +61,7 @@ test_sky_view (void)
   /* the source 4" east and 3" north of the map centre, at 400 pc */
   efflux_skygrid_icrs_from_offsets (83.8221, -5.3911, 4.0, 3.0, &sra, &sdec);
   efflux_sky_view_set_source (view, sra, sdec, 400.0);
-  wait_for_frames (window, 3);
+  efflux_ui_test_wait_for_frames (window, 3);
 
   /* fitted: 800 / 40 = 20, 600 / 30 = 20 */
   z0 = efflux_sky_view_get_zoom (view);
@@ -201,18 +157,18 @@ test_sky_view (void)
 
   /* every colour map, stretch and grid draws */
   g_object_set (view, "colormap", "velocity", "stretch", "log", "grid", "offsets", NULL);
-  wait_for_frames (window, 2);
+  efflux_ui_test_wait_for_frames (window, 2);
   g_object_set (view, "colormap", "grey", "stretch", "sqrt", "grid", "none", NULL);
-  wait_for_frames (window, 2);
+  efflux_ui_test_wait_for_frames (window, 2);
   g_object_set (view, "colormap", "cubehelix", "stretch", "asinh", "grid", "sexagesimal", NULL);
-  wait_for_frames (window, 2);
-  save_screenshot (window, "screenshot-sky-view.png");
+  efflux_ui_test_wait_for_frames (window, 2);
+  efflux_ui_test_save_screenshot (window, "screenshot-sky-view.png");
 
   efflux_sky_view_clear (view);
   g_assert_false (efflux_sky_view_has_map (view));
   g_assert_cmpint (has_map_notes, ==, 2);
   g_assert_cmpstr (efflux_sky_view_get_readout (view), ==, "");
-  wait_for_frames (window, 1);
+  efflux_ui_test_wait_for_frames (window, 1);
   gtk_window_destroy (GTK_WINDOW (window));
 }
 

@@ -22,23 +22,9 @@
 #include "efflux-settings.h"
 #include "efflux-sources.h"
 #include "efflux-window.h"
+#include "efflux-ui-test-util.h"
 
 #define REST_12CO21 230.538e9
-
-static void
-wait_for (gboolean (*done) (gpointer),
-          gpointer  data,
-          double    seconds)
-{
-  gint64 deadline = g_get_monotonic_time () + (gint64) (seconds * G_USEC_PER_SEC);
-
-  while (!done (data) && g_get_monotonic_time () < deadline)
-    {
-      if (!g_main_context_iteration (NULL, FALSE))
-        g_usleep (2000);
-    }
-  g_assert_true (done (data));
-}
 
 static gboolean
 window_loaded (gpointer data)
@@ -50,61 +36,6 @@ static gboolean
 sources_scanned (gpointer data)
 {
   return !efflux_sources_is_scanning (data);
-}
-
-/* Spin the main loop for a while (events that may or may not come, e.g. a file monitor's). */
-static void
-spin (double seconds)
-{
-  gint64 end = g_get_monotonic_time () + (gint64) (seconds * G_USEC_PER_SEC);
-
-  while (g_get_monotonic_time () < end)
-    {
-      if (!g_main_context_iteration (NULL, FALSE))
-        g_usleep (2000);
-    }
-}
-
-static gboolean
-count_frame (GtkWidget     *widget,
-             GdkFrameClock *clock,
-             gpointer       user_data)
-{
-  (*(int *) user_data)++;
-  return G_SOURCE_CONTINUE;
-}
-
-/* Draw a few frames, then save the window as a PNG into the build directory (for a look). */
-static void
-save_screenshot (GtkWidget  *widget,
-                 const char *name)
-{
-  g_autoptr(GdkPaintable) paintable = NULL;
-  g_autoptr(GtkSnapshot) snapshot = NULL;
-  g_autoptr(GskRenderNode) node = NULL;
-  g_autoptr(GdkTexture) texture = NULL;
-  g_autofree char *path = NULL;
-  gint64 deadline = g_get_monotonic_time () + 20 * G_USEC_PER_SEC;
-  int frames = 0;
-  guint id = gtk_widget_add_tick_callback (widget, count_frame, &frames, NULL);
-  int w, h;
-
-  while (frames < 4 && g_get_monotonic_time () < deadline)
-    g_main_context_iteration (NULL, TRUE);
-  gtk_widget_remove_tick_callback (widget, id);
-  g_assert_cmpint (frames, >=, 4);
-  w = gtk_widget_get_width (widget);
-  h = gtk_widget_get_height (widget);
-  paintable = gtk_widget_paintable_new (widget);
-  snapshot = gtk_snapshot_new ();
-  gdk_paintable_snapshot (paintable, GDK_SNAPSHOT (snapshot), w, h);
-  node = gtk_snapshot_free_to_node (g_steal_pointer (&snapshot));
-  g_assert_nonnull (node);
-  texture = gsk_renderer_render_texture (gtk_native_get_renderer (gtk_widget_get_native (widget)),
-                                         node, &GRAPHENE_RECT_INIT (0, 0, w, h));
-  path = g_build_filename (g_getenv ("G_TEST_BUILDDIR"), name, NULL);
-  g_assert_true (gdk_texture_save_to_png (texture, path));
-  g_test_message ("screenshot: %s", path);
 }
 
 static void
@@ -128,47 +59,6 @@ dossier_text (const char *name,
                           "[Assumptions]\ntex-k=20\nco-abundance=1e-4\nmc-samples=0\n"
                           "[Cube co]\npath=co.fits\nline=12CO 2-1\nrms-k=0.1\n%s",
                           name, name, status);
-}
-
-static void
-remove_tree (const char *dir)
-{
-  g_autoptr(GDir) d = g_dir_open (dir, 0, NULL);
-  const char *name;
-
-  while (d != NULL && (name = g_dir_read_name (d)) != NULL)
-    {
-      g_autofree char *p = g_build_filename (dir, name, NULL);
-
-      g_assert_cmpint (g_unlink (p), ==, 0);
-    }
-  g_assert_cmpint (g_rmdir (dir), ==, 0);
-}
-
-static GtkWidget *
-find_list_box (GtkWidget *widget)
-{
-  if (GTK_IS_LIST_BOX (widget))
-    return widget;
-  for (GtkWidget *c = gtk_widget_get_first_child (widget); c != NULL; c = gtk_widget_get_next_sibling (c))
-    {
-      GtkWidget *found = find_list_box (c);
-
-      if (found != NULL)
-        return found;
-    }
-  return NULL;
-}
-
-static GtkWindow *
-find_message_dialog (void)
-{
-  g_autoptr(GList) windows = gtk_window_list_toplevels ();
-
-  for (GList *l = windows; l != NULL; l = l->next)
-    if (GTK_IS_MESSAGE_DIALOG (l->data) && gtk_widget_get_visible (l->data))
-      return l->data;
-  return NULL;
 }
 
 static char *
@@ -227,7 +117,7 @@ test_sample (void)
   /* `efflux FOLDER`: the window opens a folder as the sample */
   folder = g_file_new_for_path (dir);
   efflux_window_open (window, folder);
-  wait_for (sources_scanned, sources, 20);
+  efflux_ui_test_poll_until (sources_scanned, sources, 20);
   g_assert_cmpuint (efflux_sources_get_n_rows (sources), ==, 3);
   for (guint i = 0; i < 3; i++)
     {
@@ -264,7 +154,7 @@ test_sample (void)
   /* activating a row (the list box's own signal, as a double click or Enter gives) opens its
    * dossier in the window */
   {
-    GtkWidget *list = find_list_box (GTK_WIDGET (sources));
+    GtkWidget *list = efflux_ui_test_find_widget (GTK_WIDGET (sources), GTK_TYPE_LIST_BOX);
     GtkListBoxRow *row;
 
     g_assert_nonnull (list);
@@ -272,7 +162,7 @@ test_sample (void)
     g_assert_nonnull (row);
     g_signal_emit_by_name (list, "row-activated", row);
   }
-  wait_for (window_loaded, window, 60);
+  efflux_ui_test_poll_until (window_loaded, window, 60);
   document = efflux_window_get_document (window);
   g_assert_nonnull (document);
   g_assert_cmpstr (efflux_document_get_dossier (document)->name, ==, "Source Beta");
@@ -280,7 +170,7 @@ test_sample (void)
   g_assert_cmpuint (efflux_sources_get_n_rows (sources), ==, 3);   /* no extra row for it */
 
   efflux_sources_activate_row (sources, 0);
-  wait_for (window_loaded, window, 60);
+  efflux_ui_test_poll_until (window_loaded, window, 60);
   document = efflux_window_get_document (window);
   g_assert_cmpstr (efflux_document_get_dossier (document)->name, ==, "Source Alpha");
   {
@@ -330,31 +220,31 @@ test_sample (void)
    * file of the first stays as it was */
   g_assert_true (g_file_get_contents (efflux_sources_get_row_path (sources, 0), &on_disk_before, NULL, NULL));
   efflux_sources_activate_row (sources, 2);
-  spin (0.1);
-  dialog = find_message_dialog ();
+  efflux_ui_test_spin (0.1);
+  dialog = efflux_ui_test_find_visible_toplevel (GTK_TYPE_MESSAGE_DIALOG);
   g_assert_nonnull (dialog);
   /* nothing opened yet */
   g_assert_true (efflux_window_get_document (window) == document);
   gtk_dialog_response (GTK_DIALOG (dialog), GTK_RESPONSE_CANCEL);
-  spin (0.1);
-  g_assert_null (find_message_dialog ());
+  efflux_ui_test_spin (0.1);
+  g_assert_null (efflux_ui_test_find_visible_toplevel (GTK_TYPE_MESSAGE_DIALOG));
   g_assert_true (efflux_window_get_document (window) == document);
 
   /* save instead: the file on disk is measured now, and the list reads it so */
   efflux_sources_activate_row (sources, 2);
-  spin (0.1);
-  dialog = find_message_dialog ();
+  efflux_ui_test_spin (0.1);
+  dialog = efflux_ui_test_find_visible_toplevel (GTK_TYPE_MESSAGE_DIALOG);
   g_assert_nonnull (dialog);
   gtk_dialog_response (GTK_DIALOG (dialog), GTK_RESPONSE_ACCEPT);
-  wait_for (window_loaded, window, 60);
+  efflux_ui_test_poll_until (window_loaded, window, 60);
   document = efflux_window_get_document (window);
   g_assert_cmpstr (efflux_document_get_dossier (document)->name, ==, "Source Gamma");
   g_assert_true (g_file_get_contents (efflux_sources_get_row_path (sources, 0), &on_disk_after, NULL, NULL));
   g_assert_cmpstr (on_disk_before, !=, on_disk_after);
   g_assert_nonnull (strstr (on_disk_after, "# Source Alpha: a comment that must survive"));
   g_assert_nonnull (strstr (on_disk_after, "[Status]"));
-  spin (0.5);
-  wait_for (sources_scanned, sources, 20);
+  efflux_ui_test_spin (0.5);
+  efflux_ui_test_poll_until (sources_scanned, sources, 20);
   g_assert_cmpuint (efflux_sources_get_n_rows (sources), ==, 3);
   g_assert_true (efflux_sources_get_row_state (sources, 0, &state));
   g_assert_cmpint (state, ==, EFFLUX_SOURCE_MEASURED);
@@ -370,12 +260,12 @@ test_sample (void)
             g_usleep (5000);
         }
   }
-  wait_for (sources_scanned, sources, 20);
+  efflux_ui_test_poll_until (sources_scanned, sources, 20);
   g_assert_cmpuint (efflux_sources_get_n_rows (sources), ==, 4);
   g_assert_cmpstr (efflux_sources_get_row_name (sources, 2), ==, "Source Delta");
   g_assert_true (efflux_sources_get_row_state (sources, 2, &state));
   g_assert_cmpint (state, ==, EFFLUX_SOURCE_NOT_MEASURED);
-  save_screenshot (GTK_WIDGET (window), "screenshot-sources.png");
+  efflux_ui_test_save_screenshot_after_frames (GTK_WIDGET (window), "screenshot-sources.png", 4);
 
   /* a file opened from elsewhere gets its own row after the sample's */
   {
@@ -383,14 +273,14 @@ test_sample (void)
 
     efflux_window_open (window, cube_file);
   }
-  wait_for (window_loaded, window, 60);
+  efflux_ui_test_poll_until (window_loaded, window, 60);
   g_assert_cmpuint (efflux_sources_get_n_rows (sources), ==, 5);
   g_assert_false (efflux_sources_get_row_state (sources, 4, NULL));
   g_assert_cmpstr (efflux_sources_get_row_badge (sources, 4), ==, "");
 
   gtk_window_destroy (GTK_WINDOW (window));
-  spin (0.1);
-  remove_tree (dir);
+  efflux_ui_test_spin (0.1);
+  efflux_ui_test_remove_flat_dir (dir);
 }
 
 /* A folder that cannot be read is refused with its name, and the list stays as it was. */

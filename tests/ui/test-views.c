@@ -32,6 +32,7 @@
 #include "efflux-plot.h"
 #include "efflux-pv.h"
 #include "efflux-spectrum-view.h"
+#include "efflux-ui-test-util.h"
 
 #define NX 20
 #define NY 16
@@ -39,51 +40,6 @@
 #define PIX 0.5
 
 /* ---- helpers ---- */
-
-static gboolean
-count_frame (GtkWidget     *widget,
-             GdkFrameClock *clock,
-             gpointer       user_data)
-{
-  (*(int *) user_data)++;
-  return G_SOURCE_CONTINUE;
-}
-
-static void
-wait_for_frames (GtkWidget *widget,
-                 int        n)
-{
-  int frames = 0;
-  gint64 deadline = g_get_monotonic_time () + 20 * G_USEC_PER_SEC;
-  guint id = gtk_widget_add_tick_callback (widget, count_frame, &frames, NULL);
-
-  while ((frames < n || gtk_widget_get_width (widget) == 0) && g_get_monotonic_time () < deadline)
-    g_main_context_iteration (NULL, TRUE);
-  gtk_widget_remove_tick_callback (widget, id);
-  g_assert_cmpint (frames, >=, n);
-}
-
-static void
-save_screenshot (GtkWidget  *widget,
-                 const char *name)
-{
-  g_autoptr(GdkPaintable) paintable = gtk_widget_paintable_new (widget);
-  g_autoptr(GtkSnapshot) snapshot = gtk_snapshot_new ();
-  g_autoptr(GskRenderNode) node = NULL;
-  g_autoptr(GdkTexture) texture = NULL;
-  g_autofree char *path = NULL;
-  int w = gtk_widget_get_width (widget);
-  int h = gtk_widget_get_height (widget);
-
-  gdk_paintable_snapshot (paintable, GDK_SNAPSHOT (snapshot), w, h);
-  node = gtk_snapshot_free_to_node (g_steal_pointer (&snapshot));
-  g_assert_nonnull (node);
-  texture = gsk_renderer_render_texture (gtk_native_get_renderer (gtk_widget_get_native (widget)),
-                                         node, &GRAPHENE_RECT_INIT (0, 0, w, h));
-  path = g_build_filename (g_getenv ("G_TEST_BUILDDIR"), name, NULL);
-  g_assert_true (gdk_texture_save_to_png (texture, path));
-  g_test_message ("screenshot: %s", path);
-}
 
 static GtkWidget *
 show_in_window (GtkWidget *child,
@@ -95,7 +51,7 @@ show_in_window (GtkWidget *child,
   gtk_window_set_default_size (GTK_WINDOW (window), width, height);
   gtk_window_set_child (GTK_WINDOW (window), child);
   gtk_window_present (GTK_WINDOW (window));
-  wait_for_frames (window, 2);
+  efflux_ui_test_wait_for_frames (window, 2);
   return window;
 }
 
@@ -279,7 +235,7 @@ test_spectrum_view (void)
   efflux_spectrum_view_set_range (view, "blue-1", EFFLUX_LOBE_BLUE, -4.0, -12.0);
   efflux_spectrum_view_set_range (view, "red-1", EFFLUX_LOBE_RED, 4.0, 12.0);
   g_signal_connect (view, "range-changed", G_CALLBACK (range_changed_cb), &log);
-  wait_for_frames (window, 1);
+  efflux_ui_test_wait_for_frames (window, 1);
   efflux_spectrum_view_data_to_widget (view, -4.0, 1.0, &wx, &wy);
   {
     double tx, ty;
@@ -323,8 +279,8 @@ test_spectrum_view (void)
   g_assert_cmpfloat (log.v1, ==, 12.0);
   g_assert_cmpfloat (fabs (log.v2 - v_under), <, 1e-12);
 
-  wait_for_frames (window, 2);
-  save_screenshot (window, "screenshot-spectrum-view.png");
+  efflux_ui_test_wait_for_frames (window, 2);
+  efflux_ui_test_save_screenshot (window, "screenshot-spectrum-view.png");
   g_free (log.lobe);
   gtk_window_destroy (GTK_WINDOW (window));
 }
@@ -442,7 +398,7 @@ test_cut_view (void)
   efflux_cut_view_set_range (view, "blue-1", EFFLUX_LOBE_BLUE, -9.0, -3.0);
   g_signal_connect (view, "range-changed", G_CALLBACK (range_changed_cb), &log);
   g_signal_connect (view, "slope-changed", G_CALLBACK (slope_changed_cb), &slog);
-  wait_for_frames (window, 1);
+  efflux_ui_test_wait_for_frames (window, 1);
   efflux_cut_view_data_to_widget (view, 1.0, 9.0, &wx, &wy);
   efflux_cut_view_data_to_widget (view, 1.0, 12.0, &tx, &ty);
   ty = round (ty);
@@ -488,8 +444,8 @@ test_cut_view (void)
   g_assert_null (efflux_cut_view_get_contours (view, 1));
   efflux_cut_view_set_image (view, 0);
   g_object_set (view, "colormap", "cubehelix", "stretch", "linear", NULL);
-  wait_for_frames (window, 2);
-  save_screenshot (window, "screenshot-cut-view.png");
+  efflux_ui_test_wait_for_frames (window, 2);
+  efflux_ui_test_save_screenshot (window, "screenshot-cut-view.png");
   g_free (log.lobe);
   gtk_window_destroy (GTK_WINDOW (window));
 }
@@ -538,7 +494,7 @@ test_cut_view_thread (void)
   g_assert_cmpint (shown->cuts[0]->half_width, ==, 12);
   g_assert_cmpmem (shown->cuts[0]->data, shown->cuts[0]->n_offsets * 1000 * sizeof (float),
                    ref->cuts[0]->data, ref->cuts[0]->n_offsets * 1000 * sizeof (float));
-  wait_for_frames (window, 1);
+  efflux_ui_test_wait_for_frames (window, 1);
   gtk_window_destroy (GTK_WINDOW (window));
 }
 
@@ -602,7 +558,7 @@ test_ledger (void)
   window = show_in_window (widget, 1200, 360);
   efflux_ledger_set_result (ledger, result);
   g_assert_cmpuint (g_list_model_get_n_items (model), ==, result->rows->len);
-  wait_for_frames (window, 2);
+  efflux_ui_test_wait_for_frames (window, 2);
   for (guint i = 0; i < result->rows->len; i++)
     {
       const EffluxMeasureRow *core = g_ptr_array_index (result->rows, i);
@@ -644,7 +600,7 @@ test_ledger (void)
                      ((EffluxMeasureRow *) g_ptr_array_index (result->rows, 0))->mass_msun);
   efflux_ledger_set_result (ledger, result2);
   g_assert_cmpint (changes, ==, 0);
-  wait_for_frames (window, 2);
+  efflux_ui_test_wait_for_frames (window, 2);
   for (guint i = 0; i < result2->rows->len; i++)
     {
       const EffluxMeasureRow *core = g_ptr_array_index (result2->rows, i);
@@ -681,8 +637,8 @@ test_ledger (void)
   g_assert_cmpuint (g_list_model_get_n_items (model), ==, 0);
   efflux_ledger_set_result (ledger, result);
   g_assert_cmpuint (g_list_model_get_n_items (model), ==, result->rows->len);
-  wait_for_frames (window, 2);
-  save_screenshot (window, "screenshot-ledger.png");
+  efflux_ui_test_wait_for_frames (window, 2);
+  efflux_ui_test_save_screenshot (window, "screenshot-ledger.png");
   gtk_window_destroy (GTK_WINDOW (window));
 }
 

@@ -17,63 +17,15 @@
 #include "efflux-skygrid.h"
 #include "efflux-sky-view.h"
 #include "efflux-window.h"
+#include "efflux-ui-test-util.h"
 
+/* Run the main loop until the widget has been laid out and drawn a few frames, and is mapped. */
 static void
-wait_until_loaded (EffluxWindow *window)
+wait_for_frames_mapped (GtkWidget *widget,
+                        int        n)
 {
-  gint64 deadline = g_get_monotonic_time () + 60 * G_USEC_PER_SEC;
-
-  while (efflux_window_is_loading (window) && g_get_monotonic_time () < deadline)
-    g_main_context_iteration (NULL, TRUE);
-  g_assert_false (efflux_window_is_loading (window));
-}
-
-static gboolean
-count_frame (GtkWidget     *widget,
-             GdkFrameClock *clock,
-             gpointer       user_data)
-{
-  (*(int *) user_data)++;
-  return G_SOURCE_CONTINUE;
-}
-
-/* Run the main loop until the widget has been laid out and drawn a few frames. */
-static void
-wait_for_frames (GtkWidget *widget,
-                 int        n)
-{
-  int frames = 0;
-  gint64 deadline = g_get_monotonic_time () + 20 * G_USEC_PER_SEC;
-  guint id = gtk_widget_add_tick_callback (widget, count_frame, &frames, NULL);
-
-  while ((frames < n || gtk_widget_get_width (widget) == 0) && g_get_monotonic_time () < deadline)
-    g_main_context_iteration (NULL, TRUE);
-  gtk_widget_remove_tick_callback (widget, id);
-  g_assert_cmpint (frames, >=, n);
+  efflux_ui_test_wait_for_frames (widget, n);
   g_assert_true (gtk_widget_get_mapped (widget));
-}
-
-static void
-save_screenshot (GtkWidget  *widget,
-                 const char *name)
-{
-  g_autoptr(GdkPaintable) paintable = gtk_widget_paintable_new (widget);
-  g_autoptr(GtkSnapshot) snapshot = gtk_snapshot_new ();
-  g_autoptr(GskRenderNode) node = NULL;
-  g_autoptr(GdkTexture) texture = NULL;
-  g_autofree char *path = NULL;
-  GskRenderer *renderer;
-  int w = gtk_widget_get_width (widget);
-  int h = gtk_widget_get_height (widget);
-
-  gdk_paintable_snapshot (paintable, GDK_SNAPSHOT (snapshot), w, h);
-  node = gtk_snapshot_free_to_node (g_steal_pointer (&snapshot));
-  g_assert_nonnull (node);
-  renderer = gtk_native_get_renderer (gtk_widget_get_native (widget));
-  texture = gsk_renderer_render_texture (renderer, node, &GRAPHENE_RECT_INIT (0, 0, w, h));
-  path = g_build_filename (g_getenv ("G_TEST_BUILDDIR"), name, NULL);
-  g_assert_true (gdk_texture_save_to_png (texture, path));
-  g_test_message ("screenshot: %s", path);
 }
 
 static void
@@ -102,7 +54,7 @@ test_demo_opens (void)
   gtk_window_set_default_size (GTK_WINDOW (window), 1366, 740);
   gtk_window_present (GTK_WINDOW (window));
   efflux_window_open (window, file);
-  wait_until_loaded (window);
+  efflux_ui_test_wait_until_loaded (window);
 
   /* the title names the demo dossier's [Source] name and the program */
   g_assert_cmpstr (gtk_window_get_title (GTK_WINDOW (window)), ==, "Demo source A - Efflux");
@@ -140,7 +92,7 @@ test_demo_opens (void)
   g_assert_true (efflux_sky_view_get_limits (view, &lo, &hi));
   g_assert_cmpfloat (lo, <, hi);
 
-  wait_for_frames (GTK_WIDGET (window), 3);
+  wait_for_frames_mapped (GTK_WIDGET (window), 3);
 
   /* fitted: the whole map fills the view along its tighter direction */
   z0 = efflux_sky_view_get_zoom (view);
@@ -151,7 +103,7 @@ test_demo_opens (void)
   /* zoom in through the window's action: one step of sqrt(2) about the centre */
   g_assert_true (gtk_widget_activate_action (GTK_WIDGET (window), "win.zoom-in", NULL));
   g_assert_cmpfloat_with_epsilon (efflux_sky_view_get_zoom (view), z0 * G_SQRT2, 1e-9);
-  wait_for_frames (GTK_WIDGET (window), 2);
+  wait_for_frames_mapped (GTK_WIDGET (window), 2);
 
   /* the readout at a pixel a few pixels east and north of the source */
   g_assert_true (efflux_cube_icrs_to_pixel (cube, dossier->ra_deg, dossier->dec_deg, &sx, &sy));
@@ -215,8 +167,8 @@ test_demo_opens (void)
     g_assert_cmpfloat (hi, ==, mx);
   }
 
-  wait_for_frames (GTK_WIDGET (window), 2);
-  save_screenshot (GTK_WIDGET (window), "screenshot-window.png");
+  wait_for_frames_mapped (GTK_WIDGET (window), 2);
+  efflux_ui_test_save_screenshot (GTK_WIDGET (window), "screenshot-window.png");
 
   /* fit again */
   g_assert_true (gtk_widget_activate_action (GTK_WIDGET (window), "win.zoom-fit", NULL));
@@ -226,12 +178,12 @@ test_demo_opens (void)
   g_assert_true (gtk_widget_activate_action (GTK_WIDGET (window), "view.grid", "s", "offsets"));
   g_assert_true (gtk_widget_activate_action (GTK_WIDGET (window), "view.colormap", "s", "velocity"));
   g_assert_true (gtk_widget_activate_action (GTK_WIDGET (window), "view.stretch", "s", "linear"));
-  wait_for_frames (GTK_WIDGET (window), 2);
-  save_screenshot (GTK_WIDGET (window), "screenshot-window-offsets.png");
+  wait_for_frames_mapped (GTK_WIDGET (window), 2);
+  efflux_ui_test_save_screenshot (GTK_WIDGET (window), "screenshot-window-offsets.png");
 
   /* opening the same dossier again reuses its row */
   efflux_window_open (window, file);
-  wait_until_loaded (window);
+  efflux_ui_test_wait_until_loaded (window);
   g_assert_cmpuint (efflux_window_get_n_sources (window), ==, 1);
 
   gtk_window_destroy (GTK_WINDOW (window));
@@ -266,11 +218,11 @@ test_cube_opens (void)
   window = efflux_window_new (NULL);
   gtk_window_present (GTK_WINDOW (window));
   efflux_window_open (window, file);
-  wait_until_loaded (window);
+  efflux_ui_test_wait_until_loaded (window);
   g_assert_nonnull (strstr (efflux_window_get_status (window), "channels"));
   view = efflux_window_get_sky_view (window);
   g_assert_true (efflux_sky_view_has_map (view));
-  wait_for_frames (GTK_WIDGET (window), 2);
+  wait_for_frames_mapped (GTK_WIDGET (window), 2);
 
   /* the centre pixel's value is the whole-cube moment 0; no source, so no offsets */
   efflux_sky_view_pixel_to_widget (view, (double) (cube->nx / 2), (double) (cube->ny / 2), &wx, &wy);
@@ -301,7 +253,7 @@ test_bad_file (void)
   window = efflux_window_new (NULL);
   gtk_window_present (GTK_WINDOW (window));
   efflux_window_open (window, file);
-  wait_until_loaded (window);
+  efflux_ui_test_wait_until_loaded (window);
   g_test_message ("status: %s", efflux_window_get_status (window));
   g_assert_nonnull (strstr (efflux_window_get_status (window), "broken.fits"));
   g_assert_false (efflux_sky_view_has_map (efflux_window_get_sky_view (window)));
@@ -346,7 +298,7 @@ test_drop (void)
   g_signal_emit_by_name (target, "drop", &value, 10.0, 10.0, &accepted);
   g_value_unset (&value);
   g_assert_true (accepted);
-  wait_until_loaded (window);
+  efflux_ui_test_wait_until_loaded (window);
   g_assert_cmpstr (gtk_window_get_title (GTK_WINDOW (window)), ==, "Demo source A - Efflux");
   g_assert_true (efflux_sky_view_has_map (efflux_window_get_sky_view (window)));
   g_assert_cmpuint (efflux_window_get_n_sources (window), ==, 1);
