@@ -54,6 +54,7 @@
 
 #include "efflux-constants.h"
 #include "efflux-cube.h"
+#include "efflux-fitshead.h"
 #include "efflux-io.h"
 #include "efflux-sky.h"
 
@@ -523,56 +524,6 @@ efflux_cube_estimate_noise (EffluxCube *cube)
 
 #define MAX_AXES 8
 
-static void
-set_fits_error (GError     **error,
-                const char  *path,
-                int          status,
-                const char  *what)
-{
-  char text[FLEN_STATUS] = "";
-  char detail[FLEN_ERRMSG] = "";
-  char line[FLEN_ERRMSG];
-
-  fits_get_errstatus (status, text);
-  /* the first message on CFITSIO's stack is usually the most specific one */
-  if (fits_read_errmsg (line) != 0)
-    g_strlcpy (detail, line, sizeof detail);
-  fits_clear_errmsg ();
-  /* CFITSIO quotes a card's own bytes: keep the message on one line */
-  for (char *c = detail; *c != '\0'; c++)
-    if ((unsigned char) *c < 0x20 || (unsigned char) *c == 0x7f)
-      *c = ' ';
-  g_strstrip (detail);
-  g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: %s: %s%s%s", path, what, text,
-               detail[0] ? " (" : "", detail[0] ? detail : "");
-  if (detail[0])
-    {
-      /* close the parenthesis */
-      char *msg = g_strconcat ((*error)->message, ")", NULL);
-      g_free ((*error)->message);
-      (*error)->message = msg;
-    }
-}
-
-static void
-close_fits (fitsfile *f)
-{
-  int status = 0;
-
-  if (f != NULL)
-    fits_close_file (f, &status);
-}
-
-G_DEFINE_AUTOPTR_CLEANUP_FUNC (fitsfile, close_fits)
-
-static char *
-trimmed (const char *s)
-{
-  char *t = g_strdup (s ? s : "");
-
-  return g_strstrip (t);
-}
-
 static gboolean
 is_spectral_ctype (const char *ctype)
 {
@@ -755,7 +706,7 @@ read_beam_table (fitsfile    *f,
     }
   if (status != 0)
     {
-      set_fits_error (error, path, status, "BEAMS table cannot be read");
+      efflux_fits_set_error (error, path, status, "BEAMS table cannot be read");
       return FALSE;
     }
   for (gsize k = 0; k < nchan; k++)
@@ -1104,103 +1055,6 @@ alloc_voxels_huge (gsize bytes)
   return p;
 }
 
-/* The WCS cards whose value must be a finite number (wcspih skips a card it cannot parse, so
- * CDELT3 = 'fast' or CRVAL3 = NAN would silently become the default). */
-static gboolean
-wcs_number_card (const char *key)
-{
-  static const char *const words[] = { "CRVAL", "CDELT", "CRPIX", "CROTA", "CD", "PC" };
-  static const char *const exact[] = { "RESTFRQ", "RESTFREQ", "RESTWAV", "EQUINOX", "EPOCH" };
-
-  for (guint w = 0; w < G_N_ELEMENTS (exact); w++)
-    if (strcmp (key, exact[w]) == 0)
-      return TRUE;
-  for (guint w = 0; w < G_N_ELEMENTS (words); w++)
-    if (g_str_has_prefix (key, words[w]) && g_ascii_isdigit (key[strlen (words[w])]))
-      {
-        const char *r = key + strlen (words[w]);
-
-        while (g_ascii_isdigit (*r) || *r == '_')
-          r++;
-        /* an alternate description's letter may follow */
-        return *r == '\0' || (g_ascii_isupper (r[0]) && r[1] == '\0');
-      }
-  return FALSE;
-}
-
-/* Make the header text safe for wcspih, whose parser trusts its input: control and non-ASCII
- * bytes become spaces, and a string value without its closing quote is refused (wcslib 7.12
- * overruns a buffer on it). */
-static gboolean
-check_header_cards (char        *header,
-                    int          nkeys,
-                    const char  *path,
-                    GError     **error)
-{
-  for (int c = 0; c < nkeys; c++)
-    {
-      char *card = header + (gsize) c * 80;
-      int i = 10;
-
-      if (strnlen (card, 80) < 80)
-        break;
-      for (int j = 0; j < 80; j++)
-        if ((unsigned char) card[j] < 0x20 || (unsigned char) card[j] > 0x7e)
-          card[j] = ' ';
-      if (card[8] != '=' || card[9] != ' ')
-        continue;
-      while (i < 80 && card[i] == ' ')
-        i++;
-      {
-        g_autofree char *key = g_strstrip (g_strndup (card, 8));
-
-        if (wcs_number_card (key))
-          {
-            g_autofree char *value = g_strndup (card + i, (gsize) (80 - i));
-            char *slash = strchr (value, '/'), *end = NULL;
-            double v;
-
-            if (slash != NULL)
-              *slash = '\0';
-            g_strstrip (value);
-            g_strdelimit (value, "Dd", 'E');
-            v = g_ascii_strtod (value, &end);
-            if (value[0] == '\0' || end == value || *end != '\0' || !isfinite (v))
-              {
-                g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: %s = %s: not a finite number", path, key,
-                             value[0] ? value : "(no value)");
-                return FALSE;
-              }
-          }
-      }
-      if (i < 80 && card[i] == '\'')
-        {
-          gboolean closed = FALSE;
-
-          for (i = i + 1; i < 80; i++)
-            if (card[i] == '\'')
-              {
-                if (i + 1 < 80 && card[i + 1] == '\'')
-                  i++;
-                else
-                  {
-                    closed = TRUE;
-                    break;
-                  }
-              }
-          if (!closed)
-            {
-              g_autofree char *key = g_strndup (card, 8);
-
-              g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                           "%s: %s: the string value has no closing quote", path, g_strstrip (key));
-              return FALSE;
-            }
-        }
-    }
-  return TRUE;
-}
-
 /* Whether the primary header (80-character cards) reaches its END card within the file. */
 static gboolean
 primary_header_complete (const char *path)
@@ -1242,8 +1096,7 @@ efflux_cube_load (const char                  *path,
   int status = 0, nhdu = 0, hdu = 0, naxis = 0, data_naxis = 0, bitpix = 0, hdutype = 0;
   LONGLONG naxes[MAX_AXES] = { 0 };
   gboolean gz = FALSE, tile_compressed = FALSE;
-  char *header = NULL;
-  int nkeys = 0, nreject = 0, nwcs = 0;
+  int nwcs = 0;
   struct wcsprm *wcsarr = NULL, *wcs = NULL;
   char orig_ctype[MAX_AXES][72];
   int ispec = -1, ilng, ilat;
@@ -1310,7 +1163,7 @@ efflux_cube_load (const char                  *path,
                        "%s: END card missing: the primary header is incomplete (truncated file?)", path);
           return NULL;
         }
-      set_fits_error (error, path, status, "not a readable FITS file");
+      efflux_fits_set_error (error, path, status, "not a readable FITS file");
       return NULL;
     }
 
@@ -1318,7 +1171,7 @@ efflux_cube_load (const char                  *path,
   fits_get_num_hdus (f, &nhdu, &status);
   if (status != 0)
     {
-      set_fits_error (error, path, status, "not a readable FITS file");
+      efflux_fits_set_error (error, path, status, "not a readable FITS file");
       return NULL;
     }
   for (int h = 1; h <= nhdu; h++)
@@ -1329,7 +1182,7 @@ efflux_cube_load (const char                  *path,
         continue;
       if (fits_movabs_hdu (f, h, &hdutype, &status) != 0)
         {
-          set_fits_error (error, path, status, "cannot read the HDU list");
+          efflux_fits_set_error (error, path, status, "cannot read the HDU list");
           return NULL;
         }
       if (hdutype != IMAGE_HDU)
@@ -1380,7 +1233,7 @@ efflux_cube_load (const char                  *path,
   tile_compressed = fits_is_compressed_image (f, &status);
   if (status != 0)
     {
-      set_fits_error (error, path, status, "cannot read the image header");
+      efflux_fits_set_error (error, path, status, "cannot read the image header");
       return NULL;
     }
 
@@ -1435,42 +1288,10 @@ efflux_cube_load (const char                  *path,
   }
 
   /* --- WCS ------------------------------------------------------------------------------- */
-  if (tile_compressed)
-    fits_convert_hdr2str (f, 1, NULL, 0, &header, &nkeys, &status);
-  else
-    fits_hdr2str (f, 1, NULL, 0, &header, &nkeys, &status);
-  if (status != 0)
-    {
-      set_fits_error (error, path, status, "cannot read the header");
-      return NULL;
-    }
-  if (!check_header_cards (header, nkeys, path, error))
-    {
-      int st2 = 0;
-      fits_free_memory (header, &st2);
-      return NULL;
-    }
-  if (wcspih (header, nkeys, WCSHDR_all, 0, &nreject, &nwcs, &wcsarr) != 0 || nwcs == 0)
-    {
-      int st2 = 0;
-      fits_free_memory (header, &st2);
-      if (wcsarr != NULL)
-        wcsvfree (&nwcs, &wcsarr);
-      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                   "%s: CTYPE1..CTYPE%d: the header has no usable world coordinates", path, naxis);
-      return NULL;
-    }
-  {
-    int st2 = 0;
-    fits_free_memory (header, &st2);
-  }
-  wcs = &wcsarr[0];
-  for (int i = 0; i < nwcs; i++)
-    if (wcsarr[i].alt[0] == ' ' || wcsarr[i].alt[0] == '\0')
-      {
-        wcs = &wcsarr[i];
-        break;
-      }
+  wcs = efflux_fits_read_wcs (f, tile_compressed, path, naxis, TRUE, "the header has no usable world coordinates",
+                              &nwcs, &wcsarr, error);
+  if (wcs == NULL)
+    return NULL;
 
   cube = g_new0 (EffluxCube, 1);
   cube->notes = g_ptr_array_new_with_free_func (g_free);
@@ -1495,7 +1316,7 @@ efflux_cube_load (const char                  *path,
   /* the spectral axis and its step, before wcsfix (cdfix would turn an all-zero CD row into 1) */
   for (int i = 0; i < naxis; i++)
     {
-      g_autofree char *t = trimmed (wcs->ctype[i]);
+      g_autofree char *t = efflux_fits_trimmed (wcs->ctype[i]);
       g_strlcpy (orig_ctype[i], t, sizeof orig_ctype[i]);
       if (ispec < 0 && is_spectral_ctype (t))
         ispec = i;
@@ -1644,96 +1465,26 @@ efflux_cube_load (const char                  *path,
 
   /* --- sky ------------------------------------------------------------------------------- */
   {
-    g_autofree char *lngtyp = trimmed (wcs->lngtyp);
-    g_autofree char *radesys = trimmed (wcs->radesys);
-    int axes[2] = { ilng + 1, ilat + 1 };
-    int nsub = 2;
+    gboolean defaulted = FALSE;
 
-    if (strcmp (lngtyp, "RA") == 0)
-      {
-        gboolean have_eq = !undefined (wcs->equinox) && wcs->equinox != 0.0;
-
-        if (radesys[0] == '\0')
-          {
-            if (!have_eq)
-              {
-                cube->frame = EFFLUX_SKY_ICRS;
-                efflux_cube_add_note (cube, "no RADESYS and no EQUINOX: ICRS assumed (FITS default)");
-              }
-            else if (wcs->equinox < 1984.0)
-              {
-                cube->frame = EFFLUX_SKY_FK4;
-                efflux_cube_add_note (cube, "no RADESYS, EQUINOX = %g: FK4 assumed (FITS default)", wcs->equinox);
-              }
-            else
-              {
-                cube->frame = EFFLUX_SKY_FK5;
-                efflux_cube_add_note (cube, "no RADESYS, EQUINOX = %g: FK5 assumed (FITS default)", wcs->equinox);
-              }
-          }
-        else if (strcmp (radesys, "ICRS") == 0)
-          cube->frame = EFFLUX_SKY_ICRS;
-        else if (strcmp (radesys, "FK5") == 0)
-          cube->frame = EFFLUX_SKY_FK5;
-        else if (strcmp (radesys, "FK4") == 0)
-          cube->frame = EFFLUX_SKY_FK4;
-        else
-          {
-            g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                         "%s: RADESYS = '%s': only ICRS, FK5 and FK4 equatorial frames are read", path, radesys);
-            goto out;
-          }
-        if (cube->frame == EFFLUX_SKY_FK5)
-          cube->equinox = have_eq ? wcs->equinox : 2000.0;
-        else if (cube->frame == EFFLUX_SKY_FK4)
-          cube->equinox = have_eq ? wcs->equinox : 1950.0;
-        else
-          cube->equinox = 2000.0;
-        if (!efflux_sky_frame_supported (cube->frame, cube->equinox))
-          {
-            g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                         "%s: EQUINOX = %g: %s positions are read at equinox %s only", path, cube->equinox,
-                         efflux_sky_frame_name (cube->frame), cube->frame == EFFLUX_SKY_FK5 ? "2000" : "1800 to 2100");
-            goto out;
-          }
-        if (cube->frame == EFFLUX_SKY_FK4)
-          efflux_cube_add_note (cube, "sky positions converted from FK4 (equinox B%g, E-terms removed, epoch of "
-                                "observation taken as the equinox) to ICRS", cube->equinox);
-        else if (cube->frame != EFFLUX_SKY_ICRS)
-          efflux_cube_add_note (cube, "sky positions converted from %s (equinox %g) to ICRS",
-                                efflux_sky_frame_name (cube->frame), cube->equinox);
-      }
-    else if (strcmp (lngtyp, "GLON") == 0)
-      {
-        cube->frame = EFFLUX_SKY_GALACTIC;
-        cube->equinox = 2000.0;
-        efflux_cube_add_note (cube, "sky positions converted from galactic to ICRS");
-      }
-    else
-      {
-        g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                     "%s: CTYPE%d = '%s': only equatorial (RA/DEC) and galactic (GLON/GLAT) sky axes are read",
-                     path, ilng + 1, orig_ctype[ilng]);
-        goto out;
-      }
-
-    cube->sky = g_new0 (struct wcsprm, 1);
-    cube->sky->flag = -1;
-    if (wcssub (1, wcs, &nsub, axes, cube->sky) != 0 || nsub != 2 || wcsset (cube->sky) != 0)
-      {
-        g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                     "%s: CTYPE%d/CTYPE%d: the sky axes cannot be separated from the others: %s", path,
-                     ilng + 1, ilat + 1,
-                     cube->sky->err && cube->sky->err->msg ? cube->sky->err->msg : "wcslib refused them");
-        goto out;
-      }
-    for (int j = 0; j < 2; j++)
-      {
-        double a = cube->sky->cdelt[0] * cube->sky->pc[0 * 2 + j];
-        double b = cube->sky->cdelt[1] * cube->sky->pc[1 * 2 + j];
-
-        cube->pixel_arcsec[j] = 3600.0 * sqrt (a * a + b * b);
-      }
+    if (!efflux_fits_sky_frame (cube, wcs, path, orig_ctype[ilng], &defaulted, error))
+      goto out;
+    if (defaulted && cube->frame == EFFLUX_SKY_ICRS)
+      efflux_cube_add_note (cube, "no RADESYS and no EQUINOX: ICRS assumed (FITS default)");
+    else if (defaulted && cube->frame == EFFLUX_SKY_FK4)
+      efflux_cube_add_note (cube, "no RADESYS, EQUINOX = %g: FK4 assumed (FITS default)", wcs->equinox);
+    else if (defaulted)
+      efflux_cube_add_note (cube, "no RADESYS, EQUINOX = %g: FK5 assumed (FITS default)", wcs->equinox);
+    if (cube->frame == EFFLUX_SKY_GALACTIC)
+      efflux_cube_add_note (cube, "sky positions converted from galactic to ICRS");
+    else if (cube->frame == EFFLUX_SKY_FK4)
+      efflux_cube_add_note (cube, "sky positions converted from FK4 (equinox B%g, E-terms removed, epoch of "
+                            "observation taken as the equinox) to ICRS", cube->equinox);
+    else if (cube->frame != EFFLUX_SKY_ICRS)
+      efflux_cube_add_note (cube, "sky positions converted from %s (equinox %g) to ICRS",
+                            efflux_sky_frame_name (cube->frame), cube->equinox);
+    if (!efflux_fits_sky_axes (cube, wcs, ilng, ilat, path, error))
+      goto out;
   }
 
   /* --- spectral axis --------------------------------------------------------------------- */
@@ -1749,7 +1500,7 @@ efflux_cube_load (const char                  *path,
     g_autofree double *vrad_si = g_new (double, nchan + 1);
     char stype[5];
     double nu0 = 0.0;
-    g_autofree char *specsys = trimmed (wcs->specsys);
+    g_autofree char *specsys = efflux_fits_trimmed (wcs->specsys);
     double beta = 0.0;
 
     for (gsize k = 0; k <= nchan; k++)
@@ -1901,10 +1652,10 @@ efflux_cube_load (const char                  *path,
     if (fits_read_key (f, TSTRING, "BUNIT", value, NULL, &s) != 0)
       value[0] = '\0';
     fits_clear_errmsg ();
-    cube->bunit = trimmed (value);
+    cube->bunit = efflux_fits_trimmed (value);
     s = 0;
     if (fits_read_key (f, TSTRING, "OBJECT", value, NULL, &s) == 0)
-      cube->object = trimmed (value);
+      cube->object = efflux_fits_trimmed (value);
     fits_clear_errmsg ();
     s = 0;
     if (fits_read_key (f, TDOUBLE, "BMAJ", &bmaj, NULL, &s) == 0)
@@ -2226,7 +1977,7 @@ efflux_cube_load (const char                  *path,
               }
             if (status != 0)
               {
-                set_fits_error (error, path, status, "the data cannot be read");
+                efflux_fits_set_error (error, path, status, "the data cannot be read");
                 goto out;
               }
             loops[2].n = cn;

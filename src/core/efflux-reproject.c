@@ -16,159 +16,12 @@
 #include <wcslib/wcshdr.h>
 #include <wcslib/wcsmath.h>
 
+#include "efflux-fitshead.h"
 #include "efflux-io.h"
 #include "efflux-reproject.h"
 #include "efflux-sky.h"
 
 #define MAX_AXES 8
-
-static void
-fits_error (GError     **error,
-            const char  *path,
-            int          status,
-            const char  *what)
-{
-  char text[FLEN_STATUS] = "";
-  char detail[FLEN_ERRMSG] = "";
-
-  fits_get_errstatus (status, text);
-  if (fits_read_errmsg (detail) == 0)
-    detail[0] = '\0';
-  fits_clear_errmsg ();
-  g_strstrip (detail);
-  if (detail[0])
-    g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: %s: %s (%s)", path, what, text, detail);
-  else
-    g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: %s: %s", path, what, text);
-}
-
-static void
-close_fits (fitsfile *f)
-{
-  int status = 0;
-
-  if (f != NULL)
-    fits_close_file (f, &status);
-}
-
-G_DEFINE_AUTOPTR_CLEANUP_FUNC (fitsfile, close_fits)
-
-/* Make the header text safe for wcspih (its parser trusts its input): control and non-ASCII bytes
- * become spaces; a string value without its closing quote is refused. */
-static gboolean
-sanitize_header (char        *header,
-                 int          nkeys,
-                 const char  *path,
-                 GError     **error)
-{
-  for (int c = 0; c < nkeys; c++)
-    {
-      char *card = header + (gsize) c * 80;
-      int i = 10;
-
-      if (strnlen (card, 80) < 80)
-        break;
-      for (int j = 0; j < 80; j++)
-        if ((unsigned char) card[j] < 0x20 || (unsigned char) card[j] > 0x7e)
-          card[j] = ' ';
-      if (card[8] != '=' || card[9] != ' ')
-        continue;
-      while (i < 80 && card[i] == ' ')
-        i++;
-      if (i < 80 && card[i] == '\'')
-        {
-          gboolean closed = FALSE;
-
-          for (i = i + 1; i < 80; i++)
-            if (card[i] == '\'')
-              {
-                if (i + 1 < 80 && card[i + 1] == '\'')
-                  i++;
-                else
-                  {
-                    closed = TRUE;
-                    break;
-                  }
-              }
-          if (!closed)
-            {
-              g_autofree char *key = g_strndup (card, 8);
-
-              g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                           "%s: %s: the string value has no closing quote", path, g_strstrip (key));
-              return FALSE;
-            }
-        }
-    }
-  return TRUE;
-}
-
-static char *
-trimmed (const char *s)
-{
-  return g_strstrip (g_strdup (s));
-}
-
-/* The celestial frame of the WCS, as efflux_cube_load decides it (FITS defaults for a missing
- * RADESYS or EQUINOX). */
-static gboolean
-sky_frame (EffluxCube     *image,
-           struct wcsprm  *wcs,
-           const char     *path,
-           GError        **error)
-{
-  g_autofree char *lngtyp = trimmed (wcs->lngtyp);
-  g_autofree char *radesys = trimmed (wcs->radesys);
-  g_autofree char *ctype = trimmed (wcs->ctype[wcs->lng]);
-  gboolean have_eq = !undefined (wcs->equinox) && wcs->equinox != 0.0;
-
-  if (strcmp (lngtyp, "GLON") == 0)
-    {
-      image->frame = EFFLUX_SKY_GALACTIC;
-      image->equinox = 2000.0;
-      return TRUE;
-    }
-  if (strcmp (lngtyp, "RA") != 0)
-    {
-      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                   "%s: CTYPE%d = '%s': only equatorial (RA/DEC) and galactic (GLON/GLAT) sky axes are read",
-                   path, wcs->lng + 1, ctype);
-      return FALSE;
-    }
-  if (radesys[0] == '\0')
-    image->frame = !have_eq ? EFFLUX_SKY_ICRS
-                   : wcs->equinox < 1984.0 ? EFFLUX_SKY_FK4 : EFFLUX_SKY_FK5;
-  else if (strcmp (radesys, "ICRS") == 0)
-    image->frame = EFFLUX_SKY_ICRS;
-  else if (strcmp (radesys, "FK5") == 0)
-    image->frame = EFFLUX_SKY_FK5;
-  else if (strcmp (radesys, "FK4") == 0)
-    image->frame = EFFLUX_SKY_FK4;
-  else
-    {
-      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                   "%s: RADESYS = '%s': only ICRS, FK5 and FK4 equatorial frames are read", path, radesys);
-      return FALSE;
-    }
-  if (image->frame == EFFLUX_SKY_FK5)
-    image->equinox = have_eq ? wcs->equinox : 2000.0;
-  else if (image->frame == EFFLUX_SKY_FK4)
-    image->equinox = have_eq ? wcs->equinox : 1950.0;
-  else
-    image->equinox = 2000.0;
-  if (!efflux_sky_frame_supported (image->frame, image->equinox))
-    {
-      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                   "%s: EQUINOX = %g: %s positions are read at equinox %s only", path, image->equinox,
-                   efflux_sky_frame_name (image->frame),
-                   image->frame == EFFLUX_SKY_FK5 ? "2000" : "1800 to 2100");
-      return FALSE;
-    }
-  if (image->frame != EFFLUX_SKY_ICRS)
-    efflux_cube_add_note (image, "sky positions converted from %s (equinox %g) to ICRS",
-                          efflux_sky_frame_name (image->frame), image->equinox);
-  return TRUE;
-}
 
 EffluxCube *
 efflux_image_load (const char  *path,
@@ -178,10 +31,9 @@ efflux_image_load (const char  *path,
   g_autoptr(EffluxCube) image = NULL;
   g_autoptr(fitsfile) f = NULL;
   GStatBuf st;
-  int status = 0, nhdu = 0, hdutype = 0, naxis = 0, chosen = 0, nkeys = 0, nreject = 0, nwcs = 0;
+  int status = 0, nhdu = 0, hdutype = 0, naxis = 0, chosen = 0, nwcs = 0;
   LONGLONG naxes[MAX_AXES] = { 0 };
   long fpixel[MAX_AXES], lpixel[MAX_AXES], inc[MAX_AXES];
-  char *header = NULL;
   struct wcsprm *wcsarr = NULL, *wcs = NULL;
   int ilng, ilat, anynul = 0;
   gsize npix, bytes;
@@ -209,7 +61,7 @@ efflux_image_load (const char  *path,
   if (fits_open_diskfile (&f, path, READONLY, &status) != 0)
     {
       f = NULL;
-      fits_error (error, path, status, "not a readable FITS file");
+      efflux_fits_set_error (error, path, status, "not a readable FITS file");
       return NULL;
     }
 
@@ -217,7 +69,7 @@ efflux_image_load (const char  *path,
   fits_get_num_hdus (f, &nhdu, &status);
   if (status != 0)
     {
-      fits_error (error, path, status, "not a readable FITS file");
+      efflux_fits_set_error (error, path, status, "not a readable FITS file");
       return NULL;
     }
   if (hdu > nhdu)
@@ -234,7 +86,7 @@ efflux_image_load (const char  *path,
         continue;
       if (fits_movabs_hdu (f, h, &hdutype, &status) != 0)
         {
-          fits_error (error, path, status, "cannot read the HDU list");
+          efflux_fits_set_error (error, path, status, "cannot read the HDU list");
           return NULL;
         }
       if (hdutype != IMAGE_HDU)
@@ -265,7 +117,7 @@ efflux_image_load (const char  *path,
   fits_get_img_sizell (f, naxis, naxes, &status);
   if (status != 0)
     {
-      fits_error (error, path, status, "cannot read the image header");
+      efflux_fits_set_error (error, path, status, "cannot read the image header");
       return NULL;
     }
   for (int i = 0; i < naxis; i++)
@@ -277,45 +129,19 @@ efflux_image_load (const char  *path,
       }
 
   /* the WCS */
-  if (fits_is_compressed_image (f, &status))
-    fits_convert_hdr2str (f, 1, NULL, 0, &header, &nkeys, &status);
-  else
-    fits_hdr2str (f, 1, NULL, 0, &header, &nkeys, &status);
-  if (status != 0)
-    {
-      fits_error (error, path, status, "cannot read the header");
-      return NULL;
-    }
-  if (!sanitize_header (header, nkeys, path, error))
-    {
-      int st2 = 0;
-
-      fits_free_memory (header, &st2);
-      return NULL;
-    }
-  if (wcspih (header, nkeys, WCSHDR_all, 0, &nreject, &nwcs, &wcsarr) != 0 || nwcs == 0)
-    {
-      int st2 = 0;
-
-      fits_free_memory (header, &st2);
-      if (wcsarr != NULL)
-        wcsvfree (&nwcs, &wcsarr);
-      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                   "%s: CTYPE1..CTYPE%d: the header has no world coordinates", path, naxis);
-      return NULL;
-    }
   {
-    int st2 = 0;
+    gboolean tile_compressed = fits_is_compressed_image (f, &status);
 
-    fits_free_memory (header, &st2);
-  }
-  wcs = &wcsarr[0];
-  for (int i = 0; i < nwcs; i++)
-    if (wcsarr[i].alt[0] == ' ' || wcsarr[i].alt[0] == '\0')
+    if (status != 0)
       {
-        wcs = &wcsarr[i];
-        break;
+        efflux_fits_set_error (error, path, status, "cannot read the header");
+        return NULL;
       }
+    wcs = efflux_fits_read_wcs (f, tile_compressed, path, naxis, FALSE, "the header has no world coordinates",
+                                &nwcs, &wcsarr, error);
+    if (wcs == NULL)
+      return NULL;
+  }
 
   image = g_new0 (EffluxCube, 1);
   image->notes = g_ptr_array_new_with_free_func (g_free);
@@ -358,36 +184,23 @@ efflux_image_load (const char  *path,
   if (ilng >= naxis || ilat >= naxis)
     {
       int i = ilng >= naxis ? ilng : ilat;
-      g_autofree char *t = trimmed (wcs->ctype[i]);
+      g_autofree char *t = efflux_fits_trimmed (wcs->ctype[i]);
 
       g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
                    "%s: CTYPE%d = '%s' is not one of the NAXIS = %d data axes", path, i + 1, t, naxis);
       goto out;
     }
-  if (!sky_frame (image, wcs, path, error))
-    goto out;
   {
-    int axes[2] = { ilng + 1, ilat + 1 };
-    int nsub = 2;
+    g_autofree char *ctype = efflux_fits_trimmed (wcs->ctype[ilng]);
 
-    image->sky = g_new0 (struct wcsprm, 1);
-    image->sky->flag = -1;
-    if (wcssub (1, wcs, &nsub, axes, image->sky) != 0 || nsub != 2 || wcsset (image->sky) != 0)
-      {
-        g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                     "%s: CTYPE%d/CTYPE%d: the sky axes cannot be separated from the others: %s",
-                     path, ilng + 1, ilat + 1,
-                     image->sky->err && image->sky->err->msg ? image->sky->err->msg : "wcslib refused them");
-        goto out;
-      }
-    for (int j = 0; j < 2; j++)
-      {
-        double a = image->sky->cdelt[0] * image->sky->pc[0 * 2 + j];
-        double b = image->sky->cdelt[1] * image->sky->pc[1 * 2 + j];
-
-        image->pixel_arcsec[j] = 3600.0 * sqrt (a * a + b * b);
-      }
+    if (!efflux_fits_sky_frame (image, wcs, path, ctype, NULL, error))
+      goto out;
   }
+  if (image->frame != EFFLUX_SKY_ICRS && image->frame != EFFLUX_SKY_GALACTIC)
+    efflux_cube_add_note (image, "sky positions converted from %s (equinox %g) to ICRS",
+                          efflux_sky_frame_name (image->frame), image->equinox);
+  if (!efflux_fits_sky_axes (image, wcs, ilng, ilat, path, error))
+    goto out;
 
   /* sizes, checked before anything is allocated */
   image->nx = (gsize) naxes[ilng];
@@ -409,7 +222,7 @@ efflux_image_load (const char  *path,
       lpixel[i] = (i == ilng || i == ilat) ? (long) naxes[i] : 1;
       if (i != ilng && i != ilat && naxes[i] > 1)
         {
-          g_autofree char *t = trimmed (i < wcs->naxis ? wcs->ctype[i] : "");
+          g_autofree char *t = efflux_fits_trimmed (i < wcs->naxis ? wcs->ctype[i] : "");
 
           efflux_cube_add_note (image, "NAXIS%d = %lld (CTYPE%d = '%s'): the first plane was read",
                                 i + 1, (long long) naxes[i], i + 1, t);
@@ -424,7 +237,7 @@ efflux_image_load (const char  *path,
     }
   if (fits_read_subset (f, TFLOAT, fpixel, lpixel, inc, &nulval, plane, &anynul, &status) != 0)
     {
-      fits_error (error, path, status, "the image data cannot be read");
+      efflux_fits_set_error (error, path, status, "the image data cannot be read");
       goto out;
     }
   if (ilng < ilat)
@@ -550,8 +363,8 @@ efflux_reproject_image (const EffluxCube  *src,
     *n_inside = inside;
   if (inside == 0)
     {
-      g_autofree char *c1 = trimmed (src->sky->ctype[0]);
-      g_autofree char *c2 = trimmed (src->sky->ctype[1]);
+      g_autofree char *c1 = efflux_fits_trimmed (src->sky->ctype[0]);
+      g_autofree char *c2 = efflux_fits_trimmed (src->sky->ctype[1]);
 
       g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
                    "%s: CRVAL1/CRVAL2 = %.6g, %.6g (%s, %s): the image does not overlap the map of %s",

@@ -1,0 +1,77 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* Internal to libefflux-core: the FITS header pieces shared by the cube reader (efflux-cube.c)
+ * and the context-image reader (efflux-reproject.c): CFITSIO error messages, the card checks
+ * made before wcslib parses a header, the world-coordinate description, the sky frame rules
+ * and the 2-D sky WCS. Every message names the file and the header card. */
+#pragma once
+
+#include <fitsio.h>
+#include <glib.h>
+
+#include "efflux-cube.h"
+
+G_BEGIN_DECLS
+
+/* "PATH: WHAT: CFITSIO's text for STATUS (its first stacked message)", on one line; clears
+ * CFITSIO's message stack. */
+void efflux_fits_set_error (GError     **error,
+                            const char  *path,
+                            int          status,
+                            const char  *what);
+
+/* Closes a CFITSIO file, ignoring NULL (the g_autoptr cleanup below). */
+void efflux_fits_close (fitsfile *f);
+
+G_DEFINE_AUTOPTR_CLEANUP_FUNC (fitsfile, efflux_fits_close)
+
+/* A newly allocated copy of S (NULL reads as "") without leading or trailing blanks. */
+char *efflux_fits_trimmed (const char *s);
+
+/* Makes the header text (NKEYS cards of 80 characters) safe for wcspih, whose parser trusts its
+ * input: control and non-ASCII bytes become spaces and a string value without its closing quote
+ * is refused (wcslib 7.12 overruns a buffer on it). With CHECK_NUMBERS, the WCS cards whose value
+ * must be a number (CRVALn, CDELTn, CRPIXn, CROTAn, CDi_j, PCi_j, RESTFRQ, EQUINOX ...) are
+ * refused unless they hold a finite one (wcspih would silently skip such a card). */
+gboolean efflux_fits_check_header_cards (char        *header,
+                                         int          nkeys,
+                                         const char  *path,
+                                         gboolean     check_numbers,
+                                         GError     **error);
+
+/* Reads the current HDU's header (through fits_convert_hdr2str when TILE_COMPRESSED), checks its
+ * cards as efflux_fits_check_header_cards and parses it with wcspih. On success *WCSARR holds
+ * *NWCS descriptions (free with wcsvfree) and the primary one (no alternate letter, else the
+ * first) is returned. NO_WCS is the end of the message given when wcspih finds none
+ * ("PATH: CTYPE1..CTYPEn: NO_WCS", n = NAXIS). */
+struct wcsprm *efflux_fits_read_wcs (fitsfile        *f,
+                                     gboolean         tile_compressed,
+                                     const char      *path,
+                                     int              naxis,
+                                     gboolean         check_numbers,
+                                     const char      *no_wcs,
+                                     int             *nwcs,
+                                     struct wcsprm  **wcsarr,
+                                     GError         **error);
+
+/* The celestial frame and equinox of WCS (after wcsset) into cube->frame and cube->equinox, with
+ * the FITS defaults for a missing RADESYS or EQUINOX (ICRS without either, FK4 before 1984, FK5
+ * from 1984; FK4 at 1950, FK5 at 2000). LNG_CTYPE is the longitude axis's CTYPE as the refusal of
+ * a sky system other than equatorial or galactic names it. *DEFAULTED (may be NULL) tells whether
+ * the frame came from the defaults (no RADESYS). Adds no note. */
+gboolean efflux_fits_sky_frame (EffluxCube           *cube,
+                                const struct wcsprm  *wcs,
+                                const char           *path,
+                                const char           *lng_ctype,
+                                gboolean             *defaulted,
+                                GError              **error);
+
+/* The sky axes ILNG, ILAT (0-based) of WCS as the 2-D cube->sky (wcssub + wcsset) and the pixel
+ * sizes cube->pixel_arcsec from its CDELT and PC. */
+gboolean efflux_fits_sky_axes (EffluxCube     *cube,
+                               struct wcsprm  *wcs,
+                               int             ilng,
+                               int             ilat,
+                               const char     *path,
+                               GError        **error);
+
+G_END_DECLS
