@@ -41,15 +41,40 @@ efflux_ui_test_iterate_ms (guint ms)
     g_main_context_iteration (NULL, TRUE);
 }
 
+typedef enum
+{
+  BLOCKING,   /* g_main_context_iteration (NULL, TRUE) */
+  POLLING,    /* efflux_ui_test_iterate */
+  STEPS_20MS, /* efflux_ui_test_iterate_ms (20) */
+} Iteration;
+
+/* Iterate while cond (data) is `holds`, at most `seconds`. */
+static void
+run_while (EffluxUiTestCondition cond,
+           gpointer              data,
+           gboolean              holds,
+           double                seconds,
+           Iteration             how)
+{
+  gint64 deadline = g_get_monotonic_time () + (gint64) (seconds * G_USEC_PER_SEC);
+
+  while (!cond (data) == !holds && g_get_monotonic_time () < deadline)
+    {
+      if (how == BLOCKING)
+        g_main_context_iteration (NULL, TRUE);
+      else if (how == POLLING)
+        efflux_ui_test_iterate ();
+      else
+        efflux_ui_test_iterate_ms (20);
+    }
+}
+
 void
 efflux_ui_test_iterate_until (EffluxUiTestCondition done,
                               gpointer              data,
                               double                seconds)
 {
-  gint64 deadline = g_get_monotonic_time () + (gint64) (seconds * G_USEC_PER_SEC);
-
-  while (!done (data) && g_get_monotonic_time () < deadline)
-    g_main_context_iteration (NULL, TRUE);
+  run_while (done, data, FALSE, seconds, BLOCKING);
   g_assert_true (done (data));
 }
 
@@ -58,10 +83,7 @@ efflux_ui_test_poll_until (EffluxUiTestCondition done,
                            gpointer              data,
                            double                seconds)
 {
-  gint64 deadline = g_get_monotonic_time () + (gint64) (seconds * G_USEC_PER_SEC);
-
-  while (!done (data) && g_get_monotonic_time () < deadline)
-    efflux_ui_test_iterate ();
+  run_while (done, data, FALSE, seconds, POLLING);
   g_assert_true (done (data));
 }
 
@@ -70,42 +92,52 @@ efflux_ui_test_iterate_while (EffluxUiTestCondition cond,
                               gpointer              data,
                               double                seconds)
 {
-  gint64 deadline = g_get_monotonic_time () + (gint64) (seconds * G_USEC_PER_SEC);
-
-  while (cond (data) && g_get_monotonic_time () < deadline)
-    g_main_context_iteration (NULL, TRUE);
+  run_while (cond, data, TRUE, seconds, BLOCKING);
   g_assert_false (cond (data));
+}
+
+/* ---- windows ---- */
+
+EffluxWindow *
+efflux_ui_test_open_window (GFile *file,
+                            int    width,
+                            int    height)
+{
+  EffluxWindow *window = efflux_window_new (NULL);
+
+  if (width > 0)
+    gtk_window_set_default_size (GTK_WINDOW (window), width, height);
+  gtk_window_present (GTK_WINDOW (window));
+  efflux_window_open (window, file);
+  return window;
 }
 
 /* ---- the window's load ---- */
 
+static gboolean
+window_is_loading (gpointer window)
+{
+  return efflux_window_is_loading (window);
+}
+
 void
 efflux_ui_test_wait_until_loaded (EffluxWindow *window)
 {
-  gint64 deadline = g_get_monotonic_time () + 60 * G_USEC_PER_SEC;
-
-  while (efflux_window_is_loading (window) && g_get_monotonic_time () < deadline)
-    g_main_context_iteration (NULL, TRUE);
+  run_while (window_is_loading, window, TRUE, 60, BLOCKING);
   g_assert_false (efflux_window_is_loading (window));
 }
 
 void
 efflux_ui_test_wait_until_loaded_in_steps (EffluxWindow *window)
 {
-  gint64 deadline = g_get_monotonic_time () + 60 * G_USEC_PER_SEC;
-
-  while (efflux_window_is_loading (window) && g_get_monotonic_time () < deadline)
-    efflux_ui_test_iterate_ms (20);
+  run_while (window_is_loading, window, TRUE, 60, STEPS_20MS);
   g_assert_false (efflux_window_is_loading (window));
 }
 
 void
 efflux_ui_test_poll_until_loaded (EffluxWindow *window)
 {
-  gint64 deadline = g_get_monotonic_time () + 60 * G_USEC_PER_SEC;
-
-  while (efflux_window_is_loading (window) && g_get_monotonic_time () < deadline)
-    efflux_ui_test_iterate ();
+  run_while (window_is_loading, window, TRUE, 60, POLLING);
   g_assert_false (efflux_window_is_loading (window));
 }
 

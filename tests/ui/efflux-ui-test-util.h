@@ -35,6 +35,14 @@ void        efflux_ui_test_iterate_while              (EffluxUiTestCondition  co
                                                        gpointer               data,
                                                        double                 seconds);
 
+/* --- windows ---------------------------------------------------------------------------------- */
+
+/* A new window (no application) of default size width x height (none when width is 0), presented,
+ * opening file (efflux_window_open: the load goes on; wait with one of the helpers below). */
+EffluxWindow *efflux_ui_test_open_window              (GFile                 *file,
+                                                       int                    width,
+                                                       int                    height);
+
 /* --- the window's load (at most 60 s; asserts the window is no longer loading) ------------------ */
 
 /* Blocking main-loop iterations. */

@@ -265,15 +265,13 @@ test_crash_and_recover (void)
   /* the window offers it; Recover applies it as one unsaved, undoable change */
   g_setenv ("EFFLUX_AUTOSAVE", "1", TRUE);
   {
-    EffluxWindow *window = efflux_window_new (NULL);
     g_autoptr(GFile) file = g_file_new_for_path (path);
+    EffluxWindow *window = efflux_ui_test_open_window (file, 0, 0);
     EffluxDocument *document;
     GtkWidget *dialog;
     g_autofree char *text = NULL;
     gint64 deadline;
 
-    gtk_window_present (GTK_WINDOW (window));
-    efflux_window_open (window, file);
     /* the dossier is the window's (and the offer made) once its cube is read */
     efflux_ui_test_wait_until_loaded_in_steps (window);
     document = efflux_window_get_document (window);
@@ -375,13 +373,11 @@ test_discard_and_later (void)
 
   /* Later: kept, the banner says so; an edit is not written over the kept file */
   {
-    EffluxWindow *window = efflux_window_new (NULL);
+    EffluxWindow *window = efflux_ui_test_open_window (file, 0, 0);
     EffluxDocument *document;
     GtkWidget *dialog;
     g_autofree char *now_text = NULL;
 
-    gtk_window_present (GTK_WINDOW (window));
-    efflux_window_open (window, file);
     /* the dossier is the window's (and the offer made) once its cube is read */
     efflux_ui_test_wait_until_loaded_in_steps (window);
     document = efflux_window_get_document (window);
@@ -406,12 +402,10 @@ test_discard_and_later (void)
 
   /* Discard: removed, the dossier as on disk */
   {
-    EffluxWindow *window = efflux_window_new (NULL);
+    EffluxWindow *window = efflux_ui_test_open_window (file, 0, 0);
     EffluxDocument *document;
     GtkWidget *dialog;
 
-    gtk_window_present (GTK_WINDOW (window));
-    efflux_window_open (window, file);
     /* the dossier is the window's (and the offer made) once its cube is read */
     efflux_ui_test_wait_until_loaded_in_steps (window);
     document = efflux_window_get_document (window);

@@ -139,10 +139,7 @@ test_tracers (void)
 
   g_assert_nonnull (demo);
   file = g_file_new_for_path (demo);
-  window = efflux_window_new (NULL);
-  gtk_window_set_default_size (GTK_WINDOW (window), 1366, 740);
-  gtk_window_present (GTK_WINDOW (window));
-  efflux_window_open (window, file);
+  window = efflux_ui_test_open_window (file, 1366, 740);
   efflux_ui_test_wait_until_loaded (window);
   view = EFFLUX_CUT_VIEW (efflux_window_get_cut_view (window));
   tools = find_tools (window);
@@ -238,10 +235,7 @@ test_shells (void)
   g_assert_no_error (error);
 
   file = g_file_new_for_path (dpath);
-  window = efflux_window_new (NULL);
-  gtk_window_set_default_size (GTK_WINDOW (window), 1366, 740);
-  gtk_window_present (GTK_WINDOW (window));
-  efflux_window_open (window, file);
+  window = efflux_ui_test_open_window (file, 1366, 740);
   efflux_ui_test_wait_until_loaded (window);
   view = EFFLUX_CUT_VIEW (efflux_window_get_cut_view (window));
   tools = find_tools (window);

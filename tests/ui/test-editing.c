@@ -143,10 +143,7 @@ test_edit_demo (void)
 
   g_assert_nonnull (demo);
   file = g_file_new_for_path (demo);
-  window = efflux_window_new (NULL);
-  gtk_window_set_default_size (GTK_WINDOW (window), 1366, 740);
-  gtk_window_present (GTK_WINDOW (window));
-  efflux_window_open (window, file);
+  window = efflux_ui_test_open_window (file, 1366, 740);
   efflux_ui_test_iterate_until (window_ready, window, 60);
   efflux_ui_test_wait_for_frames (GTK_WIDGET (window), 3);
 

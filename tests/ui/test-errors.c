@@ -159,10 +159,8 @@ test_errors_keep_the_dossier (void)
   }
   g_assert_true (g_file_set_contents (junk, "This is a note, not a FITS file.\n", -1, &error));
 
-  window = efflux_window_new (NULL);
-  gtk_window_present (GTK_WINDOW (window));
   file = g_file_new_for_path (path);
-  efflux_window_open (window, file);
+  window = efflux_ui_test_open_window (file, 0, 0);
   efflux_ui_test_wait_until_loaded_in_steps (window);
   document = efflux_window_get_document (window);
   g_assert_nonnull (document);

@@ -48,9 +48,7 @@ open_demo (void)
 
   g_assert_nonnull (demo);
   file = g_file_new_for_path (demo);
-  window = efflux_window_new (NULL);
-  gtk_window_present (GTK_WINDOW (window));
-  efflux_window_open (window, file);
+  window = efflux_ui_test_open_window (file, 0, 0);
   efflux_ui_test_wait_until_loaded (window);
   g_assert_nonnull (efflux_window_get_document (window));
   return window;

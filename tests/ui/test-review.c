@@ -186,11 +186,8 @@ static EffluxWindow *
 open_window (const char *path)
 {
   g_autoptr(GFile) file = g_file_new_for_path (path);
-  EffluxWindow *window = efflux_window_new (NULL);
+  EffluxWindow *window = efflux_ui_test_open_window (file, 1300, 720);
 
-  gtk_window_set_default_size (GTK_WINDOW (window), 1300, 720);
-  gtk_window_present (GTK_WINDOW (window));
-  efflux_window_open (window, file);
   efflux_ui_test_poll_until_loaded (window);
   g_assert_nonnull (efflux_window_get_document (window));
   return window;

@@ -50,10 +50,7 @@ test_demo_opens (void)
   g_assert_nonnull (demo);
   file = g_file_new_for_path (demo);
 
-  window = efflux_window_new (NULL);
-  gtk_window_set_default_size (GTK_WINDOW (window), 1366, 740);
-  gtk_window_present (GTK_WINDOW (window));
-  efflux_window_open (window, file);
+  window = efflux_ui_test_open_window (file, 1366, 740);
   efflux_ui_test_wait_until_loaded (window);
 
   /* the title names the demo dossier's [Source] name and the program */
@@ -215,9 +212,7 @@ test_cube_opens (void)
   g_assert_true (efflux_moment_map (cube, EFFLUX_MOMENT_0, cube->velocity[0],
                                     cube->velocity[cube->nchan - 1], 0.0, map, &error));
 
-  window = efflux_window_new (NULL);
-  gtk_window_present (GTK_WINDOW (window));
-  efflux_window_open (window, file);
+  window = efflux_ui_test_open_window (file, 0, 0);
   efflux_ui_test_wait_until_loaded (window);
   g_assert_nonnull (strstr (efflux_window_get_status (window), "channels"));
   view = efflux_window_get_sky_view (window);
@@ -250,9 +245,7 @@ test_bad_file (void)
 
   g_assert_true (g_file_set_contents (path, "SIMPLE  = nonsense", -1, NULL));
   file = g_file_new_for_path (path);
-  window = efflux_window_new (NULL);
-  gtk_window_present (GTK_WINDOW (window));
-  efflux_window_open (window, file);
+  window = efflux_ui_test_open_window (file, 0, 0);
   efflux_ui_test_wait_until_loaded (window);
   g_test_message ("status: %s", efflux_window_get_status (window));
   g_assert_nonnull (strstr (efflux_window_get_status (window), "broken.fits"));
