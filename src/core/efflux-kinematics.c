@@ -130,6 +130,25 @@ efflux_kinematics_pv_sigma (const EffluxCube *cube)
   return (n % 2 == 1) ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
 }
 
+const EffluxDossierCut *
+efflux_kinematics_find_cut (const EffluxDossier  *dossier,
+                            const char           *cut_name,
+                            GError              **error)
+{
+  const EffluxDossierCut *cut = NULL;
+
+  for (guint i = 0; i < dossier->cuts->len; i++)
+    {
+      const EffluxDossierCut *c = g_ptr_array_index (dossier->cuts, i);
+      if (strcmp (c->name, cut_name) == 0)
+        cut = c;
+    }
+  if (cut == NULL)
+    g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: [Cut %s]: no such cut in the dossier",
+                 dossier->path, cut_name);
+  return cut;
+}
+
 gboolean
 efflux_dossier_cut_pv (const EffluxDossier *dossier,
                        const char          *cut_name,
@@ -144,18 +163,9 @@ efflux_dossier_cut_pv (const EffluxDossier *dossier,
 
   g_return_val_if_fail (dossier != NULL && cut_name != NULL && out != NULL, FALSE);
   memset (out, 0, sizeof *out);
-  for (guint i = 0; i < dossier->cuts->len; i++)
-    {
-      const EffluxDossierCut *c = g_ptr_array_index (dossier->cuts, i);
-      if (strcmp (c->name, cut_name) == 0)
-        cut = c;
-    }
+  cut = efflux_kinematics_find_cut (dossier, cut_name, error);
   if (cut == NULL)
-    {
-      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: [Cut %s]: no such cut in the dossier",
-                   dossier->path, cut_name);
-      return FALSE;
-    }
+    return FALSE;
   out->dc = efflux_dossier_find_cube (dossier, cube_id != NULL ? cube_id : cut->cube_id);
   if (out->dc == NULL)
     {

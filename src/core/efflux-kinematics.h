@@ -68,6 +68,12 @@ typedef struct
   double                   source_offset_arcsec; /* the source's offset along the cut */
 } EffluxDossierCutPv;
 
+/* The dossier's [Cut NAME] (the last one of that name), or NULL with the error
+ * "DOSSIER: [Cut NAME]: no such cut in the dossier". */
+const EffluxDossierCut *efflux_kinematics_find_cut (const EffluxDossier  *dossier,
+                                                    const char           *cut_name,
+                                                    GError              **error);
+
 gboolean efflux_dossier_cut_pv       (const EffluxDossier *dossier,
                                       const char          *cut_name,
                                       const char          *cube_id,

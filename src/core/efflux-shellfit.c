@@ -656,19 +656,7 @@ fit_lobe (const EffluxPv     *pv,
     r0 = g_new (double, nres);
     r1 = g_new (double, nres);
     jac = g_new (double, (gsize) nres * NPAR);
-    image_residuals (im, p, r0);
-    for (int q = 0; q < NPAR; q++)
-      {
-        double pp[NPAR], h = q == 0 ? 0.2 * DEG : 0.01;
-        memcpy (pp, p, sizeof pp);
-        /* z_min / z_max stays inside [0, ZMIN_MAX] */
-        if (q == 4 && pp[q] + h > ZMIN_MAX)
-          h = -h;
-        pp[q] += h;
-        image_residuals (im, pp, r1);
-        for (guint j = 0; j < nres; j++)
-          jac[(gsize) j * NPAR + q] = (r1[j] - r0[j]) / h;
-      }
+    jacobian (im, p, r0, r1, jac);
     for (guint j = 0; j < nres; j++)
       for (int a = 0; a < NPAR; a++)
         for (int b = 0; b < NPAR; b++)
@@ -1070,18 +1058,9 @@ efflux_shellfit_dossier_cube (const EffluxDossier          *dossier,
 
   if (options != NULL)
     opt = *options;
-  for (guint i = 0; i < dossier->cuts->len; i++)
-    {
-      const EffluxDossierCut *c = g_ptr_array_index (dossier->cuts, i);
-      if (strcmp (c->name, cut_name) == 0)
-        cut = c;
-    }
+  cut = efflux_kinematics_find_cut (dossier, cut_name, error);
   if (cut == NULL)
-    {
-      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: [Cut %s]: no such cut in the dossier",
-                   dossier->path, cut_name);
-      return NULL;
-    }
+    return NULL;
   ra_dec = efflux_dossier_cut_path (cut);
   pv = efflux_pv_cut (cube, ra_dec, cut->n_vertices, cut->width_arcsec, error);
   if (pv == NULL)
