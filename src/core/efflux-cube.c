@@ -1112,13 +1112,8 @@ efflux_cube_load (const char                  *path,
   wcserr_enable (1);
 
   /* --- the file itself ------------------------------------------------------------------- */
-  if (g_stat (path, &st) != 0)
-    {
-      int e = errno;
-      g_set_error (error, EFFLUX_ERROR, e == ENOENT ? EFFLUX_ERROR_INPUT : EFFLUX_ERROR_IO,
-                   "%s: cannot open: %s", path, g_strerror (e));
-      return NULL;
-    }
+  if (!efflux_fits_stat (path, &st, error))
+    return NULL;
   if (!S_ISREG (st.st_mode))
     {
       g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: not a regular file", path);
@@ -1293,10 +1288,7 @@ efflux_cube_load (const char                  *path,
   if (wcs == NULL)
     return NULL;
 
-  cube = g_new0 (EffluxCube, 1);
-  cube->notes = g_ptr_array_new_with_free_func (g_free);
-  cube->path = g_strdup (path);
-  cube->hdu = hdu;
+  cube = efflux_fits_new_cube (path, hdu);
   if (hdu > 1)
     efflux_cube_add_note (cube, "cube read from HDU %d (the first image extension with three axes or more)", hdu);
 
@@ -1370,38 +1362,8 @@ efflux_cube_load (const char                  *path,
       }
 
   /* wcslib's header fixes, each reported */
-  {
-    static const char *const fixname[NWCSFIX] = {
-      "cdfix", "datfix", "obsfix", "unitfix", "spcfix", "celfix", "cylfix",
-    };
-    int fixstat[NWCSFIX];
-    struct wcserr info[NWCSFIX];
-    int inaxes[MAX_AXES];
-
-    memset (info, 0, sizeof info);
-    for (int i = 0; i < naxis; i++)
-      inaxes[i] = naxes[i] > G_MAXINT ? G_MAXINT : (int) naxes[i];
-    wcsfixi (0, inaxes, wcs, fixstat, info);
-    for (int i = 0; i < NWCSFIX; i++)
-      {
-        if (info[i].msg != NULL)
-          {
-            if (fixstat[i] == FIXERR_SUCCESS && info[i].msg[0])
-              efflux_cube_add_note (cube, "header fixed by wcslib %s: %s", fixname[i], info[i].msg);
-            else if (fixstat[i] > 0 && info[i].msg[0])
-              efflux_cube_add_note (cube, "wcslib %s could not fix the header: %s", fixname[i], info[i].msg);
-            free (info[i].msg);
-          }
-        else if (fixstat[i] == FIXERR_SUCCESS)
-          efflux_cube_add_note (cube, "header fixed by wcslib %s", fixname[i]);
-      }
-  }
-  if (wcsset (wcs) != 0)
-    {
-      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: CTYPE/CRVAL/CDELT: the WCS cannot be used: %s",
-                   path, wcs->err && wcs->err->msg ? wcs->err->msg : "wcslib refused it");
-      goto out;
-    }
+  if (!efflux_fits_fix_wcs (wcs, naxes, naxis, cube, path, error))
+    goto out;
   ilng = wcs->lng;
   ilat = wcs->lat;
   if (wcs->spec >= 0)

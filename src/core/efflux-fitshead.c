@@ -3,12 +3,14 @@
  * efflux-fitshead.h). */
 #include "config.h"
 
+#include <errno.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include <wcslib/wcs.h>
 #include <wcslib/wcserr.h>
+#include <wcslib/wcsfix.h>
 #include <wcslib/wcshdr.h>
 #include <wcslib/wcsmath.h>
 
@@ -39,6 +41,34 @@ efflux_fits_set_error (GError     **error,
     g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: %s: %s (%s)", path, what, text, detail);
   else
     g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: %s: %s", path, what, text);
+}
+
+gboolean
+efflux_fits_stat (const char  *path,
+                  GStatBuf    *st,
+                  GError     **error)
+{
+  if (g_stat (path, st) != 0)
+    {
+      int e = errno;
+
+      g_set_error (error, EFFLUX_ERROR, e == ENOENT ? EFFLUX_ERROR_INPUT : EFFLUX_ERROR_IO,
+                   "%s: cannot open: %s", path, g_strerror (e));
+      return FALSE;
+    }
+  return TRUE;
+}
+
+EffluxCube *
+efflux_fits_new_cube (const char *path,
+                      int         hdu)
+{
+  EffluxCube *cube = g_new0 (EffluxCube, 1);
+
+  cube->notes = g_ptr_array_new_with_free_func (g_free);
+  cube->path = g_strdup (path);
+  cube->hdu = hdu;
+  return cube;
 }
 
 void
@@ -204,6 +234,47 @@ efflux_fits_read_wcs (fitsfile        *f,
         break;
       }
   return wcs;
+}
+
+gboolean
+efflux_fits_fix_wcs (struct wcsprm   *wcs,
+                     const LONGLONG  *naxes,
+                     int              naxis,
+                     EffluxCube      *report_to,
+                     const char      *path,
+                     GError         **error)
+{
+  static const char *const fixname[NWCSFIX] = {
+    "cdfix", "datfix", "obsfix", "unitfix", "spcfix", "celfix", "cylfix",
+  };
+  int fixstat[NWCSFIX];
+  struct wcserr info[NWCSFIX];
+  g_autofree int *inaxes = g_new (int, MAX (wcs->naxis, 1));
+
+  memset (info, 0, sizeof info);
+  for (int i = 0; i < wcs->naxis; i++)
+    inaxes[i] = i >= naxis ? 1 : naxes[i] > G_MAXINT ? G_MAXINT : (int) naxes[i];
+  wcsfixi (0, inaxes, wcs, fixstat, info);
+  for (int i = 0; i < NWCSFIX; i++)
+    {
+      if (info[i].msg != NULL)
+        {
+          if (report_to != NULL && fixstat[i] == FIXERR_SUCCESS && info[i].msg[0])
+            efflux_cube_add_note (report_to, "header fixed by wcslib %s: %s", fixname[i], info[i].msg);
+          else if (report_to != NULL && fixstat[i] > 0 && info[i].msg[0])
+            efflux_cube_add_note (report_to, "wcslib %s could not fix the header: %s", fixname[i], info[i].msg);
+          free (info[i].msg);
+        }
+      else if (report_to != NULL && fixstat[i] == FIXERR_SUCCESS)
+        efflux_cube_add_note (report_to, "header fixed by wcslib %s", fixname[i]);
+    }
+  if (wcsset (wcs) != 0)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: CTYPE/CRVAL/CDELT: the WCS cannot be used: %s",
+                   path, wcs->err && wcs->err->msg ? wcs->err->msg : "wcslib refused it");
+      return FALSE;
+    }
+  return TRUE;
 }
 
 gboolean

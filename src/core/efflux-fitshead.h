@@ -7,6 +7,7 @@
 
 #include <fitsio.h>
 #include <glib.h>
+#include <glib/gstdio.h>
 
 #include "efflux-cube.h"
 
@@ -18,6 +19,16 @@ void efflux_fits_set_error (GError     **error,
                             const char  *path,
                             int          status,
                             const char  *what);
+
+/* g_stat of PATH into *ST; FALSE with "PATH: cannot open: REASON" (EFFLUX_ERROR_INPUT for a
+ * missing file, EFFLUX_ERROR_IO otherwise). */
+gboolean efflux_fits_stat (const char  *path,
+                           GStatBuf    *st,
+                           GError     **error);
+
+/* A new, empty EffluxCube for PATH's HDU (notes array made, nothing else set). */
+EffluxCube *efflux_fits_new_cube (const char *path,
+                                  int         hdu);
 
 /* Closes a CFITSIO file, ignoring NULL (the g_autoptr cleanup below). */
 void efflux_fits_close (fitsfile *f);
@@ -52,6 +63,16 @@ struct wcsprm *efflux_fits_read_wcs (fitsfile        *f,
                                      int             *nwcs,
                                      struct wcsprm  **wcsarr,
                                      GError         **error);
+
+/* wcslib's header fixes (wcsfixi; the axis lengths NAXES of the NAXIS data axes, 1 beyond them)
+ * then wcsset. Each fix is reported as a note of REPORT_TO unless it is NULL. FALSE with
+ * "PATH: CTYPE/CRVAL/CDELT: the WCS cannot be used: WCSLIB'S REASON" when wcsset refuses. */
+gboolean efflux_fits_fix_wcs (struct wcsprm   *wcs,
+                              const LONGLONG  *naxes,
+                              int              naxis,
+                              EffluxCube      *report_to,
+                              const char      *path,
+                              GError         **error);
 
 /* The celestial frame and equinox of WCS (after wcsset) into cube->frame and cube->equinox, with
  * the FITS defaults for a missing RADESYS or EQUINOX (ICRS without either, FK4 before 1984, FK5

@@ -44,14 +44,8 @@ efflux_image_load (const char  *path,
   g_return_val_if_fail (path != NULL, NULL);
   wcserr_enable (1);
 
-  if (g_stat (path, &st) != 0)
-    {
-      int e = errno;
-
-      g_set_error (error, EFFLUX_ERROR, e == ENOENT ? EFFLUX_ERROR_INPUT : EFFLUX_ERROR_IO,
-                   "%s: cannot open: %s", path, g_strerror (e));
-      return NULL;
-    }
+  if (!efflux_fits_stat (path, &st, error))
+    return NULL;
   if (!S_ISREG (st.st_mode) || st.st_size == 0)
     {
       g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
@@ -143,35 +137,15 @@ efflux_image_load (const char  *path,
       return NULL;
   }
 
-  image = g_new0 (EffluxCube, 1);
-  image->notes = g_ptr_array_new_with_free_func (g_free);
-  image->path = g_strdup (path);
-  image->hdu = chosen;
+  image = efflux_fits_new_cube (path, chosen);
   if (wcs->naxis > MAX_AXES)
     {
       g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
                    "%s: WCSAXES = %d: more than %d axes", path, wcs->naxis, MAX_AXES);
       goto out;
     }
-  {
-    int fixstat[NWCSFIX];
-    struct wcserr info[NWCSFIX];
-    int inaxes[MAX_AXES];
-
-    memset (info, 0, sizeof info);
-    for (int i = 0; i < wcs->naxis; i++)
-      inaxes[i] = i >= naxis ? 1 : naxes[i] > G_MAXINT ? G_MAXINT : (int) naxes[i];
-    wcsfixi (0, inaxes, wcs, fixstat, info);
-    for (int i = 0; i < NWCSFIX; i++)
-      free (info[i].msg);
-  }
-  if (wcsset (wcs) != 0)
-    {
-      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                   "%s: CTYPE/CRVAL/CDELT: the WCS cannot be used: %s",
-                   path, wcs->err && wcs->err->msg ? wcs->err->msg : "wcslib refused it");
-      goto out;
-    }
+  if (!efflux_fits_fix_wcs (wcs, naxes, naxis, NULL, path, error))
+    goto out;
   ilng = wcs->lng;
   ilat = wcs->lat;
   if (ilng < 0 || ilat < 0)
