@@ -48,7 +48,7 @@ typedef enum
   STEPS_20MS, /* efflux_ui_test_iterate_ms (20) */
 } Iteration;
 
-/* Iterate while cond (data) is `holds`, at most `seconds`. */
+/* Iterate while cond (data) is `holds`, at most `seconds`; then assert it no longer is. */
 static void
 run_while (EffluxUiTestCondition cond,
            gpointer              data,
@@ -67,6 +67,10 @@ run_while (EffluxUiTestCondition cond,
       else
         efflux_ui_test_iterate_ms (20);
     }
+  if (holds)
+    g_assert_false (cond (data));
+  else
+    g_assert_true (cond (data));
 }
 
 void
@@ -75,7 +79,6 @@ efflux_ui_test_iterate_until (EffluxUiTestCondition done,
                               double                seconds)
 {
   run_while (done, data, FALSE, seconds, BLOCKING);
-  g_assert_true (done (data));
 }
 
 void
@@ -84,7 +87,6 @@ efflux_ui_test_poll_until (EffluxUiTestCondition done,
                            double                seconds)
 {
   run_while (done, data, FALSE, seconds, POLLING);
-  g_assert_true (done (data));
 }
 
 void
@@ -93,7 +95,6 @@ efflux_ui_test_iterate_while (EffluxUiTestCondition cond,
                               double                seconds)
 {
   run_while (cond, data, TRUE, seconds, BLOCKING);
-  g_assert_false (cond (data));
 }
 
 /* ---- windows ---- */
@@ -120,25 +121,29 @@ window_is_loading (gpointer window)
   return efflux_window_is_loading (window);
 }
 
+static void
+wait_loaded (EffluxWindow *window,
+             Iteration     how)
+{
+  run_while (window_is_loading, window, TRUE, 60, how);
+}
+
 void
 efflux_ui_test_wait_until_loaded (EffluxWindow *window)
 {
-  run_while (window_is_loading, window, TRUE, 60, BLOCKING);
-  g_assert_false (efflux_window_is_loading (window));
+  wait_loaded (window, BLOCKING);
 }
 
 void
 efflux_ui_test_wait_until_loaded_in_steps (EffluxWindow *window)
 {
-  run_while (window_is_loading, window, TRUE, 60, STEPS_20MS);
-  g_assert_false (efflux_window_is_loading (window));
+  wait_loaded (window, STEPS_20MS);
 }
 
 void
 efflux_ui_test_poll_until_loaded (EffluxWindow *window)
 {
-  run_while (window_is_loading, window, TRUE, 60, POLLING);
-  g_assert_false (efflux_window_is_loading (window));
+  wait_loaded (window, POLLING);
 }
 
 /* ---- frames, rendering and screenshots ---- */

@@ -59,6 +59,22 @@ wait_for_tools (EffluxCutTools *tools,
   g_assert_false (efflux_cut_tools_get_busy (tools));
 }
 
+/* A window on path, loaded, and its Cut view with the set the tools made. */
+static EffluxWindow *
+open_cut_window (const char      *path,
+                 EffluxCutView  **view,
+                 EffluxCutTools **tools)
+{
+  g_autoptr(GFile) file = g_file_new_for_path (path);
+  EffluxWindow *window = efflux_ui_test_open_window (file, 1366, 740);
+
+  efflux_ui_test_wait_until_loaded (window);
+  *view = EFFLUX_CUT_VIEW (efflux_window_get_cut_view (window));
+  *tools = find_tools (window);
+  wait_for_tools (*tools, *view, TRUE);
+  return window;
+}
+
 /* The dossier's rms-k of each cube of the set (NaN when it gives none). */
 static double set_rms_k[8];
 
@@ -123,7 +139,6 @@ static void
 test_tracers (void)
 {
   g_autofree char *demo = efflux_application_find_demo ();
-  g_autoptr(GFile) file = NULL;
   g_autoptr(GError) error = NULL;
   g_autoptr(EffluxDossier) dossier = NULL;
   g_autoptr(EffluxPvSet) ref = NULL;
@@ -138,12 +153,7 @@ test_tracers (void)
   guint n = 0, sio = G_MAXUINT;
 
   g_assert_nonnull (demo);
-  file = g_file_new_for_path (demo);
-  window = efflux_ui_test_open_window (file, 1366, 740);
-  efflux_ui_test_wait_until_loaded (window);
-  view = EFFLUX_CUT_VIEW (efflux_window_get_cut_view (window));
-  tools = find_tools (window);
-  wait_for_tools (tools, view, TRUE);
+  window = open_cut_window (demo, &view, &tools);
 
   /* the core's set: the cut's cube first, then the dossier's other cubes in order */
   dossier = efflux_dossier_load (demo, &error);
@@ -213,7 +223,6 @@ test_shells (void)
   g_autoptr(EffluxSynthRecipe) rc = NULL;
   g_autoptr(EffluxDossier) dossier = NULL;
   g_autoptr(EffluxShellFit) ref = NULL;
-  g_autoptr(GFile) file = NULL;
   const EffluxShellFit *fit;
   const EffluxDossier *d;
   EffluxWindow *window;
@@ -234,12 +243,7 @@ test_shells (void)
   ref = efflux_shellfit_dossier (dossier, "axis", NULL, &error);
   g_assert_no_error (error);
 
-  file = g_file_new_for_path (dpath);
-  window = efflux_ui_test_open_window (file, 1366, 740);
-  efflux_ui_test_wait_until_loaded (window);
-  view = EFFLUX_CUT_VIEW (efflux_window_get_cut_view (window));
-  tools = find_tools (window);
-  wait_for_tools (tools, view, TRUE);
+  window = open_cut_window (dpath, &view, &tools);
   document = efflux_window_get_document (window);
   g_assert_nonnull (document);
   d = efflux_document_get_dossier (document);
