@@ -251,3 +251,26 @@ efflux_test_json_number (const char *json,
     g_error ("\"%s\" is not a number in %s", key, json);
   return v;
 }
+
+char *
+efflux_test_pixel_square (const EffluxCube *cube,
+                          int               x0,
+                          int               y0,
+                          int               x1,
+                          int               y1)
+{
+  double xs[4] = { x0 - 0.5, x1 + 0.5, x1 + 0.5, x0 - 0.5 };
+  double ys[4] = { y0 - 0.5, y0 - 0.5, y1 + 0.5, y1 + 0.5 };
+  GString *s = g_string_new (NULL);
+
+  for (int i = 0; i < 4; i++)
+    {
+      double ra, dec;
+      char a[G_ASCII_DTOSTR_BUF_SIZE], b[G_ASCII_DTOSTR_BUF_SIZE];
+
+      g_assert_true (efflux_cube_pixel_to_icrs (cube, xs[i], ys[i], &ra, &dec));
+      g_string_append_printf (s, "%s%s,%s", i ? ";" : "", g_ascii_formatd (a, sizeof a, "%.12f", ra),
+                              g_ascii_formatd (b, sizeof b, "%.12f", dec));
+    }
+  return g_string_free (s, FALSE);
+}

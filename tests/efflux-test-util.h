@@ -6,6 +6,8 @@
 
 #include <glib.h>
 
+#include "efflux-cube.h"
+
 G_BEGIN_DECLS
 
 /* --- files and folders ------------------------------------------------------------------------ */
@@ -60,6 +62,16 @@ GHashTable *efflux_test_parse_named    (const char *text);
 double     *efflux_test_read_f64       (const char *dir,
                                         const char *name,
                                         gsize      *n);
+
+/* --- sky --------------------------------------------------------------------------------------- */
+
+/* "ra,dec;..." (degrees, ICRS, through the cube's WCS) of the pixel square whose pixel centres
+ * x0..x1, y0..y1 (0-based, inclusive) are inside: a dossier lobe's outline. */
+char       *efflux_test_pixel_square   (const EffluxCube *cube,
+                                        int               x0,
+                                        int               y0,
+                                        int               x1,
+                                        int               y1);
 
 /* --- numbers ----------------------------------------------------------------------------------- */
 

@@ -62,28 +62,6 @@ fixture_tear_down (Fixture      *f,
   efflux_cube_free (f->cube);
 }
 
-/* "ra,dec;..." of the pixel square whose pixel centres x0..x1, y0..y1 (inclusive) are inside. */
-static char *
-square (const EffluxCube *cube,
-        int x0, int y0,
-        int x1, int y1)
-{
-  double xs[4] = { x0 - 0.5, x1 + 0.5, x1 + 0.5, x0 - 0.5 };
-  double ys[4] = { y0 - 0.5, y0 - 0.5, y1 + 0.5, y1 + 0.5 };
-  GString *s = g_string_new (NULL);
-
-  for (int i = 0; i < 4; i++)
-    {
-      double ra, dec;
-      char a[G_ASCII_DTOSTR_BUF_SIZE], b[G_ASCII_DTOSTR_BUF_SIZE];
-
-      g_assert_true (efflux_cube_pixel_to_icrs (cube, xs[i], ys[i], &ra, &dec));
-      g_string_append_printf (s, "%s%s,%s", i ? ";" : "", g_ascii_formatd (a, sizeof a, "%.12f", ra),
-                              g_ascii_formatd (b, sizeof b, "%.12f", dec));
-    }
-  return g_string_free (s, FALSE);
-}
-
 static char *
 write_dossier (Fixture    *f,
                const char *file,
@@ -130,12 +108,12 @@ make_pair (Fixture *f,
            char   **mine_path,
            char   **theirs_path)
 {
-  g_autofree char *a = square (f->cube, 10, 10, 19, 19);
-  g_autofree char *b = square (f->cube, 15, 10, 24, 19);
-  g_autofree char *c = square (f->cube, 10, 25, 19, 34);
-  g_autofree char *d = square (f->cube, 10, 27, 19, 36);
-  g_autofree char *e = square (f->cube, 18, 25, 22, 29);
-  g_autofree char *g = square (f->cube, 26, 2, 30, 6);
+  g_autofree char *a = efflux_test_pixel_square (f->cube, 10, 10, 19, 19);
+  g_autofree char *b = efflux_test_pixel_square (f->cube, 15, 10, 24, 19);
+  g_autofree char *c = efflux_test_pixel_square (f->cube, 10, 25, 19, 34);
+  g_autofree char *d = efflux_test_pixel_square (f->cube, 10, 27, 19, 36);
+  g_autofree char *e = efflux_test_pixel_square (f->cube, 18, 25, 22, 29);
+  g_autofree char *g = efflux_test_pixel_square (f->cube, 26, 2, 30, 6);
   g_autofree char *m1 = lobe ("blue-1", "blue", a, "-5.5;-0.5", "Me");
   g_autofree char *m2 = lobe ("red-1", "red", c, "0.5;5.5", "Me");
   g_autofree char *t1 = lobe ("R-small", "red", e, "0.5;5.5", "A. Colleague");

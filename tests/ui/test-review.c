@@ -31,6 +31,7 @@
 #include "efflux-sample.h"
 #include "efflux-sky-view.h"
 #include "efflux-window.h"
+#include "efflux-test-util.h"
 #include "efflux-ui-test-util.h"
 
 #define REST_12CO21 230.538e9
@@ -56,28 +57,6 @@ wait_compared (EffluxReviewSheet *sheet)
   while (efflux_review_sheet_is_busy (sheet) && g_get_monotonic_time () < deadline)
     efflux_ui_test_iterate ();
   g_assert_false (efflux_review_sheet_is_busy (sheet));
-}
-
-/* "ra,dec;..." of the pixel square whose pixel centres x0..x1, y0..y1 (inclusive) are inside. */
-static char *
-square (const EffluxCube *cube,
-        int x0, int y0,
-        int x1, int y1)
-{
-  double xs[4] = { x0 - 0.5, x1 + 0.5, x1 + 0.5, x0 - 0.5 };
-  double ys[4] = { y0 - 0.5, y0 - 0.5, y1 + 0.5, y1 + 0.5 };
-  GString *s = g_string_new (NULL);
-
-  for (int i = 0; i < 4; i++)
-    {
-      double ra, dec;
-      char a[G_ASCII_DTOSTR_BUF_SIZE], b[G_ASCII_DTOSTR_BUF_SIZE];
-
-      g_assert_true (efflux_cube_pixel_to_icrs (cube, xs[i], ys[i], &ra, &dec));
-      g_string_append_printf (s, "%s%s,%s", i ? ";" : "", g_ascii_formatd (a, sizeof a, "%.12f", ra),
-                              g_ascii_formatd (b, sizeof b, "%.12f", dec));
-    }
-  return g_string_free (s, FALSE);
 }
 
 static char *
@@ -137,10 +116,10 @@ fixture_set_up (Fixture      *f,
   g_assert_true (efflux_fits_write_cube (f->cube, path, NULL, &error));
   g_assert_no_error (error);
 
-  a = square (f->cube, 10, 10, 19, 19);
-  b = square (f->cube, 15, 10, 24, 19);
-  c = square (f->cube, 10, 25, 19, 34);
-  d = square (f->cube, 26, 2, 30, 6);
+  a = efflux_test_pixel_square (f->cube, 10, 10, 19, 19);
+  b = efflux_test_pixel_square (f->cube, 15, 10, 24, 19);
+  c = efflux_test_pixel_square (f->cube, 10, 25, 19, 34);
+  d = efflux_test_pixel_square (f->cube, 26, 2, 30, 6);
   m1 = lobe ("blue-1", "blue", a, "-5.5;-0.5", "Me");
   m2 = lobe ("red-1", "red", c, "0.5;5.5", "Me");
   t1 = lobe ("blue-1", "blue", b, "-5.5;-0.5", "A. Colleague");
