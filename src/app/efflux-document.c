@@ -3,6 +3,7 @@
 
 #include "config.h"
 
+#include <glib/gi18n.h>
 #include <math.h>
 #include <string.h>
 
@@ -588,7 +589,7 @@ no_lobe (EffluxDocument  *self,
 {
   if (efflux_dossier_find_lobe (self->dossier, lobe) != NULL)
     return FALSE;
-  g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: [Lobe %s]: no such lobe",
+  g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, _("%s: [Lobe %s]: no such lobe"),
                self->dossier->path, lobe);
   return TRUE;
 }
@@ -1125,7 +1126,7 @@ load_cubes_shared (const EffluxDossier  *d,
       cube = efflux_cube_store_load (dc->abs_path, &options, cancellable, NULL, NULL, error);
       if (cube == NULL)
         {
-          g_prefix_error (error, "%s: [Cube %s] path: ", d->path, dc->id);
+          g_prefix_error (error, _("%s: [Cube %s] path: "), d->path, dc->id);
           return NULL;
         }
       g_hash_table_insert (cubes, g_strdup (dc->id), cube);

@@ -1638,7 +1638,7 @@ commit_outline (EffluxSkyView *self,
     {
       /* the measurement refuses such outlines: the lobe keeps its last good shape */
       g_set_error (&error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
-                   "%s: [Lobe %s] polygon: the outline would cross itself",
+                   _("%s: [Lobe %s] polygon: the outline would cross itself"),
                    current_dossier (self)->path, lobe);
       set_edit_error (self, error);
       return;

@@ -435,7 +435,7 @@ efflux_sources_set_folder (EffluxSources  *self,
       dir = g_dir_open (path, 0, &local);
       if (dir == NULL)
         {
-          g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: cannot read the folder: %s",
+          g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, _("%s: cannot read the folder: %s"),
                        path, local->message);
           return FALSE;
         }
