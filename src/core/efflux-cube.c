@@ -1095,6 +1095,56 @@ format_gib (guint64 bytes)
   return g_strdup_printf ("%.1f GiB", (double) bytes / (1024.0 * 1024.0 * 1024.0));
 }
 
+/* The three data axes (longitude, latitude, spectral) in file order, fastest first; TRUE when the
+ * planes of the slowest are contiguous in the file (every other axis before it has length 1). */
+static gboolean
+data_axes_in_file_order (const LONGLONG *naxes,
+                         int             ilng,
+                         int             ilat,
+                         int             ispec,
+                         int             ax[3])
+{
+  gboolean contiguous = TRUE;
+
+  ax[0] = ilng;
+  ax[1] = ilat;
+  ax[2] = ispec;
+  for (int a = 0; a < 3; a++)
+    for (int b = a + 1; b < 3; b++)
+      if (ax[b] < ax[a])
+        {
+          int t = ax[a];
+          ax[a] = ax[b];
+          ax[b] = t;
+        }
+  for (int i = 0; i < ax[2]; i++)
+    if (i != ax[0] && i != ax[1] && naxes[i] != 1)
+      contiguous = FALSE;
+  return contiguous;
+}
+
+/* Whether the data are big-endian float32 words as they stand in the file: not gzipped, not tile
+ * compressed, BITPIX = -32 and no scaling (BSCALE = 1, BZERO = 0), the planes contiguous. */
+static gboolean
+data_is_raw_float (fitsfile *f,
+                   gboolean  gz,
+                   gboolean  tile_compressed,
+                   int       bitpix,
+                   gboolean  contiguous)
+{
+  double bscale = 1.0, bzero = 0.0;
+  int s1 = 0, s2 = 0;
+
+  if (gz || tile_compressed || bitpix != FLOAT_IMG || !contiguous)
+    return FALSE;
+  if (fits_read_key (f, TDOUBLE, "BSCALE", &bscale, NULL, &s1) != 0)
+    bscale = 1.0;
+  if (fits_read_key (f, TDOUBLE, "BZERO", &bzero, NULL, &s2) != 0)
+    bzero = 0.0;
+  fits_clear_errmsg ();
+  return bscale == 1.0 && bzero == 0.0;
+}
+
 EffluxCube *
 efflux_cube_load (const char                  *path,
                   const EffluxCubeLoadOptions *options,
@@ -1737,6 +1787,45 @@ efflux_cube_load (const char                  *path,
         }
     }
 
+  /* --- where the data lie, and the header alone (options->layout, options->header_only) --- */
+  if (options != NULL && (options->layout != NULL || options->header_only))
+    {
+      EffluxCubeFileLayout layout = { 0 };
+      int ax[3];
+      gboolean contiguous = data_axes_in_file_order (naxes, ilng, ilat, ispec, ax);
+
+      layout.raw_float = data_is_raw_float (f, gz, tile_compressed, bitpix, contiguous);
+      layout.spectral_slowest = ax[2] == ispec;
+      layout.lng_fastest = ax[0] == ilng;
+      if (layout.raw_float)
+        {
+          LONGLONG headstart = 0, datastart = 0, dataend = 0;
+
+          fits_get_hduaddrll (f, &headstart, &datastart, &dataend, &status);
+          if (status != 0)
+            {
+              efflux_fits_set_error (error, path, status, "cannot read the image header");
+              goto out;
+            }
+          layout.data_offset = (guint64) datastart;
+          if (layout.spectral_slowest)
+            {
+              layout.channel_stride = (guint64) nx * ny * sizeof (float);
+              layout.data_offset += (guint64) k_first * layout.channel_stride;
+            }
+        }
+      if (options->layout != NULL)
+        *options->layout = layout;
+      if (options->header_only)
+        {
+          cube->rms = g_new0 (float, nchan);
+          if (progress != NULL)
+            progress (1.0, progress_data);
+          ok = TRUE;
+          goto out;
+        }
+    }
+
   /* --- memory ---------------------------------------------------------------------------- */
   {
     guint64 avail = efflux_memory_available ();
@@ -1778,20 +1867,10 @@ efflux_cube_load (const char                  *path,
     out_stride[ilat] = nx * nchan;
     out_stride[ispec] = 1;
     /* the three axes in file order */
-    for (int a = 0; a < 3; a++)
-      for (int b = a + 1; b < 3; b++)
-        if (ax[b] < ax[a])
-          {
-            int t = ax[a];
-            ax[a] = ax[b];
-            ax[b] = t;
-          }
+    contiguous = data_axes_in_file_order (naxes, ilng, ilat, ispec, ax);
     a0 = ax[0];
     a1 = ax[1];
     a2 = ax[2];
-    for (int i = 0; i < a2; i++)
-      if (i != a0 && i != a1 && naxes[i] != 1)
-        contiguous = FALSE;
     plane = (gsize) naxes[a0] * (gsize) naxes[a1];
     n_slow = a2 == ispec ? nchan : (gsize) naxes[a2];
     /* about 4 MiB per chunk, at most 32 slices of the slowest axis */
@@ -1802,18 +1881,7 @@ efflux_cube_load (const char                  *path,
     loops[1] = (Loop) { (gsize) naxes[a1], out_stride[a1], (gsize) naxes[a0] };
     loops[2] = (Loop) { 0, out_stride[a2], plane };
 
-    if (!gz && !tile_compressed && bitpix == FLOAT_IMG && contiguous)
-      {
-        double bscale = 1.0, bzero = 0.0;
-        int s1 = 0, s2 = 0;
-
-        if (fits_read_key (f, TDOUBLE, "BSCALE", &bscale, NULL, &s1) != 0)
-          bscale = 1.0;
-        if (fits_read_key (f, TDOUBLE, "BZERO", &bzero, NULL, &s2) != 0)
-          bzero = 0.0;
-        fits_clear_errmsg ();
-        raw = bscale == 1.0 && bzero == 0.0;
-      }
+    raw = data_is_raw_float (f, gz, tile_compressed, bitpix, contiguous);
 
     if (raw)
       {

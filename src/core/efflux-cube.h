@@ -70,6 +70,20 @@ typedef struct
   GPtrArray            *notes;           /* char *: header fixes and warnings, one line each */
 } EffluxCube;
 
+/* Where and how a cube's data lie in its file (efflux_cube_load's options->layout): what a reader
+ * that streams the data straight from the file needs (efflux-momentstream.c). */
+typedef struct
+{
+  /* uncompressed, not gzipped, BITPIX = -32 with no BSCALE/BZERO scaling, the sky planes
+   * contiguous (the loader's pread fast path): big-endian IEEE floats at data_offset */
+  gboolean raw_float;
+  gboolean spectral_slowest;  /* the spectral axis is the slowest of the three data axes */
+  gboolean lng_fastest;       /* the longitude axis is the fastest: a plane is ny rows of nx values */
+  guint64  data_offset;       /* file offset of the cube's first channel (after a channel subset) */
+  guint64  channel_stride;    /* bytes from one channel's plane to the next (raw_float and
+                               * spectral_slowest only; 0 otherwise) */
+} EffluxCubeFileLayout;
+
 typedef struct
 {
   int  hdu;          /* 0: the primary HDU or the first image extension holding a cube */
@@ -82,6 +96,13 @@ typedef struct
    * efflux_cube_channel_range on the loaded cube either way. */
   gboolean channel_subset;
   double   v1_kms, v2_kms;
+  /* Optional (FALSE: the data are read). TRUE: the header alone, with every check and conversion
+   * of a full load (velocity[], k_per_unit[], sky WCS, beam, units, notes; the channel subset
+   * above applies), data NULL and rms zeroed; the memory check, the read and the data checks (no
+   * finite value) are skipped. For callers that read the data themselves. */
+  gboolean header_only;
+  /* Optional (NULL): filled with where the data lie in the file, with or without header_only. */
+  EffluxCubeFileLayout *layout;
 } EffluxCubeLoadOptions;
 
 /* Read a FITS cube. Errors are EFFLUX_ERROR_* with one line naming the file and the header card. */
