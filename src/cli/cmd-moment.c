@@ -11,6 +11,7 @@
 #include "efflux-cube.h"
 #include "efflux-fitsout.h"
 #include "efflux-maps.h"
+#include "efflux-momentstream.h"
 
 /* "V1:V2" in km/s, '.' decimal point. */
 static gboolean
@@ -102,14 +103,29 @@ efflux_cmd_moment (int    argc,
   if (!efflux_cli_check_output ("-o", output, &status))
     return status;
 
-  load.no_noise = clip_sigma <= 0.0;
-  /* read only the channels of the range (and estimate the noise of those alone) */
-  load.channel_subset = TRUE;
-  load.v1_kms = v1;
-  load.v2_kms = v2;
-  cube = efflux_cube_load (rest[0], &load, NULL, NULL, NULL, &error);
+  /* Without a clip, the map is summed straight from the file when its data allow (unscaled
+   * float32, the spectral axis slowest): no cube in memory, the same map bitwise. Anything else
+   * goes through the loaded cube below, which also gives the errors of the cases not streamed. */
+  if (clip_sigma <= 0.0)
+    {
+      EffluxMomentStreamResult r = efflux_moment_stream_file (rest[0], 0, order, v1, v2, NULL,
+                                                              &cube, &image, &error);
+
+      if (r == EFFLUX_MOMENT_STREAM_FAILED)
+        return efflux_cli_fail (error);
+    }
+
   if (cube == NULL)
-    return efflux_cli_fail (error);
+    {
+      load.no_noise = clip_sigma <= 0.0;
+      /* read only the channels of the range (and estimate the noise of those alone) */
+      load.channel_subset = TRUE;
+      load.v1_kms = v1;
+      load.v2_kms = v2;
+      cube = efflux_cube_load (rest[0], &load, NULL, NULL, NULL, &error);
+      if (cube == NULL)
+        return efflux_cli_fail (error);
+    }
 
   if (!efflux_cube_channel_range (cube, v1, v2, &k0, &k1))
     {
@@ -122,14 +138,17 @@ efflux_cmd_moment (int    argc,
       return efflux_cli_fail (error);
     }
 
-  image = g_try_new (float, cube->nx * cube->ny);
   if (image == NULL)
     {
-      g_set_error (&error, EFFLUX_ERROR, EFFLUX_ERROR_MEMORY, "%s: no memory for the map", rest[0]);
-      return efflux_cli_fail (error);
+      image = g_try_new (float, cube->nx * cube->ny);
+      if (image == NULL)
+        {
+          g_set_error (&error, EFFLUX_ERROR, EFFLUX_ERROR_MEMORY, "%s: no memory for the map", rest[0]);
+          return efflux_cli_fail (error);
+        }
+      if (!efflux_moment_map (cube, order, v1, v2, clip_sigma, image, &error))
+        return efflux_cli_fail (error);
     }
-  if (!efflux_moment_map (cube, order, v1, v2, clip_sigma, image, &error))
-    return efflux_cli_fail (error);
 
   {
     g_autofree char *lo = format_number (MIN (v1, v2));
