@@ -7,6 +7,7 @@
 #include <math.h>
 
 #include "efflux-ledger.h"
+#include "efflux-ledger-cell.h"
 #include "efflux-plot.h"
 
 /* ---- row objects ---- */
@@ -189,15 +190,19 @@ struct _EffluxLedger
 
 G_DEFINE_FINAL_TYPE (EffluxLedger, efflux_ledger, GTK_TYPE_WIDGET)
 
+/* A cell shows its row's number for its column: the markup and the Monte Carlo spread in the
+ * tooltip. A result with new numbers redraws the cells; only a number wider than its column asks
+ * for a new layout (EffluxLedgerCell). */
 static void
-update_label (EffluxLedgerRow *row,
-              GtkLabel        *label)
+update_cell (EffluxLedgerRow  *row,
+             EffluxLedgerCell *cell)
 {
-  EffluxLedgerColumn column = GPOINTER_TO_UINT (g_object_get_data (G_OBJECT (label),
+  EffluxLedgerColumn column = GPOINTER_TO_UINT (g_object_get_data (G_OBJECT (cell),
                                                                    "efflux-column"));
   g_autofree char *text = efflux_ledger_cell_text (&row->row, column);
   g_auto(GStrv) lines = g_strsplit (text, "\n", 2);
   g_autofree char *markup = NULL;
+  g_autofree char *tip = NULL;
 
   if (lines[0] != NULL && lines[1] != NULL)
     {
@@ -205,6 +210,9 @@ update_label (EffluxLedgerRow *row,
       g_autofree char *b = g_markup_escape_text (lines[1], -1);
 
       markup = g_strdup_printf ("%s\n<small>%s</small>", a, b);
+      /* Translators: tooltip of a ledger cell: the Monte Carlo spread */
+      tip = g_strdup_printf (_("noise error: %s\nMonte Carlo 16th–84th percentiles: %s"),
+                             lines[0], lines[1]);
     }
   else
     markup = g_markup_escape_text (text, -1);
@@ -214,18 +222,7 @@ update_label (EffluxLedgerRow *row,
 
       markup = g_strdup_printf ("<b>%s</b>", plain);
     }
-  gtk_label_set_markup (label, markup);
-  /* the MC spread in the tooltip too, named */
-  if (lines[0] != NULL && lines[1] != NULL)
-    {
-      /* Translators: tooltip of a ledger cell: the Monte Carlo spread */
-      g_autofree char *tip = g_strdup_printf (_("noise error: %s\nMonte Carlo 16th–84th percentiles: %s"),
-                                              lines[0], lines[1]);
-
-      gtk_widget_set_tooltip_text (GTK_WIDGET (label), tip);
-    }
-  else
-    gtk_widget_set_tooltip_text (GTK_WIDGET (label), NULL);
+  efflux_ledger_cell_set_markup (cell, markup, tip);
 }
 
 static void
@@ -234,14 +231,11 @@ setup_cb (GtkSignalListItemFactory *factory,
           gpointer                  user_data)
 {
   EffluxLedgerColumn column = GPOINTER_TO_UINT (user_data);
-  GtkWidget *label = gtk_label_new (NULL);
+  GtkWidget *cell = efflux_ledger_cell_new (column == EFFLUX_LEDGER_LOBE ? 0.0f : 1.0f);
 
-  gtk_label_set_xalign (GTK_LABEL (label), column == EFFLUX_LEDGER_LOBE ? 0.0f : 1.0f);
-  gtk_label_set_justify (GTK_LABEL (label), column == EFFLUX_LEDGER_LOBE ? GTK_JUSTIFY_LEFT
-                                                                           : GTK_JUSTIFY_RIGHT);
-  gtk_widget_add_css_class (label, "numeric");
-  g_object_set_data (G_OBJECT (label), "efflux-column", user_data);
-  gtk_list_item_set_child (item, label);
+  gtk_widget_add_css_class (cell, "numeric");
+  g_object_set_data (G_OBJECT (cell), "efflux-column", user_data);
+  gtk_list_item_set_child (item, cell);
 }
 
 static void
@@ -250,12 +244,14 @@ bind_cb (GtkSignalListItemFactory *factory,
          gpointer                  user_data)
 {
   EffluxLedgerRow *row = gtk_list_item_get_item (item);
-  GtkWidget *label = gtk_list_item_get_child (item);
+  GtkWidget *cell = gtk_list_item_get_child (item);
   gulong id;
 
-  update_label (row, GTK_LABEL (label));
-  id = g_signal_connect_object (row, "changed", G_CALLBACK (update_label), label, 0);
-  g_object_set_data (G_OBJECT (label), "efflux-handler", GSIZE_TO_POINTER ((gsize) id));
+  /* a new row: the cell may shrink to it */
+  efflux_ledger_cell_reset_width (EFFLUX_LEDGER_CELL (cell));
+  update_cell (row, EFFLUX_LEDGER_CELL (cell));
+  id = g_signal_connect_object (row, "changed", G_CALLBACK (update_cell), cell, 0);
+  g_object_set_data (G_OBJECT (cell), "efflux-handler", GSIZE_TO_POINTER ((gsize) id));
 }
 
 static void
@@ -264,12 +260,12 @@ unbind_cb (GtkSignalListItemFactory *factory,
            gpointer                  user_data)
 {
   EffluxLedgerRow *row = gtk_list_item_get_item (item);
-  GtkWidget *label = gtk_list_item_get_child (item);
-  gulong id = (gulong) GPOINTER_TO_SIZE (g_object_get_data (G_OBJECT (label), "efflux-handler"));
+  GtkWidget *cell = gtk_list_item_get_child (item);
+  gulong id = (gulong) GPOINTER_TO_SIZE (g_object_get_data (G_OBJECT (cell), "efflux-handler"));
 
   if (id != 0 && row != NULL)
     g_signal_handler_disconnect (row, id);
-  g_object_set_data (G_OBJECT (label), "efflux-handler", NULL);
+  g_object_set_data (G_OBJECT (cell), "efflux-handler", NULL);
 }
 
 void

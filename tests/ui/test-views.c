@@ -26,6 +26,7 @@
 #include "efflux-dossier.h"
 #include "efflux-kinematics.h"
 #include "efflux-ledger.h"
+#include "efflux-ledger-cell.h"
 #include "efflux-lobe.h"
 #include "efflux-maps.h"
 #include "efflux-measure.h"
@@ -506,6 +507,8 @@ collect_label_texts (GtkWidget *widget,
 {
   if (GTK_IS_LABEL (widget))
     g_ptr_array_add (texts, g_strdup (gtk_label_get_text (GTK_LABEL (widget))));
+  else if (EFFLUX_IS_LEDGER_CELL (widget))
+    g_ptr_array_add (texts, g_strdup (efflux_ledger_cell_get_text (EFFLUX_LEDGER_CELL (widget))));
   for (GtkWidget *c = gtk_widget_get_first_child (widget); c != NULL; c = gtk_widget_get_next_sibling (c))
     collect_label_texts (c, texts);
 }
