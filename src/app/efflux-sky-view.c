@@ -76,6 +76,9 @@ struct _EffluxSkyView
   gssize              hover_vertex;
   char               *edit_error;
   GskRenderNode      *overlay_node; /* lobes, cuts, draft; dropped on edits and view changes */
+  GHashTable         *overlay_items; /* char *key -> GskRenderNode *: one node per lobe and cut,
+                                      * kept across rebuilds of overlay_node while its key (what
+                                      * it looks like where) is unchanged */
 
   /* a colleague's lobes (copies), drawn dashed, never edited */
   GPtrArray          *other_lobes;  /* OtherLobe * */
@@ -179,6 +182,7 @@ invalidate (EffluxSkyView *self)
 {
   g_clear_pointer (&self->node, gsk_render_node_unref);
   g_clear_pointer (&self->overlay_node, gsk_render_node_unref);
+  g_clear_pointer (&self->overlay_items, g_hash_table_unref);
   g_clear_pointer (&self->other_node, gsk_render_node_unref);
   g_clear_pointer (&self->wing_node, gsk_render_node_unref);
   gtk_widget_queue_draw (GTK_WIDGET (self));
@@ -2000,80 +2004,266 @@ draw_handles (cairo_t       *cr,
   cairo_stroke (cr);
 }
 
+/* Grow box (x0, y0, x1, y1, widget pixels) to hold the map pixels (px, py), padded by pad. */
+static void
+grow_bounds (EffluxSkyView *self,
+             const double  *px,
+             const double  *py,
+             gsize          n,
+             double         pad,
+             double         box[4])
+{
+  for (gsize i = 0; i < n; i++)
+    {
+      double wx, wy;
+
+      efflux_sky_view_pixel_to_widget (self, px[i], py[i], &wx, &wy);
+      box[0] = MIN (box[0], wx - pad);
+      box[1] = MIN (box[1], wy - pad);
+      box[2] = MAX (box[2], wx + pad);
+      box[3] = MAX (box[3], wy + pad);
+    }
+}
+
 /* Lobes (blue and red, translucent fill), cuts with their width band, the outline being drawn. */
 static void
-draw_overlays (EffluxSkyView *self,
-               cairo_t       *cr)
+draw_cut_item (EffluxSkyView          *self,
+               cairo_t                *cr,
+               const EffluxDossierCut *cut,
+               const double           *px,
+               const double           *py,
+               double                  band)
+{
+  cairo_set_line_join (cr, CAIRO_LINE_JOIN_ROUND);
+  cairo_set_line_cap (cr, CAIRO_LINE_CAP_BUTT);
+  if (band > 1.0)
+    {
+      path_outline (cr, self, px, py, cut->n_vertices, FALSE);
+      cairo_set_source_rgba (cr, 1.0, 0.85, 0.3, 0.22);
+      cairo_set_line_width (cr, band);
+      cairo_stroke (cr);
+    }
+  path_outline (cr, self, px, py, cut->n_vertices, FALSE);
+  cairo_set_source_rgba (cr, 1.0, 0.85, 0.3, 0.95);
+  cairo_set_line_width (cr, 1.5);
+  cairo_stroke (cr);
+  if (self->tool == EFFLUX_SKY_TOOL_EDIT || self->tool == EFFLUX_SKY_TOOL_CUT)
+    draw_handles (cr, self, px, py, cut->n_vertices);
+}
+
+static void
+draw_lobe_item (EffluxSkyView           *self,
+                cairo_t                 *cr,
+                const EffluxDossierLobe *lobe,
+                const double            *px,
+                const double            *py)
+{
+  gboolean blue = lobe->kind == EFFLUX_LOBE_BLUE;
+  gboolean selected = g_strcmp0 (lobe->name, self->selected) == 0;
+  double r = blue ? 0.25 : 1.0, g = blue ? 0.55 : 0.3, b = blue ? 1.0 : 0.25;
+
+  path_outline (cr, self, px, py, lobe->n_vertices, TRUE);
+  cairo_set_source_rgba (cr, r, g, b, selected ? 0.30 : 0.18);
+  cairo_fill_preserve (cr);
+  cairo_set_source_rgba (cr, 0, 0, 0, 0.6);
+  cairo_set_line_width (cr, selected ? 4.5 : 3.5);
+  cairo_stroke_preserve (cr);
+  cairo_set_source_rgba (cr, r, g, b, 1.0);
+  cairo_set_line_width (cr, selected ? 2.5 : 1.5);
+  cairo_stroke (cr);
+  if (selected && self->tool == EFFLUX_SKY_TOOL_EDIT)
+    draw_handles (cr, self, px, py, lobe->n_vertices);
+}
+
+static void
+draw_draft (EffluxSkyView *self,
+            cairo_t       *cr)
+{
+  double *px = (double *) self->draft_x->data, *py = (double *) self->draft_y->data;
+  gsize n = self->draft_x->len;
+  double dash[] = { 5.0, 3.0 };
+
+  path_outline (cr, self, px, py, n, FALSE);
+  if (!isnan (self->pointer_x))
+    cairo_line_to (cr, self->pointer_x, self->pointer_y);
+  cairo_set_source_rgba (cr, 1, 1, 1, 0.95);
+  cairo_set_line_width (cr, 1.5);
+  cairo_set_dash (cr, dash, 2, 0);
+  cairo_stroke (cr);
+  cairo_set_dash (cr, NULL, 0, 0);
+  draw_handles (cr, self, px, py, n);
+}
+
+/* What an item looks like where: its kind and state and its vertices in widget pixels (to
+ * 1/100 pixel). Equal keys draw equal pictures. */
+static char *
+item_key (const char    *what,
+          const char    *name,
+          int            state,
+          double         extra,
+          const double  *wx,
+          const double  *wy,
+          gsize          n)
+{
+  GString *key = g_string_new (NULL);
+
+  g_string_printf (key, "%s|%s|%d|%.2f", what, name, state, extra);
+  for (gsize i = 0; i < n; i++)
+    g_string_append_printf (key, "|%.2f,%.2f", wx[i], wy[i]);
+  return g_string_free (key, FALSE);
+}
+
+/* One item's node, from the last build when its key is unchanged, else drawn anew in a Cairo
+ * node as large as the item: dragging one vertex of one lobe repaints that lobe's box only. */
+static GskRenderNode *
+item_node (EffluxSkyView *self,
+           GHashTable    *kept,
+           GHashTable    *items,
+           char          *key,           /* taken */
+           const double  *px,
+           const double  *py,
+           gsize          n,
+           double         pad,
+           int            w,
+           int            h,
+           const EffluxDossierLobe *lobe,
+           const EffluxDossierCut  *cut,
+           double                   band)
+{
+  GskRenderNode *node = kept != NULL ? g_hash_table_lookup (kept, key) : NULL;
+
+  if (node != NULL)
+    gsk_render_node_ref (node);
+  else
+    {
+      double box[4] = { G_MAXDOUBLE, G_MAXDOUBLE, -G_MAXDOUBLE, -G_MAXDOUBLE };
+      GtkSnapshot *snapshot;
+      cairo_t *cr;
+
+      grow_bounds (self, px, py, n, pad, box);
+      box[0] = floor (MAX (box[0], 0));
+      box[1] = floor (MAX (box[1], 0));
+      box[2] = ceil (MIN (box[2], w));
+      box[3] = ceil (MIN (box[3], h));
+      if (box[2] <= box[0] || box[3] <= box[1])
+        {
+          g_free (key);
+          return NULL;
+        }
+      snapshot = gtk_snapshot_new ();
+      cr = gtk_snapshot_append_cairo (snapshot, &GRAPHENE_RECT_INIT (box[0], box[1], box[2] - box[0],
+                                                                     box[3] - box[1]));
+      if (lobe != NULL)
+        draw_lobe_item (self, cr, lobe, px, py);
+      else
+        draw_cut_item (self, cr, cut, px, py, band);
+      cairo_destroy (cr);
+      node = gtk_snapshot_free_to_node (snapshot);
+      if (node == NULL)
+        {
+          g_free (key);
+          return NULL;
+        }
+    }
+  g_hash_table_replace (items, key, gsk_render_node_ref (node));
+  return node;
+}
+
+/* The overlay: one node per cut and lobe (cuts below lobes), then the draft. */
+static GskRenderNode *
+build_overlay (EffluxSkyView *self,
+               int            w,
+               int            h)
 {
   const EffluxDossier *d = current_dossier (self);
+  GHashTable *items = g_hash_table_new_full (g_str_hash, g_str_equal, g_free,
+                                             (GDestroyNotify) gsk_render_node_unref);
+  GtkSnapshot *snapshot = gtk_snapshot_new ();
 
   if (d != NULL && self->cube != NULL && self->cube->sky != NULL)
     {
+      gboolean handles = self->tool == EFFLUX_SKY_TOOL_EDIT || self->tool == EFFLUX_SKY_TOOL_CUT;
+
       for (guint k = 0; k < d->cuts->len; k++)
         {
           const EffluxDossierCut *cut = g_ptr_array_index (d->cuts, k);
-          g_autofree double *px = NULL, *py = NULL;
+          g_autofree double *px = NULL, *py = NULL, *wx = NULL, *wy = NULL;
+          GskRenderNode *node;
           double band;
 
           if (!outline_to_pixels (self, cut->ra_deg, cut->dec_deg, cut->n_vertices, &px, &py))
             continue;
           band = cut->width_arcsec / self->cube->pixel_arcsec[0] * self->zoom;
-          cairo_set_line_join (cr, CAIRO_LINE_JOIN_ROUND);
-          cairo_set_line_cap (cr, CAIRO_LINE_CAP_BUTT);
-          if (band > 1.0)
+          wx = g_new (double, cut->n_vertices);
+          wy = g_new (double, cut->n_vertices);
+          for (gsize i = 0; i < cut->n_vertices; i++)
+            efflux_sky_view_pixel_to_widget (self, px[i], py[i], &wx[i], &wy[i]);
+          node = item_node (self, self->overlay_items, items,
+                            item_key ("cut", cut->name, handles, band, wx, wy, cut->n_vertices),
+                            px, py, cut->n_vertices, 8.0 + band / 2, w, h, NULL, cut, band);
+          if (node != NULL)
             {
-              path_outline (cr, self, px, py, cut->n_vertices, FALSE);
-              cairo_set_source_rgba (cr, 1.0, 0.85, 0.3, 0.22);
-              cairo_set_line_width (cr, band);
-              cairo_stroke (cr);
+              gtk_snapshot_append_node (snapshot, node);
+              gsk_render_node_unref (node);
             }
-          path_outline (cr, self, px, py, cut->n_vertices, FALSE);
-          cairo_set_source_rgba (cr, 1.0, 0.85, 0.3, 0.95);
-          cairo_set_line_width (cr, 1.5);
-          cairo_stroke (cr);
-          if (self->tool == EFFLUX_SKY_TOOL_EDIT || self->tool == EFFLUX_SKY_TOOL_CUT)
-            draw_handles (cr, self, px, py, cut->n_vertices);
         }
       for (guint k = 0; k < d->lobes->len; k++)
         {
           const EffluxDossierLobe *lobe = g_ptr_array_index (d->lobes, k);
-          g_autofree double *px = NULL, *py = NULL;
-          gboolean blue = lobe->kind == EFFLUX_LOBE_BLUE;
+          g_autofree double *px = NULL, *py = NULL, *wx = NULL, *wy = NULL;
           gboolean selected = g_strcmp0 (lobe->name, self->selected) == 0;
-          double r = blue ? 0.25 : 1.0, g = blue ? 0.55 : 0.3, b = blue ? 1.0 : 0.25;
+          GskRenderNode *node;
 
           if (lobe->n_vertices < 3
               || !outline_to_pixels (self, lobe->ra_deg, lobe->dec_deg, lobe->n_vertices, &px, &py))
             continue;
-          path_outline (cr, self, px, py, lobe->n_vertices, TRUE);
-          cairo_set_source_rgba (cr, r, g, b, selected ? 0.30 : 0.18);
-          cairo_fill_preserve (cr);
-          cairo_set_source_rgba (cr, 0, 0, 0, 0.6);
-          cairo_set_line_width (cr, selected ? 4.5 : 3.5);
-          cairo_stroke_preserve (cr);
-          cairo_set_source_rgba (cr, r, g, b, 1.0);
-          cairo_set_line_width (cr, selected ? 2.5 : 1.5);
-          cairo_stroke (cr);
-          if (selected && self->tool == EFFLUX_SKY_TOOL_EDIT)
-            draw_handles (cr, self, px, py, lobe->n_vertices);
+          wx = g_new (double, lobe->n_vertices);
+          wy = g_new (double, lobe->n_vertices);
+          for (gsize i = 0; i < lobe->n_vertices; i++)
+            efflux_sky_view_pixel_to_widget (self, px[i], py[i], &wx[i], &wy[i]);
+          node = item_node (self, self->overlay_items, items,
+                            item_key ("lobe", lobe->name,
+                                      lobe->kind * 4 + selected * 2
+                                      + (self->tool == EFFLUX_SKY_TOOL_EDIT), 0.0,
+                                      wx, wy, lobe->n_vertices),
+                            px, py, lobe->n_vertices, 8.0, w, h, lobe, NULL, 0.0);
+          if (node != NULL)
+            {
+              gtk_snapshot_append_node (snapshot, node);
+              gsk_render_node_unref (node);
+            }
         }
     }
+  g_clear_pointer (&self->overlay_items, g_hash_table_unref);
+  self->overlay_items = items;
   if (self->draft_x->len > 0)
     {
-      double *px = (double *) self->draft_x->data, *py = (double *) self->draft_y->data;
-      gsize n = self->draft_x->len;
-      double dash[] = { 5.0, 3.0 };
+      double box[4] = { G_MAXDOUBLE, G_MAXDOUBLE, -G_MAXDOUBLE, -G_MAXDOUBLE };
+      cairo_t *cr;
 
-      path_outline (cr, self, px, py, n, FALSE);
+      grow_bounds (self, (double *) self->draft_x->data, (double *) self->draft_y->data,
+                   self->draft_x->len, 8.0, box);
       if (!isnan (self->pointer_x))
-        cairo_line_to (cr, self->pointer_x, self->pointer_y);
-      cairo_set_source_rgba (cr, 1, 1, 1, 0.95);
-      cairo_set_line_width (cr, 1.5);
-      cairo_set_dash (cr, dash, 2, 0);
-      cairo_stroke (cr);
-      cairo_set_dash (cr, NULL, 0, 0);
-      draw_handles (cr, self, px, py, n);
+        {
+          box[0] = MIN (box[0], self->pointer_x - 4);
+          box[1] = MIN (box[1], self->pointer_y - 4);
+          box[2] = MAX (box[2], self->pointer_x + 4);
+          box[3] = MAX (box[3], self->pointer_y + 4);
+        }
+      box[0] = floor (MAX (box[0], 0));
+      box[1] = floor (MAX (box[1], 0));
+      box[2] = ceil (MIN (box[2], w));
+      box[3] = ceil (MIN (box[3], h));
+      if (box[2] > box[0] && box[3] > box[1])
+        {
+          cr = gtk_snapshot_append_cairo (snapshot, &GRAPHENE_RECT_INIT (box[0], box[1],
+                                                                         box[2] - box[0],
+                                                                         box[3] - box[1]));
+          draw_draft (self, cr);
+          cairo_destroy (cr);
+        }
     }
+  return gtk_snapshot_free_to_node (snapshot);
 }
 
 /* ---- a colleague's lobes ---- */
@@ -2624,78 +2814,6 @@ build_scene (EffluxSkyView *self,
 }
 
 static void
-grow_bounds (EffluxSkyView *self,
-             const double  *px,
-             const double  *py,
-             gsize          n,
-             double         pad,
-             double         box[4])
-{
-  for (gsize i = 0; i < n; i++)
-    {
-      double wx, wy;
-
-      efflux_sky_view_pixel_to_widget (self, px[i], py[i], &wx, &wy);
-      box[0] = MIN (box[0], wx - pad);
-      box[1] = MIN (box[1], wy - pad);
-      box[2] = MAX (box[2], wx + pad);
-      box[3] = MAX (box[3], wy + pad);
-    }
-}
-
-/* The widget area the overlays cover (lobes, cuts with their band, the draft and its rubber band). */
-static void
-overlay_bounds (EffluxSkyView   *self,
-                int              w,
-                int              h,
-                graphene_rect_t *bounds)
-{
-  const EffluxDossier *d = current_dossier (self);
-  double box[4] = { G_MAXDOUBLE, G_MAXDOUBLE, -G_MAXDOUBLE, -G_MAXDOUBLE };
-
-  if (d != NULL && self->cube != NULL && self->cube->sky != NULL)
-    {
-      for (guint k = 0; k < d->lobes->len; k++)
-        {
-          const EffluxDossierLobe *lobe = g_ptr_array_index (d->lobes, k);
-          g_autofree double *px = NULL, *py = NULL;
-
-          if (outline_to_pixels (self, lobe->ra_deg, lobe->dec_deg, lobe->n_vertices, &px, &py))
-            grow_bounds (self, px, py, lobe->n_vertices, 8.0, box);
-        }
-      for (guint k = 0; k < d->cuts->len; k++)
-        {
-          const EffluxDossierCut *cut = g_ptr_array_index (d->cuts, k);
-          g_autofree double *px = NULL, *py = NULL;
-          double band = cut->width_arcsec / self->cube->pixel_arcsec[0] * self->zoom;
-
-          if (outline_to_pixels (self, cut->ra_deg, cut->dec_deg, cut->n_vertices, &px, &py))
-            grow_bounds (self, px, py, cut->n_vertices, 8.0 + band / 2, box);
-        }
-    }
-  if (self->draft_x->len > 0)
-    {
-      grow_bounds (self, (double *) self->draft_x->data, (double *) self->draft_y->data,
-                   self->draft_x->len, 8.0, box);
-      if (!isnan (self->pointer_x))
-        {
-          box[0] = MIN (box[0], self->pointer_x - 4);
-          box[1] = MIN (box[1], self->pointer_y - 4);
-          box[2] = MAX (box[2], self->pointer_x + 4);
-          box[3] = MAX (box[3], self->pointer_y + 4);
-        }
-    }
-  box[0] = floor (MAX (box[0], 0));
-  box[1] = floor (MAX (box[1], 0));
-  box[2] = ceil (MIN (box[2], w));
-  box[3] = ceil (MIN (box[3], h));
-  if (box[2] <= box[0] || box[3] <= box[1])
-    graphene_rect_init (bounds, 0, 0, 1, 1);
-  else
-    graphene_rect_init (bounds, box[0], box[1], box[2] - box[0], box[3] - box[1]);
-}
-
-static void
 efflux_sky_view_snapshot (GtkWidget   *widget,
                           GtkSnapshot *snapshot)
 {
@@ -2733,19 +2851,7 @@ efflux_sky_view_snapshot (GtkWidget   *widget,
   if (self->wing_node != NULL)
     gtk_snapshot_append_node (snapshot, self->wing_node);
   if (self->overlay_node == NULL && (self->document != NULL || self->draft_x->len > 0))
-    {
-      GtkSnapshot *overlay = gtk_snapshot_new ();
-      graphene_rect_t bounds;
-      cairo_t *cr;
-
-      /* only as large as the outlines: a change repaints that part of the window, not all */
-      overlay_bounds (self, w, h, &bounds);
-      cr = gtk_snapshot_append_cairo (overlay, &bounds);
-
-      draw_overlays (self, cr);
-      cairo_destroy (cr);
-      self->overlay_node = gtk_snapshot_free_to_node (overlay);
-    }
+    self->overlay_node = build_overlay (self, w, h);
   if (self->overlay_node != NULL)
     gtk_snapshot_append_node (snapshot, self->overlay_node);
 }
@@ -3070,6 +3176,7 @@ efflux_sky_view_finalize (GObject *object)
 
   g_clear_pointer (&self->node, gsk_render_node_unref);
   g_clear_pointer (&self->overlay_node, gsk_render_node_unref);
+  g_clear_pointer (&self->overlay_items, g_hash_table_unref);
   g_clear_pointer (&self->other_node, gsk_render_node_unref);
   g_clear_pointer (&self->wing_node, gsk_render_node_unref);
   layers_clear (self);
