@@ -175,3 +175,19 @@ efflux_setup_gettext (void)
   bind_textdomain_codeset (GETTEXT_PACKAGE, "UTF-8");
   textdomain (GETTEXT_PACKAGE);
 }
+
+const char *
+efflux_choose_renderer (void)
+{
+  g_autoptr(GDir) dir = NULL;
+  const char *name;
+
+  if (g_getenv ("GSK_RENDERER") != NULL)
+    return NULL;
+  dir = g_dir_open ("/dev/dri", 0, NULL);
+  while (dir != NULL && (name = g_dir_read_name (dir)) != NULL)
+    if (g_str_has_prefix (name, "renderD"))
+      return NULL;
+  g_setenv ("GSK_RENDERER", "cairo", FALSE);
+  return "cairo";
+}

@@ -15,6 +15,7 @@ main (int    argc,
 
   /* locale, and translations from EFFLUX_LOCALEDIR when set (efflux-settings.h) */
   efflux_setup_gettext ();
+  efflux_choose_renderer ();
 
   app = efflux_application_new ();
   return g_application_run (G_APPLICATION (app), argc, argv);
