@@ -26,6 +26,7 @@
 #include "efflux-document.h"
 #include "efflux-ledger.h"
 #include "efflux-maps.h"
+#include "efflux-settings.h"
 #include "efflux-sky-view.h"
 #include "efflux-window.h"
 
@@ -117,7 +118,43 @@ typedef struct
   gint64          sum_long;     /* us spent in them */
   double          cpu_main0, cpu_all0, cpu_main, cpu_all;   /* s, over the drag */
   gboolean        done;
+  /* the frame clock's phases on the UI thread (us): where a frame's time goes */
+  gint64          phase_t0;
+  gint64          phase_sum[5], phase_max[5];
+  gint64          ledger_sum, ledger_max;   /* handing a result to the ledger */
 } Drag;
+
+/* The frame clock's phases. Our handlers are connected after GTK's (which connect when the
+ * window is realized), so each marks the END of its phase: update (tick callbacks: the edit),
+ * layout (measure and allocate), paint (snapshot and the renderer), after-paint. */
+static const char *const phase_names[5] = { "update (ticks: the edit)", "layout", "paint (snapshot and render)", "after-paint", "" };
+
+static void
+phase_mark (Drag *drag,
+            int   ended)
+{
+  gint64 now = g_get_monotonic_time ();
+
+  if (drag->phase_t0 != 0 && drag->t_start != 0 && !drag->done && ended >= 0)
+    {
+      gint64 d = now - drag->phase_t0;
+
+      drag->phase_sum[ended] += d;
+      drag->phase_max[ended] = MAX (drag->phase_max[ended], d);
+    }
+  drag->phase_t0 = now;
+}
+
+static void
+on_before_paint (GdkFrameClock *clock, Drag *drag) { phase_mark (drag, -1); }
+static void
+on_update (GdkFrameClock *clock, Drag *drag) { phase_mark (drag, 0); }
+static void
+on_layout (GdkFrameClock *clock, Drag *drag) { phase_mark (drag, 1); }
+static void
+on_paint (GdkFrameClock *clock, Drag *drag) { phase_mark (drag, 2); }
+static void
+on_after_paint (GdkFrameClock *clock, Drag *drag) { phase_mark (drag, 3); }
 
 static double
 cpu_clock (clockid_t id)
@@ -215,7 +252,15 @@ static void
 measured_cb (EffluxDocument *document,
              Drag           *drag)
 {
+  gint64 t0 = g_get_monotonic_time (), d;
+
   efflux_ledger_set_result (drag->ledger, efflux_document_get_result (document));
+  d = g_get_monotonic_time () - t0;
+  if (drag->t_start != 0 && !drag->done)
+    {
+      drag->ledger_sum += d;
+      drag->ledger_max = MAX (drag->ledger_max, d);
+    }
   if (drag->t_start != 0 && !drag->done)
     {
       drag->measured++;
@@ -247,8 +292,23 @@ run_drag (Drag       *drag,
   drag->n_beats = drag->n_long = 0;
   drag->sum_long = 0;
   drag->done = FALSE;
+  drag->phase_t0 = 0;
+  memset (drag->phase_sum, 0, sizeof drag->phase_sum);
+  memset (drag->phase_max, 0, sizeof drag->phase_max);
+  drag->ledger_sum = drag->ledger_max = 0;
   drag->merge = efflux_document_new_merge_id ();
   beat = g_timeout_add_full (G_PRIORITY_HIGH, 1, heartbeat, drag, NULL);
+  if (drag->phase_sum[4] == 0 && g_object_get_data (G_OBJECT (drag->view), "bench-phases") == NULL)
+    {
+      GdkFrameClock *clock = gtk_widget_get_frame_clock (GTK_WIDGET (drag->view));
+
+      g_object_set_data (G_OBJECT (drag->view), "bench-phases", drag);
+      g_signal_connect_after (clock, "before-paint", G_CALLBACK (on_before_paint), drag);
+      g_signal_connect_after (clock, "update", G_CALLBACK (on_update), drag);
+      g_signal_connect_after (clock, "layout", G_CALLBACK (on_layout), drag);
+      g_signal_connect_after (clock, "paint", G_CALLBACK (on_paint), drag);
+      g_signal_connect_after (clock, "after-paint", G_CALLBACK (on_after_paint), drag);
+    }
   id = gtk_widget_add_tick_callback (GTK_WIDGET (drag->view), drag_tick, drag, NULL);
   while (!drag->done && g_get_monotonic_time () < deadline)
     g_main_context_iteration (NULL, TRUE);
@@ -263,6 +323,12 @@ run_drag (Drag       *drag,
           drag->measured / DRAG_SECONDS);
   printf ("  main-loop gaps over 16 ms: %u of %u (%.2f%% of the time)\n", drag->n_long, drag->n_beats,
           100.0 * drag->sum_long / (DRAG_SECONDS * G_USEC_PER_SEC));
+  printf ("  UI thread per frame, by frame-clock phase (mean / worst ms):");
+  for (int i = 0; i < 4; i++)
+    printf ("%s %s %.2f / %.1f", i ? ";" : "", phase_names[i],
+            drag->phase_sum[i] / 1e3 / MAX (drag->frames, 1), drag->phase_max[i] / 1e3);
+  printf ("; the ledger taking a result %.2f / %.1f\n",
+          drag->ledger_sum / 1e3 / MAX (drag->measured, 1), drag->ledger_max / 1e3);
   /* CPU time does not depend on how many other processes share the machine: what one frame and
    * one measurement cost */
   printf ("  CPU time: UI thread %.2f ms per frame; other threads (the measurement worker, GTK's "
@@ -301,11 +367,16 @@ main (int    argc,
   guint64 seed = 20261201;
   Drag drag = { 0 };
   gint64 t0, deadline;
+  const char *renderer;
 
   g_setenv ("GSETTINGS_BACKEND", "memory", TRUE);
   g_set_prgname ("efflux");
   g_set_application_name ("Efflux");
+  /* the renderer the program would use on this machine (main.c does the same) */
+  renderer = efflux_choose_renderer ();
   gtk_init ();
+  printf ("renderer: %s\n", renderer != NULL ? "cairo (no GPU render node)"
+          : g_getenv ("GSK_RENDERER") != NULL ? g_getenv ("GSK_RENDERER") : "GTK's choice");
 
   first = demo_first_frame ();
   printf ("demo: first frame with the map %.3f s after the window was made (target < 1.5 s)\n",
