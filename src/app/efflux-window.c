@@ -340,21 +340,35 @@ update_lobe_bar (EffluxWindow *self)
   const EffluxDossier *d = window_dossier (self);
   const char *name = efflux_sky_view_get_selected_lobe (self->sky_view);
   const EffluxDossierLobe *lobe = d && name ? efflux_dossier_find_lobe (d, name) : NULL;
-  g_autoptr(GtkStringList) cubes = gtk_string_list_new (NULL);
+  GListModel *shown = gtk_drop_down_get_model (self->cube_dropdown);
+  guint n_cubes = d != NULL ? d->cubes->len : 0;
+  gboolean same = shown != NULL && g_list_model_get_n_items (shown) == n_cubes;
   guint cube_index = GTK_INVALID_LIST_POSITION;
 
   self->updating_lobe_bar = TRUE;
   gtk_widget_set_sensitive (self->lobe_bar, lobe != NULL);
-  if (d != NULL)
-    for (guint i = 0; i < d->cubes->len; i++)
-      {
-        EffluxDossierCube *c = g_ptr_array_index (d->cubes, i);
+  for (guint i = 0; i < n_cubes; i++)
+    {
+      EffluxDossierCube *c = g_ptr_array_index (d->cubes, i);
 
-        gtk_string_list_append (cubes, c->id);
-        if (lobe != NULL && g_strcmp0 (c->id, lobe->cube_id) == 0)
-          cube_index = i;
-      }
-  gtk_drop_down_set_model (self->cube_dropdown, G_LIST_MODEL (cubes));
+      if (same)
+        {
+          g_autoptr(GtkStringObject) item = g_list_model_get_item (shown, i);
+
+          same = g_strcmp0 (gtk_string_object_get_string (item), c->id) == 0;
+        }
+      if (lobe != NULL && g_strcmp0 (c->id, lobe->cube_id) == 0)
+        cube_index = i;
+    }
+  /* a new list only when the cubes changed: not on every step of a drag */
+  if (!same)
+    {
+      g_autoptr(GtkStringList) cubes = gtk_string_list_new (NULL);
+
+      for (guint i = 0; i < n_cubes; i++)
+        gtk_string_list_append (cubes, ((EffluxDossierCube *) g_ptr_array_index (d->cubes, i))->id);
+      gtk_drop_down_set_model (self->cube_dropdown, G_LIST_MODEL (cubes));
+    }
   if (lobe != NULL)
     {
       g_autofree char *text = g_strdup_printf (_("Lobe %s"), lobe->name);
