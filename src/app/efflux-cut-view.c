@@ -710,6 +710,10 @@ efflux_cut_view_set_source (EffluxCutView *self,
                             double         dec_deg)
 {
   g_return_if_fail (EFFLUX_IS_CUT_VIEW (self));
+  /* the window sets the source on every edit of the dossier: only a new one redraws */
+  if (self->has_source_radec == (isfinite (ra_deg) && isfinite (dec_deg))
+      && efflux_plot_same_value (self->src_ra, ra_deg) && efflux_plot_same_value (self->src_dec, dec_deg))
+    return;
   self->has_source_radec = isfinite (ra_deg) && isfinite (dec_deg);
   self->src_ra = ra_deg;
   self->src_dec = dec_deg;
@@ -740,6 +744,8 @@ efflux_cut_view_set_vsys (EffluxCutView *self,
                           double         vsys_kms)
 {
   g_return_if_fail (EFFLUX_IS_CUT_VIEW (self));
+  if (efflux_plot_same_value (self->vsys, vsys_kms))
+    return;
   self->vsys = vsys_kms;
   invalidate (self);
 }
@@ -750,6 +756,9 @@ efflux_cut_view_set_geometry (EffluxCutView *self,
                               double         inclination_deg)
 {
   g_return_if_fail (EFFLUX_IS_CUT_VIEW (self));
+  if (efflux_plot_same_value (self->distance_pc, distance_pc)
+      && efflux_plot_same_value (self->inclination_deg, inclination_deg))
+    return;
   self->distance_pc = distance_pc;
   self->inclination_deg = inclination_deg;
   update_age (self);
@@ -787,8 +796,8 @@ efflux_cut_view_set_range (EffluxCutView  *self,
 {
   g_return_if_fail (EFFLUX_IS_CUT_VIEW (self));
   g_return_if_fail (lobe != NULL);
-  efflux_plot_ranges_set (self->ranges, lobe, kind == EFFLUX_LOBE_RED ? 1 : 0, v1, v2);
-  invalidate (self);
+  if (efflux_plot_ranges_set (self->ranges, lobe, kind == EFFLUX_LOBE_RED ? 1 : 0, v1, v2))
+    invalidate (self);
 }
 
 void

@@ -259,7 +259,14 @@ efflux_plot_ranges_find (GPtrArray  *ranges,
   return NULL;
 }
 
-void
+gboolean
+efflux_plot_same_value (double a,
+                        double b)
+{
+  return a == b || (isnan (a) && isnan (b));
+}
+
+gboolean
 efflux_plot_ranges_set (GPtrArray  *ranges,
                         const char *name,
                         int         kind,
@@ -268,6 +275,9 @@ efflux_plot_ranges_set (GPtrArray  *ranges,
 {
   EffluxPlotRange *r = efflux_plot_ranges_find (ranges, name);
 
+  if (r != NULL && r->kind == kind && efflux_plot_same_value (r->v1, MIN (v1, v2))
+      && efflux_plot_same_value (r->v2, MAX (v1, v2)))
+    return FALSE;
   if (r == NULL)
     {
       r = g_new0 (EffluxPlotRange, 1);
@@ -277,6 +287,7 @@ efflux_plot_ranges_set (GPtrArray  *ranges,
   r->kind = kind;
   r->v1 = MIN (v1, v2);
   r->v2 = MAX (v1, v2);
+  return TRUE;
 }
 
 gboolean

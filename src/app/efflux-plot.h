@@ -67,12 +67,16 @@ typedef struct
 
 /* A GPtrArray of EffluxPlotRange * (owning). */
 GPtrArray       *efflux_plot_ranges_new    (void);
-/* Add or replace the range called name (v1, v2 in either order). */
-void             efflux_plot_ranges_set    (GPtrArray  *ranges,
+/* Add or replace the range called name (v1, v2 in either order). FALSE when it was there
+ * already with the same kind and velocities (nothing to redraw). */
+gboolean         efflux_plot_ranges_set    (GPtrArray  *ranges,
                                             const char *name,
                                             int         kind,
                                             double      v1,
                                             double      v2);
+/* a == b, or both NaN: a setter given the value it has can skip the redraw */
+gboolean         efflux_plot_same_value    (double      a,
+                                            double      b);
 gboolean         efflux_plot_ranges_remove (GPtrArray  *ranges,
                                             const char *name);
 EffluxPlotRange *efflux_plot_ranges_find   (GPtrArray  *ranges,

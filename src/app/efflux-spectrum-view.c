@@ -315,8 +315,8 @@ efflux_spectrum_view_set_range (EffluxSpectrumView *self,
 {
   g_return_if_fail (EFFLUX_IS_SPECTRUM_VIEW (self));
   g_return_if_fail (lobe != NULL);
-  efflux_plot_ranges_set (self->ranges, lobe, kind == EFFLUX_LOBE_RED ? 1 : 0, v1, v2);
-  invalidate (self);
+  if (efflux_plot_ranges_set (self->ranges, lobe, kind == EFFLUX_LOBE_RED ? 1 : 0, v1, v2))
+    invalidate (self);
 }
 
 void
@@ -351,6 +351,8 @@ efflux_spectrum_view_set_vsys (EffluxSpectrumView *self,
                                double              vsys_kms)
 {
   g_return_if_fail (EFFLUX_IS_SPECTRUM_VIEW (self));
+  if (efflux_plot_same_value (self->vsys, vsys_kms))
+    return;
   self->vsys = vsys_kms;
   invalidate (self);
 }
