@@ -123,6 +123,9 @@ typedef struct
   guint           n_beats;
   guint           n_long;       /* gaps over 16 ms */
   gint64          sum_long;     /* us spent in them */
+  double          last_beat_cpu;  /* the UI thread's CPU time at the last run (s) */
+  double          worst_busy;     /* most UI-thread CPU time between two runs (s) */
+  guint           n_busy_long;    /* such stretches over 16 ms */
   double          cpu_main0, cpu_all0, cpu_main, cpu_all;   /* s, over the drag */
   gboolean        done;
   /* the frame clock's phases on the UI thread (us): where a frame's time goes */
@@ -181,9 +184,18 @@ heartbeat (gpointer user_data)
   Drag *drag = user_data;
   gint64 now = g_get_monotonic_time ();
 
+  double cpu = cpu_clock (CLOCK_THREAD_CPUTIME_ID);
+
   if (drag->last_beat != 0 && drag->t_start != 0 && !drag->done)
     {
       gint64 gap = now - drag->last_beat - 1000;
+      double busy = cpu - drag->last_beat_cpu;
+
+      /* a gap is the program's own work only as far as the UI thread ran: on a shared machine
+       * the rest is the thread waiting for a processor */
+      drag->worst_busy = MAX (drag->worst_busy, busy);
+      if (busy > 0.016)
+        drag->n_busy_long++;
 
       drag->worst_stall = MAX (drag->worst_stall, gap);
       drag->n_beats++;
@@ -194,6 +206,7 @@ heartbeat (gpointer user_data)
         }
     }
   drag->last_beat = now;
+  drag->last_beat_cpu = cpu;
   return G_SOURCE_CONTINUE;
 }
 
@@ -300,6 +313,8 @@ run_drag (Drag       *drag,
   drag->worst_stall = 0;
   drag->n_beats = drag->n_long = 0;
   drag->sum_long = 0;
+  drag->worst_busy = 0;
+  drag->n_busy_long = 0;
   drag->done = FALSE;
   drag->phase_t0 = 0;
   memset (drag->phase_sum, 0, sizeof drag->phase_sum);
@@ -332,6 +347,8 @@ run_drag (Drag       *drag,
           drag->measured / DRAG_SECONDS);
   printf ("  main-loop gaps over 16 ms: %u of %u (%.2f%% of the time)\n", drag->n_long, drag->n_beats,
           100.0 * drag->sum_long / (DRAG_SECONDS * G_USEC_PER_SEC));
+  printf ("  the UI thread's own work between two returns to the main loop (its CPU time): longest "
+          "%.1f ms, %u stretches over 16 ms\n", drag->worst_busy * 1e3, drag->n_busy_long);
   printf ("  UI thread per frame, by frame-clock phase (mean / worst ms):");
   for (int i = 0; i < 4; i++)
     printf ("%s %s %.2f / %.1f", i ? ";" : "", phase_names[i],
