@@ -255,12 +255,30 @@ efflux_spectrum_view_show_lobe (EffluxSpectrumView   *self,
                                 EffluxLobeKind        kind,
                                 const EffluxLobeMask *mask)
 {
-  Trace *t;
+  g_autofree double *values = NULL;
 
   g_return_if_fail (EFFLUX_IS_SPECTRUM_VIEW (self));
   g_return_if_fail (lobe != NULL && mask != NULL);
   g_return_if_fail (self->cube != NULL);
   g_return_if_fail (mask->nx == self->cube->nx && mask->ny == self->cube->ny);
+
+  values = g_new (double, self->cube->nchan);
+  efflux_spectrum_over_lobe (self->cube, mask, EFFLUX_SPECTRUM_MEAN, values);
+  efflux_spectrum_view_set_lobe_spectrum (self, lobe, kind, values, self->cube->nchan);
+}
+
+void
+efflux_spectrum_view_set_lobe_spectrum (EffluxSpectrumView *self,
+                                        const char         *lobe,
+                                        EffluxLobeKind      kind,
+                                        const double       *values,
+                                        gsize               n)
+{
+  Trace *t;
+
+  g_return_if_fail (EFFLUX_IS_SPECTRUM_VIEW (self));
+  g_return_if_fail (lobe != NULL && values != NULL);
+  g_return_if_fail (self->cube != NULL && n == self->cube->nchan);
 
   t = find_trace (self, lobe);
   if (t == NULL)
@@ -271,8 +289,7 @@ efflux_spectrum_view_show_lobe (EffluxSpectrumView   *self,
     }
   t->kind = kind == EFFLUX_LOBE_RED ? 1 : 0;
   g_free (t->values);
-  t->values = g_new (double, self->cube->nchan);
-  efflux_spectrum_over_lobe (self->cube, mask, EFFLUX_SPECTRUM_MEAN, t->values);
+  t->values = g_memdup2 (values, n * sizeof (double));
   invalidate (self);
 }
 

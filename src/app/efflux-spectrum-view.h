@@ -42,6 +42,13 @@ void          efflux_spectrum_view_show_lobe    (EffluxSpectrumView   *self,
                                                  const char           *lobe,
                                                  EffluxLobeKind        kind,
                                                  const EffluxLobeMask *mask);
+/* The same with the spectrum computed already (nchan values of the view's cube, copied), for
+ * callers that average in a worker (efflux_spectrum_over_lobe). */
+void          efflux_spectrum_view_set_lobe_spectrum (EffluxSpectrumView *self,
+                                                      const char         *lobe,
+                                                      EffluxLobeKind      kind,
+                                                      const double       *values,
+                                                      gsize               n);
 void          efflux_spectrum_view_hide_lobe    (EffluxSpectrumView   *self,
                                                  const char           *lobe);
 

@@ -73,6 +73,7 @@ struct _EffluxWindow
   guint            range_merge;
   EffluxCube      *cut_cube;       /* the cube the Cut view's set was made on (kept while shown) */
   guint            spectrum_timeout;
+  GCancellable    *spectrum_cancellable;   /* the lobe spectrum being averaged in a worker */
   gboolean         close_confirmed;
   gboolean         measure_started;
   gboolean         show_assumptions;
@@ -314,6 +315,68 @@ sync_views (EffluxWindow *self,
   gtk_widget_set_visible (self->spectrum_box, TRUE);
 }
 
+/* The selected lobe's mean spectrum is averaged in a worker: a large lobe on a large cube reads
+ * a hundred MB or more (tens of ms), too long for the UI thread. */
+typedef struct
+{
+  EffluxCube     *cube;     /* a reference of the cube store */
+  double         *ra, *dec;
+  gsize           n;
+  char           *name;
+  EffluxLobeKind  kind;
+  double         *values;   /* cube->nchan, the result */
+} LobeSpectrumJob;
+
+static void
+lobe_spectrum_job_free (gpointer data)
+{
+  LobeSpectrumJob *job = data;
+
+  efflux_cube_store_release (job->cube);
+  g_free (job->ra);
+  g_free (job->dec);
+  g_free (job->name);
+  g_free (job->values);
+  g_free (job);
+}
+
+static void
+lobe_spectrum_thread (GTask        *task,
+                      gpointer      source,
+                      gpointer      data,
+                      GCancellable *cancellable)
+{
+  LobeSpectrumJob *job = data;
+  g_autoptr(EffluxLobeMask) mask = NULL;
+
+  mask = efflux_lobe_mask_new (job->cube, job->ra, job->dec, job->n, job->name, NULL);
+  if (mask == NULL || g_cancellable_is_cancelled (cancellable))
+    {
+      g_task_return_boolean (task, FALSE);
+      return;
+    }
+  job->values = g_new (double, job->cube->nchan);
+  efflux_spectrum_over_lobe (job->cube, mask, EFFLUX_SPECTRUM_MEAN, job->values);
+  g_task_return_boolean (task, TRUE);
+}
+
+static void
+lobe_spectrum_done (GObject      *source,
+                    GAsyncResult *result,
+                    gpointer      user_data)
+{
+  EffluxWindow *self = EFFLUX_WINDOW (source);
+  GTask *task = G_TASK (result);
+  LobeSpectrumJob *job = g_task_get_task_data (task);
+
+  /* shown only if it is still the lobe and the cube shown, and nothing newer was asked for */
+  if (!g_task_propagate_boolean (task, NULL) || g_cancellable_is_cancelled (g_task_get_cancellable (task))
+      || self->cube != job->cube || g_strcmp0 (self->spectrum_lobe, job->name) != 0)
+    return;
+  efflux_spectrum_view_set_lobe_spectrum (self->spectrum_view, job->name, job->kind, job->values,
+                                          job->cube->nchan);
+}
+
 /* The selected lobe's mean spectrum (its mask on the shown cube). */
 static void
 sync_lobe_spectrum (EffluxWindow *self)
@@ -321,17 +384,30 @@ sync_lobe_spectrum (EffluxWindow *self)
   const EffluxDossier *d = window_dossier (self);
   const char *name = efflux_sky_view_get_selected_lobe (self->sky_view);
   const EffluxDossierLobe *lobe = d && name ? efflux_dossier_find_lobe (d, name) : NULL;
-  g_autoptr(EffluxLobeMask) mask = NULL;
+  g_autoptr(GTask) task = NULL;
+  LobeSpectrumJob *job;
 
   if (g_strcmp0 (self->spectrum_lobe, name) != 0 && self->spectrum_lobe != NULL)
     efflux_spectrum_view_hide_lobe (self->spectrum_view, self->spectrum_lobe);
   g_free (self->spectrum_lobe);
   self->spectrum_lobe = g_strdup (name);
-  if (lobe == NULL || self->cube == NULL)
+  if (self->spectrum_cancellable != NULL)
+    g_cancellable_cancel (self->spectrum_cancellable);
+  g_clear_object (&self->spectrum_cancellable);
+  if (lobe == NULL || self->cube == NULL || lobe->n_vertices < 3)
     return;
-  mask = efflux_lobe_mask_new (self->cube, lobe->ra_deg, lobe->dec_deg, lobe->n_vertices, lobe->name, NULL);
-  if (mask != NULL)
-    efflux_spectrum_view_show_lobe (self->spectrum_view, lobe->name, lobe->kind, mask);
+  job = g_new0 (LobeSpectrumJob, 1);
+  job->cube = efflux_cube_store_ref (self->cube);
+  job->ra = g_memdup2 (lobe->ra_deg, lobe->n_vertices * sizeof (double));
+  job->dec = g_memdup2 (lobe->dec_deg, lobe->n_vertices * sizeof (double));
+  job->n = lobe->n_vertices;
+  job->name = g_strdup (lobe->name);
+  job->kind = lobe->kind;
+  self->spectrum_cancellable = g_cancellable_new ();
+  task = g_task_new (self, self->spectrum_cancellable, lobe_spectrum_done, NULL);
+  g_task_set_source_tag (task, sync_lobe_spectrum);
+  g_task_set_task_data (task, job, lobe_spectrum_job_free);
+  g_task_run_in_thread (task, lobe_spectrum_thread);
 }
 
 static void
@@ -1471,6 +1547,9 @@ efflux_window_dispose (GObject *object)
     g_cancellable_cancel (self->measure_cancellable);
   g_clear_object (&self->measure_cancellable);
   g_clear_handle_id (&self->spectrum_timeout, g_source_remove);
+  if (self->spectrum_cancellable != NULL)
+    g_cancellable_cancel (self->spectrum_cancellable);
+  g_clear_object (&self->spectrum_cancellable);
   if (self->autosave != NULL)
     efflux_autosave_close (self->autosave);
   g_clear_object (&self->autosave);

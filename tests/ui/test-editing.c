@@ -19,8 +19,11 @@
 #include "efflux-document.h"
 #include "efflux-dossier.h"
 #include "efflux-ledger.h"
+#include "efflux-lobe.h"
+#include "efflux-maps.h"
 #include "efflux-measure.h"
 #include "efflux-sky-view.h"
+#include "efflux-spectrum-view.h"
 #include "efflux-window.h"
 #include "efflux-ui-test-util.h"
 
@@ -115,6 +118,12 @@ static gboolean
 title_has_mark (EffluxWindow *window)
 {
   return g_str_has_prefix (gtk_window_get_title (GTK_WINDOW (window)), "•");
+}
+
+static gboolean
+blue_spectrum_shown (gpointer data)
+{
+  return efflux_spectrum_view_get_spectrum (data, "blue", NULL) != NULL;
 }
 
 static void
@@ -303,6 +312,25 @@ test_edit_demo (void)
   expected = core_row (document, "blue", &keep);
   assert_rows_equal (shown, expected);
   g_clear_pointer (&keep, efflux_measure_result_free);
+  /* the selected lobe's mean spectrum, averaged in a worker, is the core's for that outline */
+  efflux_sky_view_select_lobe (efflux_window_get_sky_view (window), "blue");
+  efflux_ui_test_iterate_until (blue_spectrum_shown, spectrum, 30);
+  {
+    const EffluxCube *shown_cube = efflux_window_get_cube (window);
+    g_autoptr(EffluxLobeMask) mask = efflux_lobe_mask_new (shown_cube, lobe->ra_deg, lobe->dec_deg,
+                                                           lobe->n_vertices, lobe->name, NULL);
+    g_autofree double *want = g_new (double, shown_cube->nchan);
+    const double *got;
+    gsize n = 0;
+
+    g_assert_nonnull (mask);
+    efflux_spectrum_over_lobe (shown_cube, mask, EFFLUX_SPECTRUM_MEAN, want);
+    got = efflux_spectrum_view_get_spectrum (EFFLUX_SPECTRUM_VIEW (spectrum), "blue", &n);
+    g_assert_cmpuint (n, ==, shown_cube->nchan);
+    for (gsize k = 0; k < n; k++)
+      if (!(isnan (want[k]) && isnan (got[k])))
+        g_assert_cmpfloat (got[k], ==, want[k]);
+  }
   efflux_ui_test_wait_for_frames (GTK_WIDGET (window), 2);
   save_sized_screenshot (spectrum, "screenshot-editing-spectrum.png");
   save_sized_screenshot (efflux_window_get_ledger (window), "screenshot-editing-ledger.png");
