@@ -2025,6 +2025,22 @@ grow_bounds (EffluxSkyView *self,
     }
 }
 
+/* The box (x0, y0, x1, y1) in whole widget pixels within the widget; FALSE when nothing is left. */
+static gboolean
+clip_box (const double     box[4],
+          int              w,
+          int              h,
+          graphene_rect_t *bounds)
+{
+  double x0 = floor (MAX (box[0], 0)), y0 = floor (MAX (box[1], 0));
+  double x1 = ceil (MIN (box[2], w)), y1 = ceil (MIN (box[3], h));
+
+  if (x1 <= x0 || y1 <= y0)
+    return FALSE;
+  graphene_rect_init (bounds, x0, y0, x1 - x0, y1 - y0);
+  return TRUE;
+}
+
 /* Lobes (blue and red, translucent fill), cuts with their width band, the outline being drawn. */
 static void
 draw_cut_item (EffluxSkyView          *self,
@@ -2140,19 +2156,16 @@ item_node (EffluxSkyView *self,
       GtkSnapshot *snapshot;
       cairo_t *cr;
 
+      graphene_rect_t bounds;
+
       grow_bounds (self, px, py, n, pad, box);
-      box[0] = floor (MAX (box[0], 0));
-      box[1] = floor (MAX (box[1], 0));
-      box[2] = ceil (MIN (box[2], w));
-      box[3] = ceil (MIN (box[3], h));
-      if (box[2] <= box[0] || box[3] <= box[1])
+      if (!clip_box (box, w, h, &bounds))
         {
           g_free (key);
           return NULL;
         }
       snapshot = gtk_snapshot_new ();
-      cr = gtk_snapshot_append_cairo (snapshot, &GRAPHENE_RECT_INIT (box[0], box[1], box[2] - box[0],
-                                                                     box[3] - box[1]));
+      cr = gtk_snapshot_append_cairo (snapshot, &bounds);
       if (lobe != NULL)
         draw_lobe_item (self, cr, lobe, px, py);
       else
@@ -2239,6 +2252,7 @@ build_overlay (EffluxSkyView *self,
   if (self->draft_x->len > 0)
     {
       double box[4] = { G_MAXDOUBLE, G_MAXDOUBLE, -G_MAXDOUBLE, -G_MAXDOUBLE };
+      graphene_rect_t bounds;
       cairo_t *cr;
 
       grow_bounds (self, (double *) self->draft_x->data, (double *) self->draft_y->data,
@@ -2250,15 +2264,9 @@ build_overlay (EffluxSkyView *self,
           box[2] = MAX (box[2], self->pointer_x + 4);
           box[3] = MAX (box[3], self->pointer_y + 4);
         }
-      box[0] = floor (MAX (box[0], 0));
-      box[1] = floor (MAX (box[1], 0));
-      box[2] = ceil (MIN (box[2], w));
-      box[3] = ceil (MIN (box[3], h));
-      if (box[2] > box[0] && box[3] > box[1])
+      if (clip_box (box, w, h, &bounds))
         {
-          cr = gtk_snapshot_append_cairo (snapshot, &GRAPHENE_RECT_INIT (box[0], box[1],
-                                                                         box[2] - box[0],
-                                                                         box[3] - box[1]));
+          cr = gtk_snapshot_append_cairo (snapshot, &bounds);
           draw_draft (self, cr);
           cairo_destroy (cr);
         }

@@ -375,6 +375,24 @@ run_drag (Drag       *drag,
   }
 }
 
+/* The baseline (redraw only), then a vertex drag and a range drag. */
+static void
+run_drags (Drag       *drag,
+           const char *prefix)
+{
+  static const char *const what[3] = { "vertex drag", "range drag",
+                                       "redraw only, no edit (baseline of this machine and renderer)" };
+  static const int order[3] = { 2, 0, 1 };
+
+  for (int i = 0; i < 3; i++)
+    {
+      g_autofree char *title = g_strconcat (prefix, what[order[i]], NULL);
+
+      drag->mode = order[i];
+      run_drag (drag, title);
+    }
+}
+
 int
 main (int    argc,
       char **argv)
@@ -481,12 +499,7 @@ main (int    argc,
   drag.ledger = EFFLUX_LEDGER (ledger);
   efflux_ledger_set_result (drag.ledger, efflux_document_get_result (document));
   g_signal_connect (document, "measured", G_CALLBACK (measured_cb), &drag);
-  drag.mode = 2;
-  run_drag (&drag, "redraw only, no edit (baseline of this machine and renderer)");
-  drag.mode = 0;
-  run_drag (&drag, "vertex drag");
-  drag.mode = 1;
-  run_drag (&drag, "range drag");
+  run_drags (&drag, "");
   g_assert_null (efflux_document_get_measure_error (document));
 
   efflux_sky_view_set_document (EFFLUX_SKY_VIEW (view), NULL);
@@ -540,12 +553,7 @@ main (int    argc,
     g_signal_connect (drag.document, "measured", G_CALLBACK (measured_cb), &drag);
     g_object_set_data (G_OBJECT (drag.view), "bench-phases", NULL);
     memset (drag.phase_sum, 0, sizeof drag.phase_sum);
-    drag.mode = 2;
-    run_drag (&drag, "whole window, redraw only");
-    drag.mode = 0;
-    run_drag (&drag, "whole window, vertex drag");
-    drag.mode = 1;
-    run_drag (&drag, "whole window, range drag");
+    run_drags (&drag, "whole window, ");
     g_assert_null (efflux_document_get_measure_error (drag.document));
     g_signal_handlers_disconnect_by_func (drag.document, measured_cb, &drag);
     gtk_window_destroy (GTK_WINDOW (win));
