@@ -1958,22 +1958,8 @@ efflux_cube_load (const char                  *path,
         if (helper != NULL)
           g_thread_join (helper);
         close (r.fd);
-        if (r.failed == 2 || g_cancellable_is_cancelled (cancellable))
-          {
-            g_cancellable_set_error_if_cancelled (cancellable, error);
-            goto out;
-          }
-        if (r.failed == 1)
-          {
-            g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_IO, "%s: the data cannot be read: %s", path,
-                         g_strerror (r.err_no));
-            goto out;
-          }
-        if (r.failed == 3)
-          {
-            g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_MEMORY, "%s: no memory for the read buffer", path);
-            goto out;
-          }
+        if (!efflux_fits_read_outcome (r.failed, r.err_no, path, cancellable, error))
+          goto out;
         if (progress != NULL)
           progress (progress_scale, progress_data);
       }

@@ -71,6 +71,33 @@ efflux_fits_new_cube (const char *path,
   return cube;
 }
 
+gboolean
+efflux_fits_read_outcome (int            failed,
+                          int            err_no,
+                          const char    *path,
+                          GCancellable  *cancellable,
+                          GError       **error)
+{
+  if (failed == 2 || g_cancellable_is_cancelled (cancellable))
+    {
+      if (!g_cancellable_set_error_if_cancelled (cancellable, error))
+        g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_CANCELLED, "%s: cancelled", path);
+      return FALSE;
+    }
+  if (failed == 1)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_IO, "%s: the data cannot be read: %s", path,
+                   g_strerror (err_no));
+      return FALSE;
+    }
+  if (failed == 3)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_MEMORY, "%s: no memory for the read buffer", path);
+      return FALSE;
+    }
+  return TRUE;
+}
+
 void
 efflux_fits_close (fitsfile *f)
 {

@@ -6,6 +6,7 @@
 #pragma once
 
 #include <fitsio.h>
+#include <gio/gio.h>
 #include <glib.h>
 #include <glib/gstdio.h>
 
@@ -29,6 +30,15 @@ gboolean efflux_fits_stat (const char  *path,
 /* A new, empty EffluxCube for PATH's HDU (notes array made, nothing else set). */
 EffluxCube *efflux_fits_new_cube (const char *path,
                                   int         hdu);
+
+/* How a threaded read of the data ended (the loader's and the moment stream's workers): 0 fine,
+ * 1 a read error (err_no), 2 cancelled, 3 no memory for the read buffer. FALSE with the one-line
+ * error naming PATH for 1-3 or when CANCELLABLE is cancelled. */
+gboolean efflux_fits_read_outcome (int            failed,
+                                   int            err_no,
+                                   const char    *path,
+                                   GCancellable  *cancellable,
+                                   GError       **error);
 
 /* Closes a CFITSIO file, ignoring NULL (the g_autoptr cleanup below). */
 void efflux_fits_close (fitsfile *f);

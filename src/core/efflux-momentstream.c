@@ -12,6 +12,7 @@
 #include "config.h"
 
 #include "efflux-momentstream.h"
+#include "efflux-fitshead.h"
 
 #include <errno.h>
 #include <fcntl.h>
@@ -558,23 +559,8 @@ efflux_moment_stream_map (const EffluxCube           *header,
     g_thread_join (helper);
   close (job.fd);
 
-  if (job.failed == 2 || g_cancellable_is_cancelled (cancellable))
-    {
-      if (!g_cancellable_set_error_if_cancelled (cancellable, error))
-        g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_CANCELLED, "%s: cancelled", path);
-      return FALSE;
-    }
-  if (job.failed == 1)
-    {
-      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_IO, "%s: the data cannot be read: %s", path,
-                   g_strerror (job.err_no));
-      return FALSE;
-    }
-  if (job.failed == 3)
-    {
-      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_MEMORY, "%s: no memory for the read buffer", path);
-      return FALSE;
-    }
+  if (!efflux_fits_read_outcome (job.failed, job.err_no, path, cancellable, error))
+    return FALSE;
   if (!job.any_finite)
     {
       /* the loader's refusal of such a cube (efflux_cube_load reads only these channels too) */
