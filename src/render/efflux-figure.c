@@ -2520,6 +2520,8 @@ efflux_figure_write_report (EffluxFigure  *figure,
 void
 efflux_figure_release_fonts (void)
 {
+  if (g_getenv ("EFFLUX_LEAK_CHECK") == NULL)
+    return;
   pango_cairo_font_map_set_default (NULL);
   cairo_debug_reset_static_data ();
   /* No FcFini (): pango initialises fontconfig on a thread of its own, and FcFini asserts (aborts

@@ -139,7 +139,10 @@ gboolean      efflux_figure_write_report (EffluxFigure  *figure,
                                           GError       **error);
 
 /* Release the font caches of Pango, Cairo and fontconfig (process-wide, kept for speed), so that a
- * leak checker sees only real leaks. Call once at the end of a program, after every figure. */
+ * leak checker sees only real leaks. Call once at the end of a program, after every figure. Does
+ * nothing unless EFFLUX_LEAK_CHECK is set (the test setups 'sanitize' and 'valgrind' set it):
+ * tearing down the libraries' global state at exit serves only the checker, and a program that
+ * is about to exit should not risk it. */
 void          efflux_figure_release_fonts (void);
 
 /* One page of the report (1 .. EFFLUX_REPORT_PAGES) on any surface of A4 size in points (the
