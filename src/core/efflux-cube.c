@@ -993,23 +993,12 @@ raw_read_worker (gpointer data)
       run = yn * r->n_fast * sizeof (guint32);
       for (gsize j = 0; j < cn; j++)
         {
-          char *dst = (char *) (buf + j * slice_words);
           guint64 at = r->offset + ((guint64) (j0 + j) * r->plane + (guint64) y0 * r->n_fast) * sizeof (guint32);
-          gsize got = 0;
 
-          while (got < run)
+          if (!efflux_fits_pread_all (r->fd, buf + j * slice_words, run, at, &r->err_no))
             {
-              ssize_t n = pread (r->fd, dst + got, run - got, (off_t) (at + got));
-
-              if (n < 0 && errno == EINTR)
-                continue;
-              if (n <= 0)
-                {
-                  r->err_no = n < 0 ? errno : EIO;
-                  g_atomic_int_set (&r->failed, 1);
-                  return NULL;
-                }
-              got += (gsize) n;
+              g_atomic_int_set (&r->failed, 1);
+              return NULL;
             }
         }
       memcpy (loops, r->loops, sizeof loops);

@@ -7,6 +7,7 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include <wcslib/wcs.h>
 #include <wcslib/wcserr.h>
@@ -69,6 +70,31 @@ efflux_fits_new_cube (const char *path,
   cube->path = g_strdup (path);
   cube->hdu = hdu;
   return cube;
+}
+
+gboolean
+efflux_fits_pread_all (int      fd,
+                       void    *buf,
+                       gsize    len,
+                       guint64  offset,
+                       int     *err_no)
+{
+  gsize got = 0;
+
+  while (got < len)
+    {
+      ssize_t n = pread (fd, (char *) buf + got, len - got, (off_t) (offset + got));
+
+      if (n < 0 && errno == EINTR)
+        continue;
+      if (n <= 0)
+        {
+          *err_no = n < 0 ? errno : EIO;
+          return FALSE;
+        }
+      got += (gsize) n;
+    }
+  return TRUE;
 }
 
 gboolean

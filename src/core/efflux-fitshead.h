@@ -31,6 +31,14 @@ gboolean efflux_fits_stat (const char  *path,
 EffluxCube *efflux_fits_new_cube (const char *path,
                                   int         hdu);
 
+/* pread () of exactly LEN bytes at OFFSET, again after EINTR and short reads; FALSE with *err_no
+ * (EIO for an early end of file) when that fails. */
+gboolean efflux_fits_pread_all (int      fd,
+                                void    *buf,
+                                gsize    len,
+                                guint64  offset,
+                                int     *err_no);
+
 /* How a threaded read of the data ended (the loader's and the moment stream's workers): 0 fine,
  * 1 a read error (err_no), 2 cancelled, 3 no memory for the read buffer. FALSE with the one-line
  * error naming PATH for 1-3 or when CANCELLABLE is cancelled. */

@@ -71,24 +71,12 @@ read_piece (StreamJob *job,
             gsize      np,
             guint32   *buf)
 {
-  gsize want = np * sizeof (guint32), got = 0;
   guint64 at = job->offset + (guint64) k * job->stride + (guint64) y0 * job->cube->nx * sizeof (guint32);
 
-  while (got < want)
-    {
-      ssize_t n = pread (job->fd, (char *) buf + got, want - got, (off_t) (at + got));
-
-      if (n < 0 && errno == EINTR)
-        continue;
-      if (n <= 0)
-        {
-          job->err_no = n < 0 ? errno : EIO;
-          g_atomic_int_set (&job->failed, 1);
-          return FALSE;
-        }
-      got += (gsize) n;
-    }
-  return TRUE;
+  if (efflux_fits_pread_all (job->fd, buf, np * sizeof (guint32), at, &job->err_no))
+    return TRUE;
+  g_atomic_int_set (&job->failed, 1);
+  return FALSE;
 }
 
 /* The per-channel sums. Each is efflux_moment_map's direct sum for one channel over np pixels:
