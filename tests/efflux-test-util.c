@@ -274,3 +274,55 @@ efflux_test_pixel_square (const EffluxCube *cube,
     }
   return g_string_free (s, FALSE);
 }
+
+char *
+efflux_test_write_square_dossier (const EffluxCube *cube,
+                                  const char       *dir,
+                                  const char       *file,
+                                  const char       *name,
+                                  double            distance_pc,
+                                  const char       *lobes)
+{
+  double ra, dec;
+  char a[G_ASCII_DTOSTR_BUF_SIZE], b[G_ASCII_DTOSTR_BUF_SIZE];
+  g_autofree char *text = NULL;
+  g_autoptr (GError) error = NULL;
+  char *path = g_build_filename (dir, file, NULL);
+
+  /* the source sits on the column of the reference pixel (x = 17): squares placed symmetrically
+   * about it in x are mirror images on the sky too (TAN is symmetric about that meridian) */
+  g_assert_true (efflux_cube_pixel_to_icrs (cube, 17.0, 5.0, &ra, &dec));
+  text = g_strdup_printf ("# a comment that must survive\n"
+                          "[Source]\nname=%s\nra-deg=%s\ndec-deg=%s\ndistance-pc=%g\nvsys-kms=0\n"
+                          "[Assumptions]\ntex-k=20\nco-abundance=1e-4\nmc-samples=0\n"
+                          "[Cube co]\npath=co.fits\nline=12CO 2-1\nrms-k=0.1\n%s",
+                          name, g_ascii_formatd (a, sizeof a, "%.12f", ra),
+                          g_ascii_formatd (b, sizeof b, "%.12f", dec), distance_pc, lobes);
+  g_assert_true (g_file_set_contents (path, text, -1, &error));
+  g_assert_no_error (error);
+  return path;
+}
+
+char *
+efflux_test_lobe_section (const char *name,
+                          const char *kind,
+                          const char *polygon,
+                          const char *velocity,
+                          const char *author)
+{
+  return g_strdup_printf ("[Lobe %s]\nkind=%s\ncube=co\npolygon=%s\nvelocity-kms=%s\nauthor=%s\n",
+                          name, kind, polygon, velocity, author);
+}
+
+void
+efflux_test_fits_card (GString    *h,
+                       const char *text)
+{
+  char line[81];
+
+  g_assert_cmpuint (strlen (text), <=, 80);
+  memset (line, ' ', 80);
+  memcpy (line, text, strlen (text));
+  line[80] = '\0';
+  g_string_append (h, line);
+}

@@ -73,6 +73,26 @@ char       *efflux_test_pixel_square   (const EffluxCube *cube,
                                         int               x1,
                                         int               y1);
 
+/* A dossier for the compare and review tests, written to dir/file (returned): source NAME on the
+ * column of the cube's reference pixel (pixel 17, 5: the test cube's), one CO cube "co.fits"
+ * (rms 0.1 K), Tex 20 K, X(CO) 1e-4, no Monte Carlo, a comment line, then the lobe sections. */
+char       *efflux_test_write_square_dossier (const EffluxCube *cube,
+                                              const char       *dir,
+                                              const char       *file,
+                                              const char       *name,
+                                              double            distance_pc,
+                                              const char       *lobes);
+/* "[Lobe NAME]" with its kind, cube co, outline, velocity range ("v1;v2") and author. */
+char       *efflux_test_lobe_section   (const char *name,
+                                        const char *kind,
+                                        const char *polygon,
+                                        const char *velocity,
+                                        const char *author);
+
+/* One 80-character FITS header card (text padded with blanks) appended to h. */
+void        efflux_test_fits_card      (GString    *h,
+                                        const char *text);
+
 /* --- numbers ----------------------------------------------------------------------------------- */
 
 /* Assert |got - want| <= tol x |want| (so got == want when want is 0). */

@@ -62,43 +62,6 @@ fixture_tear_down (Fixture      *f,
   efflux_cube_free (f->cube);
 }
 
-static char *
-write_dossier (Fixture    *f,
-               const char *file,
-               double      distance_pc,
-               const char *lobes)
-{
-  double ra, dec;
-  char a[G_ASCII_DTOSTR_BUF_SIZE], b[G_ASCII_DTOSTR_BUF_SIZE];
-  g_autofree char *text = NULL;
-  g_autoptr (GError) error = NULL;
-  char *path = g_build_filename (f->dir, file, NULL);
-
-  /* the source sits on the column of the reference pixel (x = 17): the squares at x 10..19 and
-   * 15..24 are mirror images about it, on the sky too (TAN is symmetric about that meridian) */
-  g_assert_true (efflux_cube_pixel_to_icrs (f->cube, 17.0, 5.0, &ra, &dec));
-  text = g_strdup_printf ("# a comment that must survive\n"
-                          "[Source]\nname=Compare test\nra-deg=%s\ndec-deg=%s\ndistance-pc=%g\nvsys-kms=0\n"
-                          "[Assumptions]\ntex-k=20\nco-abundance=1e-4\nmc-samples=0\n"
-                          "[Cube co]\npath=co.fits\nline=12CO 2-1\nrms-k=0.1\n%s",
-                          g_ascii_formatd (a, sizeof a, "%.12f", ra), g_ascii_formatd (b, sizeof b, "%.12f", dec),
-                          distance_pc, lobes);
-  g_assert_true (g_file_set_contents (path, text, -1, &error));
-  g_assert_no_error (error);
-  return path;
-}
-
-static char *
-lobe (const char *name,
-      const char *kind,
-      const char *polygon,
-      const char *velocity,
-      const char *author)
-{
-  return g_strdup_printf ("[Lobe %s]\nkind=%s\ncube=co\npolygon=%s\nvelocity-kms=%s\nauthor=%s\n",
-                          name, kind, polygon, velocity, author);
-}
-
 /* Mine: blue-1 (x 10..19, y 10..19) and red-1 (x 10..19, y 25..34), at 300 pc.
  * Theirs, at 600 pc: blue-1 moved by half its side (x 15..24): matched by name, IoU 1/3;
  * "R-north" = red-1 moved by 2 pixels in y: matched by overlap, IoU 2/3; "R-small" (x 18..22,
@@ -114,17 +77,17 @@ make_pair (Fixture *f,
   g_autofree char *d = efflux_test_pixel_square (f->cube, 10, 27, 19, 36);
   g_autofree char *e = efflux_test_pixel_square (f->cube, 18, 25, 22, 29);
   g_autofree char *g = efflux_test_pixel_square (f->cube, 26, 2, 30, 6);
-  g_autofree char *m1 = lobe ("blue-1", "blue", a, "-5.5;-0.5", "Me");
-  g_autofree char *m2 = lobe ("red-1", "red", c, "0.5;5.5", "Me");
-  g_autofree char *t1 = lobe ("R-small", "red", e, "0.5;5.5", "A. Colleague");
-  g_autofree char *t2 = lobe ("blue-1", "blue", b, "-5.5;-0.5", "A. Colleague");
-  g_autofree char *t3 = lobe ("R-north", "red", d, "1.5;5.5", "A. Colleague");
-  g_autofree char *t4 = lobe ("B-far", "blue", g, "-5.5;-0.5", "A. Colleague");
+  g_autofree char *m1 = efflux_test_lobe_section ("blue-1", "blue", a, "-5.5;-0.5", "Me");
+  g_autofree char *m2 = efflux_test_lobe_section ("red-1", "red", c, "0.5;5.5", "Me");
+  g_autofree char *t1 = efflux_test_lobe_section ("R-small", "red", e, "0.5;5.5", "A. Colleague");
+  g_autofree char *t2 = efflux_test_lobe_section ("blue-1", "blue", b, "-5.5;-0.5", "A. Colleague");
+  g_autofree char *t3 = efflux_test_lobe_section ("R-north", "red", d, "1.5;5.5", "A. Colleague");
+  g_autofree char *t4 = efflux_test_lobe_section ("B-far", "blue", g, "-5.5;-0.5", "A. Colleague");
   g_autofree char *mine = g_strconcat (m1, m2, NULL);
   g_autofree char *theirs = g_strconcat (t1, t2, t3, t4, NULL);
 
-  *mine_path = write_dossier (f, "mine.efflux", 300, mine);
-  *theirs_path = write_dossier (f, "theirs.efflux", 600, theirs);
+  *mine_path = efflux_test_write_square_dossier (f->cube, f->dir, "mine.efflux", "Compare test", 300, mine);
+  *theirs_path = efflux_test_write_square_dossier (f->cube, f->dir, "theirs.efflux", "Compare test", 600, theirs);
 }
 
 static const EffluxCompareRow *

@@ -16,18 +16,7 @@
 #include <glib/gstdio.h>
 
 #include "efflux-cube.h"
-
-static void
-card (GString    *h,
-      const char *text)
-{
-  char line[81];
-
-  memset (line, ' ', 80);
-  memcpy (line, text, strlen (text));
-  line[80] = '\0';
-  g_string_append (h, line);
-}
+#include "efflux-test-util.h"
 
 /* voxel (x, y, k): a smooth value, NaN on a sparse pattern */
 static float
@@ -54,35 +43,35 @@ write_cube (const char *path,
   g_autofree guint32 *plane = g_new (guint32, nx * ny);
   FILE *fp;
 
-  card (h, "SIMPLE  =                    T");
-  card (h, "BITPIX  =                  -32");
-  card (h, "NAXIS   =                    3");
+  efflux_test_fits_card (h, "SIMPLE  =                    T");
+  efflux_test_fits_card (h, "BITPIX  =                  -32");
+  efflux_test_fits_card (h, "NAXIS   =                    3");
   text = g_strdup_printf ("NAXIS1  = %20" G_GSIZE_FORMAT, nx);
-  card (h, text);
+  efflux_test_fits_card (h, text);
   g_free (text);
   text = g_strdup_printf ("NAXIS2  = %20" G_GSIZE_FORMAT, ny);
-  card (h, text);
+  efflux_test_fits_card (h, text);
   g_free (text);
   text = g_strdup_printf ("NAXIS3  = %20" G_GSIZE_FORMAT, nchan);
-  card (h, text);
-  card (h, "CTYPE1  = 'RA---SIN'");
-  card (h, "CRVAL1  =               52.263");
-  card (h, "CDELT1  =     -5.5555555556E-5");
-  card (h, "CRPIX1  =                 10.0");
-  card (h, "CUNIT1  = 'deg'");
-  card (h, "CTYPE2  = 'DEC--SIN'");
-  card (h, "CRVAL2  =               31.255");
-  card (h, "CDELT2  =      5.5555555556E-5");
-  card (h, "CRPIX2  =                 10.0");
-  card (h, "CUNIT2  = 'deg'");
-  card (h, "CTYPE3  = 'VRAD'");
-  card (h, "CRVAL3  =                  0.0");
-  card (h, "CDELT3  =                  0.5");
-  card (h, "CRPIX3  =                  1.0");
-  card (h, "CUNIT3  = 'km/s'");
-  card (h, "SPECSYS = 'LSRK'");
-  card (h, "BUNIT   = 'K'");
-  card (h, "END");
+  efflux_test_fits_card (h, text);
+  efflux_test_fits_card (h, "CTYPE1  = 'RA---SIN'");
+  efflux_test_fits_card (h, "CRVAL1  =               52.263");
+  efflux_test_fits_card (h, "CDELT1  =     -5.5555555556E-5");
+  efflux_test_fits_card (h, "CRPIX1  =                 10.0");
+  efflux_test_fits_card (h, "CUNIT1  = 'deg'");
+  efflux_test_fits_card (h, "CTYPE2  = 'DEC--SIN'");
+  efflux_test_fits_card (h, "CRVAL2  =               31.255");
+  efflux_test_fits_card (h, "CDELT2  =      5.5555555556E-5");
+  efflux_test_fits_card (h, "CRPIX2  =                 10.0");
+  efflux_test_fits_card (h, "CUNIT2  = 'deg'");
+  efflux_test_fits_card (h, "CTYPE3  = 'VRAD'");
+  efflux_test_fits_card (h, "CRVAL3  =                  0.0");
+  efflux_test_fits_card (h, "CDELT3  =                  0.5");
+  efflux_test_fits_card (h, "CRPIX3  =                  1.0");
+  efflux_test_fits_card (h, "CUNIT3  = 'km/s'");
+  efflux_test_fits_card (h, "SPECSYS = 'LSRK'");
+  efflux_test_fits_card (h, "BUNIT   = 'K'");
+  efflux_test_fits_card (h, "END");
   while (h->len % 2880)
     g_string_append_c (h, ' ');
   fp = fopen (path, "wb");

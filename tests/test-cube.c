@@ -242,19 +242,6 @@ test_noise (void)
 /* ---------------------------------------------------------------------------------------- */
 /* bad files                                                                                   */
 
-static void
-add_card (GString    *h,
-          const char *card)
-{
-  char line[81];
-
-  g_assert_cmpuint (strlen (card), <=, 80);
-  memset (line, ' ', 80);
-  memcpy (line, card, strlen (card));
-  line[80] = '\0';
-  g_string_append (h, line);
-}
-
 /* A FITS file: the cards (NULL-terminated), END, padding, then data_bytes bytes of zeros, padded
  * to a whole 2880-byte block when pad is TRUE (FITS standard). */
 static char *
@@ -267,8 +254,8 @@ write_fits_full (const char         *name,
   char *path = g_build_filename (tmpdir, name, NULL);
 
   for (int i = 0; cards[i] != NULL; i++)
-    add_card (h, cards[i]);
-  add_card (h, "END");
+    efflux_test_fits_card (h, cards[i]);
+  efflux_test_fits_card (h, "END");
   while (h->len % 2880)
     g_string_append_c (h, ' ');
   {

@@ -31,22 +31,11 @@
 extern char **environ;
 
 #include "efflux-cube.h"
+#include "efflux-test-util.h"
 
 #define NX 512
 #define NY 512
 #define NCHAN 256
-
-static void
-card (GString    *h,
-      const char *text)
-{
-  char line[81];
-
-  memset (line, ' ', 80);
-  memcpy (line, text, strlen (text));
-  line[80] = '\0';
-  g_string_append (h, line);
-}
 
 static void
 write_cube (const char *path)
@@ -56,31 +45,31 @@ write_cube (const char *path)
   gsize plane = (gsize) NX * NY;
   g_autofree guint32 *buf = g_new (guint32, plane);
 
-  card (h, "SIMPLE  =                    T");
-  card (h, "BITPIX  =                  -32");
-  card (h, "NAXIS   =                    3");
-  card (h, "NAXIS1  =                  512");
-  card (h, "NAXIS2  =                  512");
-  card (h, "NAXIS3  =                  256");
-  card (h, "CTYPE1  = 'RA---SIN'");
-  card (h, "CRVAL1  =               52.263");
-  card (h, "CDELT1  =     -5.5555555556E-5");
-  card (h, "CRPIX1  =                257.0");
-  card (h, "CUNIT1  = 'deg'");
-  card (h, "CTYPE2  = 'DEC--SIN'");
-  card (h, "CRVAL2  =               31.255");
-  card (h, "CDELT2  =      5.5555555556E-5");
-  card (h, "CRPIX2  =                257.0");
-  card (h, "CUNIT2  = 'deg'");
-  card (h, "CTYPE3  = 'VRAD'");
-  card (h, "CRVAL3  =                  0.0");
-  card (h, "CDELT3  =                  0.1");
-  card (h, "CRPIX3  =                128.0");
-  card (h, "CUNIT3  = 'km/s'");
-  card (h, "SPECSYS = 'LSRK'");
-  card (h, "RADESYS = 'ICRS'");
-  card (h, "BUNIT   = 'K'");
-  card (h, "END");
+  efflux_test_fits_card (h, "SIMPLE  =                    T");
+  efflux_test_fits_card (h, "BITPIX  =                  -32");
+  efflux_test_fits_card (h, "NAXIS   =                    3");
+  efflux_test_fits_card (h, "NAXIS1  =                  512");
+  efflux_test_fits_card (h, "NAXIS2  =                  512");
+  efflux_test_fits_card (h, "NAXIS3  =                  256");
+  efflux_test_fits_card (h, "CTYPE1  = 'RA---SIN'");
+  efflux_test_fits_card (h, "CRVAL1  =               52.263");
+  efflux_test_fits_card (h, "CDELT1  =     -5.5555555556E-5");
+  efflux_test_fits_card (h, "CRPIX1  =                257.0");
+  efflux_test_fits_card (h, "CUNIT1  = 'deg'");
+  efflux_test_fits_card (h, "CTYPE2  = 'DEC--SIN'");
+  efflux_test_fits_card (h, "CRVAL2  =               31.255");
+  efflux_test_fits_card (h, "CDELT2  =      5.5555555556E-5");
+  efflux_test_fits_card (h, "CRPIX2  =                257.0");
+  efflux_test_fits_card (h, "CUNIT2  = 'deg'");
+  efflux_test_fits_card (h, "CTYPE3  = 'VRAD'");
+  efflux_test_fits_card (h, "CRVAL3  =                  0.0");
+  efflux_test_fits_card (h, "CDELT3  =                  0.1");
+  efflux_test_fits_card (h, "CRPIX3  =                128.0");
+  efflux_test_fits_card (h, "CUNIT3  = 'km/s'");
+  efflux_test_fits_card (h, "SPECSYS = 'LSRK'");
+  efflux_test_fits_card (h, "RADESYS = 'ICRS'");
+  efflux_test_fits_card (h, "BUNIT   = 'K'");
+  efflux_test_fits_card (h, "END");
   while (h->len % 2880)
     g_string_append_c (h, ' ');
   fp = fopen (path, "wb");

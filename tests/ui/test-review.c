@@ -59,43 +59,6 @@ wait_compared (EffluxReviewSheet *sheet)
   g_assert_false (efflux_review_sheet_is_busy (sheet));
 }
 
-static char *
-write_dossier (Fixture    *f,
-               const char *file,
-               const char *name,
-               double      distance_pc,
-               const char *lobes)
-{
-  double ra, dec;
-  char a[G_ASCII_DTOSTR_BUF_SIZE], b[G_ASCII_DTOSTR_BUF_SIZE];
-  g_autofree char *text = NULL;
-  g_autoptr(GError) error = NULL;
-  char *path = g_build_filename (f->dir, file, NULL);
-
-  /* the source on the reference pixel's column (x = 17) */
-  g_assert_true (efflux_cube_pixel_to_icrs (f->cube, 17.0, 5.0, &ra, &dec));
-  text = g_strdup_printf ("# a comment that must survive\n"
-                          "[Source]\nname=%s\nra-deg=%s\ndec-deg=%s\ndistance-pc=%g\nvsys-kms=0\n"
-                          "[Assumptions]\ntex-k=20\nco-abundance=1e-4\nmc-samples=0\n"
-                          "[Cube co]\npath=co.fits\nline=12CO 2-1\nrms-k=0.1\n%s",
-                          name, g_ascii_formatd (a, sizeof a, "%.12f", ra),
-                          g_ascii_formatd (b, sizeof b, "%.12f", dec), distance_pc, lobes);
-  g_assert_true (g_file_set_contents (path, text, -1, &error));
-  g_assert_no_error (error);
-  return path;
-}
-
-static char *
-lobe (const char *name,
-      const char *kind,
-      const char *polygon,
-      const char *velocity,
-      const char *author)
-{
-  return g_strdup_printf ("[Lobe %s]\nkind=%s\ncube=co\npolygon=%s\nvelocity-kms=%s\nauthor=%s\n",
-                          name, kind, polygon, velocity, author);
-}
-
 static void
 fixture_set_up (Fixture      *f,
                 gconstpointer data)
@@ -120,17 +83,17 @@ fixture_set_up (Fixture      *f,
   b = efflux_test_pixel_square (f->cube, 15, 10, 24, 19);
   c = efflux_test_pixel_square (f->cube, 10, 25, 19, 34);
   d = efflux_test_pixel_square (f->cube, 26, 2, 30, 6);
-  m1 = lobe ("blue-1", "blue", a, "-5.5;-0.5", "Me");
-  m2 = lobe ("red-1", "red", c, "0.5;5.5", "Me");
-  t1 = lobe ("blue-1", "blue", b, "-5.5;-0.5", "A. Colleague");
-  t2 = lobe ("R-far", "red", d, "0.5;5.5", "A. Colleague");
-  o1 = lobe ("blue-1", "blue", a, "-5.5;-0.5", "Someone");
+  m1 = efflux_test_lobe_section ("blue-1", "blue", a, "-5.5;-0.5", "Me");
+  m2 = efflux_test_lobe_section ("red-1", "red", c, "0.5;5.5", "Me");
+  t1 = efflux_test_lobe_section ("blue-1", "blue", b, "-5.5;-0.5", "A. Colleague");
+  t2 = efflux_test_lobe_section ("R-far", "red", d, "0.5;5.5", "A. Colleague");
+  o1 = efflux_test_lobe_section ("blue-1", "blue", a, "-5.5;-0.5", "Someone");
   mine = g_strconcat (m1, m2, NULL);
   theirs = g_strconcat (t1, t2, NULL);
   /* the same source, written a little differently by the colleague */
-  f->mine = write_dossier (f, "mine.efflux", "Test Source 1", 300, mine);
-  f->theirs = write_dossier (f, "theirs.efflux", "test source 1", 600, theirs);
-  f->other = write_dossier (f, "other.efflux", "Another Source", 300, o1);
+  f->mine = efflux_test_write_square_dossier (f->cube, f->dir, "mine.efflux", "Test Source 1", 300, mine);
+  f->theirs = efflux_test_write_square_dossier (f->cube, f->dir, "theirs.efflux", "test source 1", 600, theirs);
+  f->other = efflux_test_write_square_dossier (f->cube, f->dir, "other.efflux", "Another Source", 300, o1);
 }
 
 static void
