@@ -842,16 +842,6 @@ transpose_chunk (const guint32 *in,
  * aligned: the stores of one pixel's 16 channels fill one cache line). Measured on the 256 MiB
  * float32 cube of bench-load: the transpose took 5x the kernel's page-cache copy as a scalar
  * gather through a tile (51 % of the CPU time of a load) and about 1x now (see bench-load). */
-#ifdef __SSE2__
-static inline __m128i
-bswap32x4 (__m128i v)
-{
-  v = _mm_shufflelo_epi16 (v, _MM_SHUFFLE (2, 3, 0, 1));
-  v = _mm_shufflehi_epi16 (v, _MM_SHUFFLE (2, 3, 0, 1));
-  return _mm_or_si128 (_mm_slli_epi16 (v, 8), _mm_srli_epi16 (v, 8));
-}
-#endif
-
 static void
 swap_transpose_slices (const guint32 *in,
                        gsize          in_plane,
@@ -887,10 +877,10 @@ swap_transpose_slices (const guint32 *in,
               for (gsize b = 0; b < nb; b++)
                 {
                   const guint32 *q = p + (j0 + 4 * b) * in_plane;
-                  __m128i r0 = bswap32x4 (_mm_loadu_si128 ((const __m128i *) q));
-                  __m128i r1 = bswap32x4 (_mm_loadu_si128 ((const __m128i *) (q + in_plane)));
-                  __m128i r2 = bswap32x4 (_mm_loadu_si128 ((const __m128i *) (q + 2 * in_plane)));
-                  __m128i r3 = bswap32x4 (_mm_loadu_si128 ((const __m128i *) (q + 3 * in_plane)));
+                  __m128i r0 = efflux_bswap32x4 (_mm_loadu_si128 ((const __m128i *) q));
+                  __m128i r1 = efflux_bswap32x4 (_mm_loadu_si128 ((const __m128i *) (q + in_plane)));
+                  __m128i r2 = efflux_bswap32x4 (_mm_loadu_si128 ((const __m128i *) (q + 2 * in_plane)));
+                  __m128i r3 = efflux_bswap32x4 (_mm_loadu_si128 ((const __m128i *) (q + 3 * in_plane)));
                   __m128i t0 = _mm_unpacklo_epi32 (r0, r1), t1 = _mm_unpacklo_epi32 (r2, r3);
                   __m128i t2 = _mm_unpackhi_epi32 (r0, r1), t3 = _mm_unpackhi_epi32 (r2, r3);
 

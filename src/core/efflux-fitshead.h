@@ -39,6 +39,19 @@ gboolean efflux_fits_pread_all (int      fd,
                                 guint64  offset,
                                 int     *err_no);
 
+#ifdef __SSE2__
+#include <emmintrin.h>
+
+/* Four big-endian 32-bit words (FITS data) to this machine's order, in SSE2 registers. */
+static inline __m128i
+efflux_bswap32x4 (__m128i v)
+{
+  v = _mm_shufflelo_epi16 (v, _MM_SHUFFLE (2, 3, 0, 1));
+  v = _mm_shufflehi_epi16 (v, _MM_SHUFFLE (2, 3, 0, 1));
+  return _mm_or_si128 (_mm_slli_epi16 (v, 8), _mm_srli_epi16 (v, 8));
+}
+#endif
+
 /* How a threaded read of the data ended (the loader's and the moment stream's workers): 0 fine,
  * 1 a read error (err_no), 2 cancelled, 3 no memory for the read buffer. FALSE with the one-line
  * error naming PATH for 1-3 or when CANCELLABLE is cancelled. */

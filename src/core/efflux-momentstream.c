@@ -87,14 +87,6 @@ read_piece (StreamJob *job,
  * the same bits as the scalar loop that does the rest. */
 
 #ifdef __SSE2__
-static inline __m128i
-bswap32x4 (__m128i v)
-{
-  v = _mm_shufflelo_epi16 (v, _MM_SHUFFLE (2, 3, 0, 1));
-  v = _mm_shufflehi_epi16 (v, _MM_SHUFFLE (2, 3, 0, 1));
-  return _mm_or_si128 (_mm_slli_epi16 (v, 8), _mm_srli_epi16 (v, 8));
-}
-
 /* four voxels in K (k: NULL when none is applied); *finite: all ones where finite. Non-finite
  * voxels come out as +0. */
 static inline __m128
@@ -103,7 +95,7 @@ load4 (const guint32 *in,
        __m128i       *finite)
 {
   const __m128i exp_mask = _mm_set1_epi32 (0x7f800000);
-  __m128i w = bswap32x4 (_mm_loadu_si128 ((const __m128i *) in));
+  __m128i w = efflux_bswap32x4 (_mm_loadu_si128 ((const __m128i *) in));
   __m128i bad;
 
   if (k != NULL)
