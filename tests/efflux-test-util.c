@@ -1,5 +1,6 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 #include "efflux-test-util.h"
+#include "efflux-fitsout.h"
 
 #include <errno.h>
 #include <glib/gstdio.h>
@@ -275,6 +276,21 @@ efflux_test_pixel_square (const EffluxCube *cube,
   return g_string_free (s, FALSE);
 }
 
+EffluxCube *
+efflux_test_write_square_cube (const char *dir)
+{
+  g_autoptr (GError) error = NULL;
+  g_autofree char *path = g_build_filename (dir, "co.fits", NULL);
+  EffluxCube *cube = efflux_cube_new_simple (35, 40, 12, 83.8, -5.4, 2.0, -5.5, 1.0, 230.538e9);
+
+  g_assert_nonnull (cube);
+  for (gsize i = 0; i < (gsize) 35 * 40 * 12; i++)
+    cube->data[i] = 1.0f;
+  g_assert_true (efflux_fits_write_cube (cube, path, NULL, &error));
+  g_assert_no_error (error);
+  return cube;
+}
+
 char *
 efflux_test_write_square_dossier (const EffluxCube *cube,
                                   const char       *dir,
@@ -325,4 +341,54 @@ efflux_test_fits_card (GString    *h,
   memcpy (line, text, strlen (text));
   line[80] = '\0';
   g_string_append (h, line);
+}
+
+void
+efflux_test_fits_cube_header (GString *h,
+                              gsize    nx,
+                              gsize    ny,
+                              gsize    nchan,
+                              double   crpix,
+                              double   cdelt3,
+                              double   crpix3)
+{
+  const gsize naxis[3] = { nx, ny, nchan };
+
+  efflux_test_fits_card (h, "SIMPLE  =                    T");
+  efflux_test_fits_card (h, "BITPIX  =                  -32");
+  efflux_test_fits_card (h, "NAXIS   =                    3");
+  for (int a = 0; a < 3; a++)
+    {
+      g_autofree char *card = g_strdup_printf ("NAXIS%d  = %20" G_GSIZE_FORMAT, a + 1, naxis[a]);
+
+      efflux_test_fits_card (h, card);
+    }
+  efflux_test_fits_card (h, "CTYPE1  = 'RA---SIN'");
+  efflux_test_fits_card (h, "CRVAL1  =               52.263");
+  efflux_test_fits_card (h, "CDELT1  =     -5.5555555556E-5");
+  efflux_test_fits_card (h, "CUNIT1  = 'deg'");
+  efflux_test_fits_card (h, "CTYPE2  = 'DEC--SIN'");
+  efflux_test_fits_card (h, "CRVAL2  =               31.255");
+  efflux_test_fits_card (h, "CDELT2  =      5.5555555556E-5");
+  efflux_test_fits_card (h, "CUNIT2  = 'deg'");
+  efflux_test_fits_card (h, "CTYPE3  = 'VRAD'");
+  efflux_test_fits_card (h, "CRVAL3  =                  0.0");
+  efflux_test_fits_card (h, "CUNIT3  = 'km/s'");
+  {
+    g_autofree char *p1 = g_strdup_printf ("CRPIX1  = %20.1f", crpix);
+    g_autofree char *p2 = g_strdup_printf ("CRPIX2  = %20.1f", crpix);
+    g_autofree char *d3 = g_strdup_printf ("CDELT3  = %20.4f", cdelt3);
+    g_autofree char *p3 = g_strdup_printf ("CRPIX3  = %20.1f", crpix3);
+
+    efflux_test_fits_card (h, p1);
+    efflux_test_fits_card (h, p2);
+    efflux_test_fits_card (h, d3);
+    efflux_test_fits_card (h, p3);
+  }
+  efflux_test_fits_card (h, "SPECSYS = 'LSRK'");
+  efflux_test_fits_card (h, "RADESYS = 'ICRS'");
+  efflux_test_fits_card (h, "BUNIT   = 'K'");
+  efflux_test_fits_card (h, "END");
+  while (h->len % 2880)
+    g_string_append_c (h, ' ');
 }

@@ -73,6 +73,10 @@ char       *efflux_test_pixel_square   (const EffluxCube *cube,
                                         int               x1,
                                         int               y1);
 
+/* The compare and review tests' cube: 35 x 40 pixels of 2" around (83.8, -5.4), 12 channels of
+ * 1 km/s from -5.5 km/s, 1 K everywhere, written to dir/co.fits. */
+EffluxCube *efflux_test_write_square_cube (const char *dir);
+
 /* A dossier for the compare and review tests, written to dir/file (returned): source NAME on the
  * column of the cube's reference pixel (pixel 17, 5: the test cube's), one CO cube "co.fits"
  * (rms 0.1 K), Tex 20 K, X(CO) 1e-4, no Monte Carlo, a comment line, then the lobe sections. */
@@ -92,6 +96,16 @@ char       *efflux_test_lobe_section   (const char *name,
 /* One 80-character FITS header card (text padded with blanks) appended to h. */
 void        efflux_test_fits_card      (GString    *h,
                                         const char *text);
+/* The whole primary header (to a 2880-byte block) of an unscaled float32 cube nx x ny x nchan:
+ * RA---SIN / DEC--SIN around (52.263, 31.255), 0.2" pixels, reference pixel (crpix, crpix), and
+ * VRAD channels of cdelt3 km/s, 0 km/s at channel crpix3 (LSRK, ICRS, K). */
+void        efflux_test_fits_cube_header (GString *h,
+                                          gsize    nx,
+                                          gsize    ny,
+                                          gsize    nchan,
+                                          double   crpix,
+                                          double   cdelt3,
+                                          double   crpix3);
 
 /* --- numbers ----------------------------------------------------------------------------------- */
 

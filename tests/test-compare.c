@@ -18,16 +18,9 @@
 #include "efflux-compare.h"
 #include "efflux-cube.h"
 #include "efflux-dossier.h"
-#include "efflux-fitsout.h"
 #include "efflux-review.h"
 #include "efflux-sample.h"
 #include "efflux-test-util.h"
-
-#define REST_12CO21 230.538e9
-#define RA0 83.8
-#define DEC0 -5.4
-#define NX 35
-#define NY 40
 
 typedef struct
 {
@@ -40,17 +33,8 @@ static void
 fixture_set_up (Fixture      *f,
                 gconstpointer data)
 {
-  g_autoptr (GError) error = NULL;
-  g_autofree char *path = NULL;
-
   f->dir = efflux_test_tmp_dir ("efflux-compare");
-  f->cube = efflux_cube_new_simple (NX, NY, 12, RA0, DEC0, 2.0, -5.5, 1.0, REST_12CO21);
-  g_assert_nonnull (f->cube);
-  for (gsize i = 0; i < (gsize) NX * NY * 12; i++)
-    f->cube->data[i] = 1.0f;
-  path = g_build_filename (f->dir, "co.fits", NULL);
-  g_assert_true (efflux_fits_write_cube (f->cube, path, NULL, &error));
-  g_assert_no_error (error);
+  f->cube = efflux_test_write_square_cube (f->dir);
 }
 
 static void

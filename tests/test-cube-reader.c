@@ -39,41 +39,10 @@ write_cube (const char *path,
             gsize       nchan)
 {
   GString *h = g_string_new (NULL);
-  g_autofree char *text = NULL;
   g_autofree guint32 *plane = g_new (guint32, nx * ny);
   FILE *fp;
 
-  efflux_test_fits_card (h, "SIMPLE  =                    T");
-  efflux_test_fits_card (h, "BITPIX  =                  -32");
-  efflux_test_fits_card (h, "NAXIS   =                    3");
-  text = g_strdup_printf ("NAXIS1  = %20" G_GSIZE_FORMAT, nx);
-  efflux_test_fits_card (h, text);
-  g_free (text);
-  text = g_strdup_printf ("NAXIS2  = %20" G_GSIZE_FORMAT, ny);
-  efflux_test_fits_card (h, text);
-  g_free (text);
-  text = g_strdup_printf ("NAXIS3  = %20" G_GSIZE_FORMAT, nchan);
-  efflux_test_fits_card (h, text);
-  efflux_test_fits_card (h, "CTYPE1  = 'RA---SIN'");
-  efflux_test_fits_card (h, "CRVAL1  =               52.263");
-  efflux_test_fits_card (h, "CDELT1  =     -5.5555555556E-5");
-  efflux_test_fits_card (h, "CRPIX1  =                 10.0");
-  efflux_test_fits_card (h, "CUNIT1  = 'deg'");
-  efflux_test_fits_card (h, "CTYPE2  = 'DEC--SIN'");
-  efflux_test_fits_card (h, "CRVAL2  =               31.255");
-  efflux_test_fits_card (h, "CDELT2  =      5.5555555556E-5");
-  efflux_test_fits_card (h, "CRPIX2  =                 10.0");
-  efflux_test_fits_card (h, "CUNIT2  = 'deg'");
-  efflux_test_fits_card (h, "CTYPE3  = 'VRAD'");
-  efflux_test_fits_card (h, "CRVAL3  =                  0.0");
-  efflux_test_fits_card (h, "CDELT3  =                  0.5");
-  efflux_test_fits_card (h, "CRPIX3  =                  1.0");
-  efflux_test_fits_card (h, "CUNIT3  = 'km/s'");
-  efflux_test_fits_card (h, "SPECSYS = 'LSRK'");
-  efflux_test_fits_card (h, "BUNIT   = 'K'");
-  efflux_test_fits_card (h, "END");
-  while (h->len % 2880)
-    g_string_append_c (h, ' ');
+  efflux_test_fits_cube_header (h, nx, ny, nchan, 10.0, 0.5, 1.0);
   fp = fopen (path, "wb");
   g_assert_nonnull (fp);
   g_assert_cmpuint (fwrite (h->str, 1, h->len, fp), ==, h->len);

@@ -45,33 +45,7 @@ write_cube (const char *path)
   gsize plane = (gsize) NX * NY;
   g_autofree guint32 *buf = g_new (guint32, plane);
 
-  efflux_test_fits_card (h, "SIMPLE  =                    T");
-  efflux_test_fits_card (h, "BITPIX  =                  -32");
-  efflux_test_fits_card (h, "NAXIS   =                    3");
-  efflux_test_fits_card (h, "NAXIS1  =                  512");
-  efflux_test_fits_card (h, "NAXIS2  =                  512");
-  efflux_test_fits_card (h, "NAXIS3  =                  256");
-  efflux_test_fits_card (h, "CTYPE1  = 'RA---SIN'");
-  efflux_test_fits_card (h, "CRVAL1  =               52.263");
-  efflux_test_fits_card (h, "CDELT1  =     -5.5555555556E-5");
-  efflux_test_fits_card (h, "CRPIX1  =                257.0");
-  efflux_test_fits_card (h, "CUNIT1  = 'deg'");
-  efflux_test_fits_card (h, "CTYPE2  = 'DEC--SIN'");
-  efflux_test_fits_card (h, "CRVAL2  =               31.255");
-  efflux_test_fits_card (h, "CDELT2  =      5.5555555556E-5");
-  efflux_test_fits_card (h, "CRPIX2  =                257.0");
-  efflux_test_fits_card (h, "CUNIT2  = 'deg'");
-  efflux_test_fits_card (h, "CTYPE3  = 'VRAD'");
-  efflux_test_fits_card (h, "CRVAL3  =                  0.0");
-  efflux_test_fits_card (h, "CDELT3  =                  0.1");
-  efflux_test_fits_card (h, "CRPIX3  =                128.0");
-  efflux_test_fits_card (h, "CUNIT3  = 'km/s'");
-  efflux_test_fits_card (h, "SPECSYS = 'LSRK'");
-  efflux_test_fits_card (h, "RADESYS = 'ICRS'");
-  efflux_test_fits_card (h, "BUNIT   = 'K'");
-  efflux_test_fits_card (h, "END");
-  while (h->len % 2880)
-    g_string_append_c (h, ' ');
+  efflux_test_fits_cube_header (h, NX, NY, NCHAN, 257.0, 0.1, 128.0);
   fp = fopen (path, "wb");
   g_assert_nonnull (fp);
   g_assert_cmpuint (fwrite (h->str, 1, h->len, fp), ==, h->len);

@@ -25,7 +25,6 @@
 #include "efflux-compare.h"
 #include "efflux-cube.h"
 #include "efflux-dossier.h"
-#include "efflux-fitsout.h"
 #include "efflux-review.h"
 #include "efflux-review-sheet.h"
 #include "efflux-sample.h"
@@ -33,12 +32,6 @@
 #include "efflux-window.h"
 #include "efflux-test-util.h"
 #include "efflux-ui-test-util.h"
-
-#define REST_12CO21 230.538e9
-#define RA0 83.8
-#define DEC0 -5.4
-#define NX 35
-#define NY 40
 
 typedef struct
 {
@@ -64,20 +57,13 @@ fixture_set_up (Fixture      *f,
                 gconstpointer data)
 {
   g_autoptr(GError) error = NULL;
-  g_autofree char *path = NULL;
   g_autofree char *a = NULL, *b = NULL, *c = NULL, *d = NULL;
   g_autofree char *m1 = NULL, *m2 = NULL, *t1 = NULL, *t2 = NULL, *o1 = NULL;
   g_autofree char *mine = NULL, *theirs = NULL;
 
   f->dir = g_dir_make_tmp ("efflux-review-XXXXXX", &error);
   g_assert_no_error (error);
-  f->cube = efflux_cube_new_simple (NX, NY, 12, RA0, DEC0, 2.0, -5.5, 1.0, REST_12CO21);
-  g_assert_nonnull (f->cube);
-  for (gsize i = 0; i < (gsize) NX * NY * 12; i++)
-    f->cube->data[i] = 1.0f;
-  path = g_build_filename (f->dir, "co.fits", NULL);
-  g_assert_true (efflux_fits_write_cube (f->cube, path, NULL, &error));
-  g_assert_no_error (error);
+  f->cube = efflux_test_write_square_cube (f->dir);
 
   a = efflux_test_pixel_square (f->cube, 10, 10, 19, 19);
   b = efflux_test_pixel_square (f->cube, 15, 10, 24, 19);
