@@ -472,21 +472,15 @@ efflux_document_get_path (EffluxDocument *self)
   return self->path;
 }
 
-gboolean
-efflux_document_save (EffluxDocument  *self,
-                      const char      *path,
-                      GError         **error)
+/* The dossier was just written to path: the saved state is the top of the history, and path the
+ * document's file. */
+static void
+mark_saved (EffluxDocument *self,
+            const char     *path)
 {
-  gboolean was_modified;
-  Command *top;
+  gboolean was_modified = efflux_document_get_modified (self);
+  Command *top = g_queue_peek_tail (&self->undo);
 
-  g_return_val_if_fail (EFFLUX_IS_DOCUMENT (self), FALSE);
-  if (path == NULL)
-    path = self->path;
-  if (!efflux_dossier_save (self->dossier, path, error))
-    return FALSE;
-  was_modified = efflux_document_get_modified (self);
-  top = g_queue_peek_tail (&self->undo);
   self->saved_serial = top ? top->serial : 0;
   if (g_strcmp0 (path, self->path) != 0)
     {
@@ -496,6 +490,19 @@ efflux_document_save (EffluxDocument  *self,
     }
   if (was_modified)
     g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_MODIFIED]);
+}
+
+gboolean
+efflux_document_save (EffluxDocument  *self,
+                      const char      *path,
+                      GError         **error)
+{
+  g_return_val_if_fail (EFFLUX_IS_DOCUMENT (self), FALSE);
+  if (path == NULL)
+    path = self->path;
+  if (!efflux_dossier_save (self->dossier, path, error))
+    return FALSE;
+  mark_saved (self, path);
   return TRUE;
 }
 
@@ -507,8 +514,6 @@ efflux_document_save_as (EffluxDocument  *self,
 {
   g_autofree char *old_dir = NULL;
   GQueue *stacks[2];
-  gboolean was_modified;
-  Command *top;
 
   g_return_val_if_fail (EFFLUX_IS_DOCUMENT (self), FALSE);
   g_return_val_if_fail (path != NULL, FALSE);
@@ -539,17 +544,7 @@ efflux_document_save_as (EffluxDocument  *self,
                 }
           }
       }
-  was_modified = efflux_document_get_modified (self);
-  top = g_queue_peek_tail (&self->undo);
-  self->saved_serial = top ? top->serial : 0;
-  if (g_strcmp0 (path, self->path) != 0)
-    {
-      g_free (self->path);
-      self->path = g_strdup (path);
-      g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_PATH]);
-    }
-  if (was_modified)
-    g_object_notify_by_pspec (G_OBJECT (self), properties[PROP_MODIFIED]);
+  mark_saved (self, path);
   return TRUE;
 }
 
