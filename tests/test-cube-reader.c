@@ -1,8 +1,9 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 /* The float32 fast path of efflux_cube_load (pread on two threads, the SIMD byte-swap
- * transpose by 4 x 4 blocks, units of 64 channels by a few rows) on shapes that exercise every
- * edge: several units of channels and of rows, widths and channel counts that are not multiples
- * of 4, NaN voxels, and the channel subset. The reference is the file itself: every voxel is
+ * transpose by 4 x 4 blocks with SSE2 or 8 x 8 blocks with AVX2, units of 64 channels by a few
+ * rows) on shapes that exercise every edge: several units of channels and of rows, widths and
+ * channel counts that are not multiples of 4, 8 or 16, NaN voxels, and the channel subset; each
+ * shape is read with the SSE2 code and, where the processor has AVX2, with the AVX2 code. The reference is the file itself: every voxel is
  * written here as a big-endian IEEE 754 float32, as the FITS standard 4.0 defines BITPIX = -32
  * (Pence et al. 2010, A&A 524, A42, section 5.3), with a value known from its position, and
  * every voxel read back must be that float exactly. */
@@ -71,9 +72,9 @@ write_cube (const char *path,
 }
 
 static void
-check_shape (gsize nx,
-             gsize ny,
-             gsize nchan)
+check_shape_once (gsize nx,
+                  gsize ny,
+                  gsize nchan)
 {
   g_autoptr(GError) error = NULL;
   g_autofree char *dir = g_dir_make_tmp ("efflux-test-cube-reader-XXXXXX", &error);
@@ -143,6 +144,20 @@ check_shape (gsize nx,
   g_rmdir (dir);
 }
 
+/* every shape with the SSE2 code, then with the AVX2 code where the processor has it */
+static void
+check_shape (gsize nx,
+             gsize ny,
+             gsize nchan)
+{
+  efflux_cube_loader_allow_avx2 (FALSE);
+  g_assert_false (efflux_cube_loader_uses_avx2 ());
+  check_shape_once (nx, ny, nchan);
+  efflux_cube_loader_allow_avx2 (TRUE);
+  if (efflux_cube_loader_uses_avx2 ())
+    check_shape_once (nx, ny, nchan);
+}
+
 static void
 test_wide_rows (void)
 {
@@ -160,6 +175,19 @@ test_odd_sizes (void)
   check_shape (1, 1, 9);
 }
 
+static void
+test_vector_blocks (void)
+{
+  /* whole AVX2 blocks (widths multiple of 8, channels of 16) with non-temporal stores */
+  check_shape (64, 40, 128);
+  /* channels a multiple of 4 but not of 8: the SSE2 code keeps its non-temporal stores */
+  check_shape (24, 9, 132);
+  /* a width of 8 k + 3 and 16 k + 5 channels: AVX2 blocks, and SSE2 and scalar edges */
+  check_shape (43, 6, 85);
+  if (!efflux_cube_loader_uses_avx2 ())
+    g_test_message ("no AVX2 on this processor: only the SSE2 code was checked");
+}
+
 int
 main (int    argc,
       char **argv)
@@ -167,5 +195,6 @@ main (int    argc,
   g_test_init (&argc, &argv, NULL);
   g_test_add_func ("/cube-reader/wide-rows", test_wide_rows);
   g_test_add_func ("/cube-reader/odd-sizes", test_odd_sizes);
+  g_test_add_func ("/cube-reader/vector-blocks", test_vector_blocks);
   return g_test_run ();
 }

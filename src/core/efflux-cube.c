@@ -20,8 +20,10 @@
  *   memset. The read buffers are huge pages too.
  * - unscaled float32 (the common case, spectral axis slowest in the file): units of 64 channels
  *   by a few rows, about 4 MiB, are pread () by two threads and go from the buffer to the array
- *   in one pass: byte swap and transpose in SSE2 registers by 4 x 4 blocks, 256 contiguous bytes
- *   of each spectrum stored at once with non-temporal stores (swap_transpose_slices). The
+ *   in one pass: byte swap and transpose in vector registers (AVX2 by 8 x 8 blocks where the
+ *   processor has it, chosen at run time, else SSE2 by 4 x 4 blocks), 256 contiguous bytes of
+ *   each spectrum stored at once with non-temporal stores (swap_transpose_unit). AVX2 took 12 %
+ *   off the load time, measured against SSE2 back to back (medians 46 ms against 53 ms). The
  *   slices in the buffer are padded by one cache line (no cache-set conflicts between them) and
  *   the units go block of rows by block of rows (a huge page of the array is filled soon after
  *   it is zeroed); each gave about 10 % of the load time, measured back to back. On the virtual
@@ -44,6 +46,9 @@
 #include <sys/mman.h>
 #ifdef __SSE2__
 #include <emmintrin.h>
+#endif
+#if defined(__x86_64__) && (defined(__GNUC__) || defined(__clang__))
+#include <immintrin.h>
 #endif
 #include <unistd.h>
 #include <stdio.h>
@@ -835,8 +840,8 @@ transpose_chunk (const guint32 *in,
 }
 
 /* The common case of the float32 reader, where the spectral axis is the slowest file axis: a
- * chunk of cn slices (channels), each n1 rows of n0 big-endian words (in[j * in_plane + i1 * n0 +
- * i0]), goes to out[i0 * s0 + i1 * s1 + j]. With SSE2 (every x86-64) it runs by 4 x 4 blocks:
+ * chunk of cn slices (channels), each n1 rows of n0 big-endian words (in[j * in_plane + i1 *
+ * in_row + i0]), goes to out[i0 * s0 + i1 * s1 + j]. With SSE2 (every x86-64) it runs by 4 x 4 blocks:
  * four loads of four neighbouring pixels from four channels, the byte swap in registers, a 4 x 4
  * transpose by unpacks, and four 16-byte stores of four channels of one pixel (non-temporal when
  * aligned: the stores of one pixel's 16 channels fill one cache line). Measured on the 256 MiB
@@ -845,6 +850,7 @@ transpose_chunk (const guint32 *in,
 static void
 swap_transpose_slices (const guint32 *in,
                        gsize          in_plane,
+                       gsize          in_row,
                        gsize          n0,
                        gsize          n1,
                        gsize          cn,
@@ -864,7 +870,7 @@ swap_transpose_slices (const guint32 *in,
     for (gsize i1 = 0; i1 < n1; i1++)
       for (gsize i0 = 0; i0 < i0_vec; i0 += 4)
         {
-          const guint32 *p = in + i1 * n0 + i0;
+          const guint32 *p = in + i1 * in_row + i0;
           guint32 *o = out + i0 * s0 + i1 * s1;
 
           /* 16 channels at a time (4 blocks), kept in registers, so that each pixel's stores
@@ -909,7 +915,143 @@ swap_transpose_slices (const guint32 *in,
   for (gsize i1 = 0; i1 < n1; i1++)
     for (gsize i0 = 0; i0 < n0; i0++)
       for (gsize j = i0 < i0_vec ? j_vec : 0; j < cn; j++)
-        out[i0 * s0 + i1 * s1 + j] = GUINT32_FROM_BE (in[j * in_plane + i1 * n0 + i0]);
+        out[i0 * s0 + i1 * s1 + j] = GUINT32_FROM_BE (in[j * in_plane + i1 * in_row + i0]);
+}
+
+#if defined(__x86_64__) && (defined(__GNUC__) || defined(__clang__))
+#define EFFLUX_HAVE_AVX2_PATH 1
+
+/* The same with AVX2, for processors that have it (chosen at run time, the build stays baseline
+ * x86-64): blocks of 8 neighbouring pixels by 8 channels, the byte swap by one shuffle instead of
+ * five SSE2 operations, an 8 x 8 transpose in three rounds of unpacks and lane permutes, and two
+ * 32-byte stores per pixel line of 16 channels. It covers the pixels and channels that make
+ * whole blocks of 8 x 16 and hands the rest to swap_transpose_slices. Measured alone on one
+ * core (256 MiB, the buffer in the cache): 26 ms against 42 ms for the SSE2 code, where storing
+ * 256-byte runs non-temporally takes 16-19 ms. */
+__attribute__ ((target ("avx2"))) static void
+swap_transpose_avx2 (const guint32 *in,
+                     gsize          in_plane,
+                     gsize          in_row,
+                     gsize          n0,
+                     gsize          n1,
+                     gsize          cn,
+                     guint32       *out,
+                     gsize          s0,
+                     gsize          s1)
+{
+  const __m256i swap = _mm256_set_epi8 (12, 13, 14, 15, 8, 9, 10, 11, 4, 5, 6, 7, 0, 1, 2, 3,
+                                        12, 13, 14, 15, 8, 9, 10, 11, 4, 5, 6, 7, 0, 1, 2, 3);
+  gboolean nt = ((guintptr) out & 31) == 0 && s0 % 8 == 0 && s1 % 8 == 0;
+  gsize i0_vec = n0 / 8 * 8, j_vec = cn / 16 * 16;
+
+  for (gsize i1 = 0; i1 < n1; i1++)
+    for (gsize i0 = 0; i0 < i0_vec; i0 += 8)
+      {
+        const guint32 *p = in + i1 * in_row + i0;
+        guint32 *o = out + i0 * s0 + i1 * s1;
+
+        for (gsize j0 = 0; j0 < j_vec; j0 += 16)
+          {
+            __m256i c[2][8];
+
+            for (int b = 0; b < 2; b++)
+              {
+                const guint32 *q = p + (j0 + 8 * (gsize) b) * in_plane;
+                __m256i r[8], t[8], u[8];
+
+                /* r[k]: channel k of pixels 0-7, byte-swapped */
+                for (int k = 0; k < 8; k++)
+                  r[k] = _mm256_shuffle_epi8 (_mm256_loadu_si256 ((const __m256i *) (q + (gsize) k * in_plane)),
+                                              swap);
+                /* within each 128-bit lane (pixels 0-3 | 4-7): t[2k], t[2k + 1] interleave
+                 * channels 2k and 2k + 1 */
+                for (int k = 0; k < 4; k++)
+                  {
+                    t[2 * k] = _mm256_unpacklo_epi32 (r[2 * k], r[2 * k + 1]);
+                    t[2 * k + 1] = _mm256_unpackhi_epi32 (r[2 * k], r[2 * k + 1]);
+                  }
+                /* u[i] (i < 4): channels 0-3 of pixel i | pixel i + 4; u[4 + i]: channels 4-7 */
+                for (int k = 0; k < 2; k++)
+                  {
+                    u[4 * k] = _mm256_unpacklo_epi64 (t[4 * k], t[4 * k + 2]);
+                    u[4 * k + 1] = _mm256_unpackhi_epi64 (t[4 * k], t[4 * k + 2]);
+                    u[4 * k + 2] = _mm256_unpacklo_epi64 (t[4 * k + 1], t[4 * k + 3]);
+                    u[4 * k + 3] = _mm256_unpackhi_epi64 (t[4 * k + 1], t[4 * k + 3]);
+                  }
+                /* c[b][i]: the 8 channels of pixel i */
+                for (int i = 0; i < 4; i++)
+                  {
+                    c[b][i] = _mm256_permute2x128_si256 (u[i], u[4 + i], 0x20);
+                    c[b][i + 4] = _mm256_permute2x128_si256 (u[i], u[4 + i], 0x31);
+                  }
+              }
+            for (gsize i = 0; i < 8; i++)
+              for (int b = 0; b < 2; b++)
+                {
+                  __m256i *d = (__m256i *) (o + i * s0 + j0 + 8 * (gsize) b);
+
+                  if (nt)
+                    _mm256_stream_si256 (d, c[b][i]);
+                  else
+                    _mm256_storeu_si256 (d, c[b][i]);
+                }
+          }
+      }
+  _mm_sfence ();
+  /* the last channels (cn not a multiple of 16) of the whole blocks of pixels, then every
+   * channel of the last pixels of each row (n0 not a multiple of 8) */
+  if (j_vec < cn && i0_vec > 0)
+    swap_transpose_slices (in + j_vec * in_plane, in_plane, in_row, i0_vec, n1, cn - j_vec,
+                           out + j_vec, s0, s1);
+  if (i0_vec < n0)
+    swap_transpose_slices (in + i0_vec, in_plane, in_row, n0 - i0_vec, n1, cn, out + i0_vec * s0,
+                           s0, s1);
+}
+#endif
+
+/* 1: the loader may use AVX2 where the processor has it; 0: SSE2 only (tests, benchmarks) */
+static gint allow_avx2 = 1;
+
+void
+efflux_cube_loader_allow_avx2 (gboolean allow)
+{
+  g_atomic_int_set (&allow_avx2, allow ? 1 : 0);
+}
+
+gboolean
+efflux_cube_loader_uses_avx2 (void)
+{
+#ifdef EFFLUX_HAVE_AVX2_PATH
+  return g_atomic_int_get (&allow_avx2) != 0 && __builtin_cpu_supports ("avx2");
+#else
+  return FALSE;
+#endif
+}
+
+/* One unit's swap and transpose: AVX2 when the loader may use it and its stores are aligned for
+ * non-temporal stores (or the SSE2 ones would not be either), SSE2 otherwise. */
+static void
+swap_transpose_unit (const guint32 *in,
+                     gsize          in_plane,
+                     gsize          n0,
+                     gsize          n1,
+                     gsize          cn,
+                     guint32       *out,
+                     gsize          s0,
+                     gsize          s1,
+                     gboolean       avx2)
+{
+#ifdef EFFLUX_HAVE_AVX2_PATH
+  gboolean nt_avx2 = ((guintptr) out & 31) == 0 && s0 % 8 == 0 && s1 % 8 == 0;
+  gboolean nt_sse2 = ((guintptr) out & 15) == 0 && s0 % 4 == 0 && s1 % 4 == 0;
+
+  if (avx2 && (nt_avx2 || !nt_sse2))
+    {
+      swap_transpose_avx2 (in, in_plane, n0, n0, n1, cn, out, s0, s1);
+      return;
+    }
+#endif
+  swap_transpose_slices (in, in_plane, n0, n0, n1, cn, out, s0, s1);
 }
 
 /* The fast path for uncompressed, unscaled BITPIX = -32 data: pread () the big-endian words and
@@ -939,6 +1081,7 @@ typedef struct
   gsize          mid_stride_out;
   guint32       *out;
   GCancellable  *cancellable;
+  gboolean       avx2;         /* swap_transpose_unit may use AVX2 */
   gint           next;         /* atomic: next unit to take */
   gint           done;         /* atomic: units finished */
   gint           failed;       /* atomic: 1 read error, 2 cancelled, 3 no memory */
@@ -996,9 +1139,9 @@ raw_read_worker (gpointer data)
       loops[2].n = cn;
       loops[2].s_in = slice_words;
       if (loops[2].s_out == 1)
-        swap_transpose_slices (buf, loops[2].s_in, loops[0].n, yn, cn,
-                               r->out + j0 * r->slow_stride_out + y0 * r->mid_stride_out,
-                               loops[0].s_out, loops[1].s_out);
+        swap_transpose_unit (buf, loops[2].s_in, loops[0].n, yn, cn,
+                             r->out + j0 * r->slow_stride_out + y0 * r->mid_stride_out,
+                             loops[0].s_out, loops[1].s_out, r->avx2);
       else
         transpose_chunk (buf, r->out + j0 * r->slow_stride_out + y0 * r->mid_stride_out, loops, TRUE);
       g_atomic_int_inc (&r->done);
@@ -1904,6 +2047,7 @@ efflux_cube_load (const char                  *path,
         r.mid_stride_out = out_stride[a1];
         r.out = (guint32 *) cube->data;
         r.cancellable = cancellable;
+        r.avx2 = efflux_cube_loader_uses_avx2 ();
         if (progress != NULL)
           progress (0.0, progress_data);
         if (r.n_chunks > 1 && g_get_num_processors () > 1)

@@ -113,6 +113,12 @@ EffluxCube *efflux_cube_load       (const char                  *path,
                                     gpointer                     progress_data,
                                     GError                     **error);
 
+/* The byte-swap transpose of the float32 loader runs with AVX2 where the processor has it and
+ * with SSE2 otherwise (the same bytes either way). allow_avx2 (FALSE) keeps it to SSE2, for the
+ * tests and benchmarks that compare the two; uses_avx2 tells which one loads use now. */
+void     efflux_cube_loader_allow_avx2 (gboolean allow);
+gboolean efflux_cube_loader_uses_avx2  (void);
+
 /* A cube in memory with a simple TAN sky grid centred on (ra0, dec0) at pixel ((nx+1)/2, (ny+1)/2)
  * (FITS 1-based), RA increasing to the left, and channels v0, v0 + dv, ...; data zeroed.
  * For tests, benchmarks and synthetic data. Returns NULL when the allocation fails. */
