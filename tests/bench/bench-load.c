@@ -5,8 +5,9 @@
  * the figures are medians), we time
  *   - `cat FILE > /dev/null`, the whole process (the reference of issue 4),
  *   - read() of the whole file into one reused buffer (the floor: copying it from the page cache),
- *   - efflux_cube_load without the noise estimate (bytes to usable floats + WCS), with it, and of
- *     32 of the 256 channels (channel_subset, as `efflux-cli moment --range` reads them),
+ *   - efflux_cube_load without the noise estimate (bytes to usable floats + WCS), with it, of
+ *     32 of the 256 channels (channel_subset, as `efflux-cli moment --range` reads them), and
+ *     without the noise estimate with the SSE2 transpose only (where AVX2 is the default),
  * with the CPU time of each (all threads; cat's from getrusage of the children), then run
  * tests/bench/load_numpy.py (astropy.io.fits getdata + numpy transpose to spectral-contiguous
  * order, run with EFFLUX_PYTHON; median of 5, printed by the script).
@@ -195,6 +196,8 @@ main (void)
   const char *root = g_getenv ("EFFLUX_SOURCE_ROOT");
   GStatBuf st;
   double cat_w[REPS], cat_c[REPS], read_w[REPS], load_w[REPS], load_c[REPS], noise_w[REPS], sub_w[REPS];
+  double sse2_w[REPS], sse2_c[REPS];
+  gboolean avx2 = efflux_cube_loader_uses_avx2 ();
   double ratio[REPS], dummy, mib;
 
   g_assert_no_error (error);
@@ -214,6 +217,9 @@ main (void)
       time_load (path, TRUE, FALSE, &load_w[r], &load_c[r]);
       time_load (path, FALSE, FALSE, &noise_w[r], &dummy);
       time_load (path, TRUE, TRUE, &sub_w[r], &dummy);
+      efflux_cube_loader_allow_avx2 (FALSE);
+      time_load (path, TRUE, FALSE, &sse2_w[r], &sse2_c[r]);
+      efflux_cube_loader_allow_avx2 (TRUE);
       ratio[r] = load_w[r] / cat_w[r];
     }
   g_clear_pointer (&buf, g_free);
@@ -224,8 +230,11 @@ main (void)
           mib / median (cat_w, REPS), median (cat_c, REPS));
   printf ("  read() into a reused buffer    %8.3f s  %7.0f MiB/s\n", median (read_w, REPS),
           mib / median (read_w, REPS));
-  printf ("  efflux_cube_load (no noise)    %8.3f s  %7.0f MiB/s  CPU %.3f s (all threads)\n",
-          median (load_w, REPS), mib / median (load_w, REPS), median (load_c, REPS));
+  printf ("  efflux_cube_load (no noise)    %8.3f s  %7.0f MiB/s  CPU %.3f s (all threads; %s)\n",
+          median (load_w, REPS), mib / median (load_w, REPS), median (load_c, REPS),
+          avx2 ? "AVX2 transpose" : "SSE2 transpose, no AVX2 here");
+  printf ("  efflux_cube_load, SSE2 only    %8.3f s  %7.0f MiB/s  CPU %.3f s\n",
+          median (sse2_w, REPS), mib / median (sse2_w, REPS), median (sse2_c, REPS));
   printf ("  efflux_cube_load (+ noise)     %8.3f s\n", median (noise_w, REPS));
   printf ("  efflux_cube_load, 32 of the 256 channels (channel_subset, no noise) %8.3f s\n",
           median (sub_w, REPS));
