@@ -3,7 +3,8 @@
  * transpose by 4 x 4 blocks with SSE2 or 8 x 8 blocks with AVX2, units of 64 channels by a few
  * rows) on shapes that exercise every edge: several units of channels and of rows, widths and
  * channel counts that are not multiples of 4, 8 or 16, NaN voxels, and the channel subset; each
- * shape is read with the SSE2 code and, where the processor has AVX2, with the AVX2 code. The reference is the file itself: every voxel is
+ * shape is read with the SSE2 code and, where the processor has AVX2, with the AVX2 code, and
+ * with one and four reading threads. The reference is the file itself: every voxel is
  * written here as a big-endian IEEE 754 float32, as the FITS standard 4.0 defines BITPIX = -32
  * (Pence et al. 2010, A&A 524, A42, section 5.3), with a value known from its position, and
  * every voxel read back must be that float exactly. */
@@ -71,11 +72,25 @@ write_cube (const char *path,
   g_assert_cmpint (fclose (fp), ==, 0);
 }
 
+static gboolean with_progress;   /* check_shape_once passes a progress function */
+
+static void
+count_progress (double   fraction,
+                gpointer data)
+{
+  double *last = data;
+
+  g_assert_cmpfloat (fraction, >=, *last);
+  g_assert_cmpfloat (fraction, <=, 1.0);
+  *last = fraction;
+}
+
 static void
 check_shape_once (gsize nx,
                   gsize ny,
                   gsize nchan)
 {
+  double last = 0.0;
   g_autoptr(GError) error = NULL;
   g_autofree char *dir = g_dir_make_tmp ("efflux-test-cube-reader-XXXXXX", &error);
   g_autofree char *path = NULL;
@@ -89,8 +104,10 @@ check_shape_once (gsize nx,
   write_cube (path, nx, ny, nchan);
 
   options.no_noise = TRUE;
-  cube = efflux_cube_load (path, &options, NULL, NULL, NULL, &error);
+  cube = efflux_cube_load (path, &options, NULL, with_progress ? count_progress : NULL, &last, &error);
   g_assert_no_error (error);
+  if (with_progress)
+    g_assert_cmpfloat (last, ==, 1.0);
   g_assert_cmpuint (cube->nx, ==, nx);
   g_assert_cmpuint (cube->ny, ==, ny);
   g_assert_cmpuint (cube->nchan, ==, nchan);
@@ -144,7 +161,8 @@ check_shape_once (gsize nx,
   g_rmdir (dir);
 }
 
-/* every shape with the SSE2 code, then with the AVX2 code where the processor has it */
+/* every shape with the SSE2 code, then with the AVX2 code where the processor has it, then
+ * with one and with four reading threads whatever the processors */
 static void
 check_shape (gsize nx,
              gsize ny,
@@ -156,6 +174,47 @@ check_shape (gsize nx,
   efflux_cube_loader_allow_avx2 (TRUE);
   if (efflux_cube_loader_uses_avx2 ())
     check_shape_once (nx, ny, nchan);
+  for (guint n = 1; n <= EFFLUX_CUBE_MAX_THREADS; n += EFFLUX_CUBE_MAX_THREADS - 1)
+    {
+      efflux_cube_force_threads (n);
+      g_assert_cmpuint (efflux_cube_worker_threads (), ==, n);
+      check_shape_once (nx, ny, nchan);
+      with_progress = TRUE;
+      check_shape_once (nx, ny, nchan);
+      with_progress = FALSE;
+    }
+  efflux_cube_force_threads (0);
+}
+
+/* The noise estimate shares its blocks of 64 channels among the threads: the same rms, bit for
+ * bit, with one thread and with four (150 channels: three blocks) */
+static void
+test_noise_threads (void)
+{
+  g_autoptr(GError) error = NULL;
+  g_autofree char *dir = g_dir_make_tmp ("efflux-test-cube-reader-XXXXXX", &error);
+  g_autofree char *path = NULL;
+  g_autoptr(EffluxCube) one = NULL;
+  g_autoptr(EffluxCube) four = NULL;
+  EffluxCubeLoadOptions options = { 0 };
+
+  g_assert_no_error (error);
+  path = g_build_filename (dir, "cube.fits", NULL);
+  write_cube (path, 40, 30, 150);
+  efflux_cube_force_threads (1);
+  one = efflux_cube_load (path, &options, NULL, NULL, NULL, &error);
+  g_assert_no_error (error);
+  efflux_cube_force_threads (4);
+  four = efflux_cube_load (path, &options, NULL, NULL, NULL, &error);
+  g_assert_no_error (error);
+  efflux_cube_force_threads (0);
+  for (gsize k = 0; k < 150; k++)
+    {
+      g_assert_true (isfinite (one->rms[k]) && one->rms[k] > 0.0f);
+      g_assert_cmpfloat (four->rms[k], ==, one->rms[k]);
+    }
+  g_unlink (path);
+  g_rmdir (dir);
 }
 
 static void
@@ -196,5 +255,6 @@ main (int    argc,
   g_test_add_func ("/cube-reader/wide-rows", test_wide_rows);
   g_test_add_func ("/cube-reader/odd-sizes", test_odd_sizes);
   g_test_add_func ("/cube-reader/vector-blocks", test_vector_blocks);
+  g_test_add_func ("/cube-reader/noise-threads", test_noise_threads);
   return g_test_run ();
 }

@@ -10,8 +10,8 @@
  * HELIOCEN to LSRK with the standard solar motion, and the brightness converted to K (Jy/beam with
  * the Rayleigh-Jeans relation, REFERENCES.md 1.1). The data are read in chunks of the slowest
  * file axis and transposed so the spectral axis is contiguous: unscaled float32 files with
- * pread() on two threads, everything else (integers, scaling, BLANK, gzip, tile compression)
- * through CFITSIO.
+ * pread() on one thread per processor (up to four), everything else (integers, scaling, BLANK,
+ * gzip, tile compression) through CFITSIO.
  *
  * Loading design (speed; tests/bench/bench-load.c measures it against `cat FILE > /dev/null`):
  * - the voxel array lies in whole 2 MiB transparent huge pages (aligned, madvise before the first
@@ -19,12 +19,13 @@
  *   virtual machine we measure on (about 18 us a fault), in huge pages 0.02 s, as much as a
  *   memset. The read buffers are huge pages too.
  * - unscaled float32 (the common case, spectral axis slowest in the file): units of 64 channels
- *   by a few rows, about 4 MiB, are pread () by two threads and go from the buffer to the array
- *   in one pass: byte swap and transpose in vector registers (AVX2 by 8 x 8 blocks where the
- *   processor has it, chosen at run time, else SSE2 by 4 x 4 blocks), 256 contiguous bytes of
- *   each spectrum stored at once with non-temporal stores (swap_transpose_unit). AVX2 took 12 %
- *   off the load time, measured against SSE2 back to back (medians 46 ms against 53 ms). The
- *   slices in the buffer are padded by one cache line (no cache-set conflicts between them) and
+ *   by a few rows, about 4 MiB, are pread () by the worker threads (one per processor, up to
+ *   four) and go from the buffer to the array in one pass: byte swap and transpose in vector
+ *   registers (AVX2 by 8 x 8 blocks where the processor has it, chosen at run time, else SSE2 by
+ *   4 x 4 blocks), 256 contiguous bytes of each spectrum stored at once with non-temporal stores
+ *   (swap_transpose_unit). AVX2 took 12 % off the load time, measured against SSE2 back to back
+ *   (medians 46 ms against 53 ms); mapping the file and reading it straight from the page cache
+ *   was slower still (86-99 ms with MAP_POPULATE and software prefetch). The slices in the buffer are padded by one cache line (no cache-set conflicts between them) and
  *   the units go block of rows by block of rows (a huge page of the array is filled soon after
  *   it is zeroed); each gave about 10 % of the load time, measured back to back. On the virtual
  *   machine we measure on, mapping the file instead of pread () was 20 % faster when its page
@@ -297,6 +298,29 @@ efflux_jy_beam_to_k (double freq_hz,
 }
 
 /* ------------------------------------------------------------------------------------------ */
+/* Threads                                                                                     */
+
+/* How many threads a load and the noise estimate use: one per processor this process may run on,
+ * at most EFFLUX_CUBE_MAX_THREADS (each holds a read buffer of about 4 MiB, or 16 MiB of noise
+ * samples; past a few threads the copy from the page cache is bound by the memory bandwidth).
+ * We measure on two cores only, so the cap of four is a judgement, not a measurement. */
+static gint forced_threads;   /* 0: one per processor; tests set it with efflux_cube_force_threads */
+
+guint
+efflux_cube_worker_threads (void)
+{
+  guint forced = (guint) g_atomic_int_get (&forced_threads);
+
+  return CLAMP (forced != 0 ? forced : g_get_num_processors (), 1u, (guint) EFFLUX_CUBE_MAX_THREADS);
+}
+
+void
+efflux_cube_force_threads (guint n)
+{
+  g_atomic_int_set (&forced_threads, (gint) MIN (n, (guint) EFFLUX_CUBE_MAX_THREADS));
+}
+
+/* ------------------------------------------------------------------------------------------ */
 /* Noise                                                                                       */
 
 /* k-th smallest of v[0..n) (Wirth's selection, in place, expected O(n)); afterwards
@@ -506,7 +530,8 @@ void
 efflux_cube_estimate_noise (EffluxCube *cube)
 {
   NoiseJob job = { 0 };
-  GThread *helper = NULL;
+  GThread *helpers[EFFLUX_CUBE_MAX_THREADS] = { NULL };
+  guint n_helpers = 0, n_blocks;
 
   if (cube->rms == NULL)
     cube->rms = g_new0 (float, cube->nchan);
@@ -516,17 +541,23 @@ efflux_cube_estimate_noise (EffluxCube *cube)
     return;
   /* The sampled pixels are every step-th pixel: a fixed, deterministic subset of at most
    * NOISE_MAX_SAMPLES. Channels are taken NOISE_BLOCK at a time so each sampled spectrum is read
-   * in contiguous pieces; two threads share the blocks. */
+   * in contiguous pieces; the worker threads share the blocks. */
   job.step = (job.npix + NOISE_MAX_SAMPLES - 1) / NOISE_MAX_SAMPLES;
   job.nsamp = (job.npix + job.step - 1) / job.step;
   job.stride = job.nsamp + 16;
   for (gsize k = 0; k < cube->nchan; k++)
     cube->rms[k] = NAN;
-  if (cube->nchan > NOISE_BLOCK && g_get_num_processors () > 1)
-    helper = g_thread_try_new ("efflux-noise", noise_worker, &job, NULL);
+  n_blocks = (guint) MIN ((cube->nchan + NOISE_BLOCK - 1) / NOISE_BLOCK, (gsize) G_MAXUINT);
+  while (n_helpers + 1 < MIN (efflux_cube_worker_threads (), n_blocks))
+    {
+      helpers[n_helpers] = g_thread_try_new ("efflux-noise", noise_worker, &job, NULL);
+      if (helpers[n_helpers] == NULL)
+        break;
+      n_helpers++;
+    }
   noise_worker (&job);
-  if (helper != NULL)
-    g_thread_join (helper);
+  for (guint t = 0; t < n_helpers; t++)
+    g_thread_join (helpers[t]);
 }
 
 /* ------------------------------------------------------------------------------------------ */
@@ -1055,9 +1086,10 @@ swap_transpose_unit (const guint32 *in,
 }
 
 /* The fast path for uncompressed, unscaled BITPIX = -32 data: pread () the big-endian words and
- * swap them while transposing, on two threads. A unit of work is a block of chunk_n = 64 slices
- * of the slowest file axis by `rows` rows of the middle one: chunk_n preads of rows x n_fast
- * words, about 4 MiB in all (a buffer in huge pages per thread), then swap_transpose_slices.
+ * swap them while transposing, on one thread per processor (up to four). A unit of work is a
+ * block of chunk_n = 64 slices of the slowest file axis by `rows` rows of the middle one: chunk_n
+ * preads of rows x n_fast words, about 4 MiB in all (a buffer in huge pages per thread), then
+ * swap_transpose_unit.
  * History, CPU time of a 256 MiB load on a loaded machine (both threads, medians, see bench-load):
  * 4 slices per unit and 16-byte pieces of lines 0.25 s; 16 slices, whole lines 0.14-0.18 s; with
  * the SIMD swap-transpose, 64 slices and a 2 MiB huge-page buffer 0.14-0.15 s against 0.17-0.18 s
@@ -2009,7 +2041,8 @@ efflux_cube_load (const char                  *path,
       {
         RawRead r = { 0 };
         LONGLONG headstart = 0, datastart = 0, dataend = 0;
-        GThread *helper = NULL;
+        GThread *helpers[EFFLUX_CUBE_MAX_THREADS] = { NULL };
+        guint n_workers, n_helpers = 0;
         gsize reported = 0;
 
         fits_get_hduaddrll (f, &headstart, &datastart, &dataend, &status);
@@ -2050,36 +2083,37 @@ efflux_cube_load (const char                  *path,
         r.avx2 = efflux_cube_loader_uses_avx2 ();
         if (progress != NULL)
           progress (0.0, progress_data);
-        if (r.n_chunks > 1 && g_get_num_processors () > 1)
-          helper = g_thread_try_new ("efflux-load", raw_read_worker, &r, NULL);
-        if (progress == NULL)
+        /* n_workers threads read the units: without a progress function the calling thread is
+         * one of them; with one, all are helpers and the calling thread reports their progress
+         * (by itself when no thread could be started) */
+        n_workers = (guint) MIN ((gsize) efflux_cube_worker_threads (), r.n_chunks);
+        while (n_helpers + (progress == NULL ? 1u : 0u) < n_workers)
+          {
+            helpers[n_helpers] = g_thread_try_new ("efflux-load", raw_read_worker, &r, NULL);
+            if (helpers[n_helpers] == NULL)
+              break;
+            n_helpers++;
+          }
+        if (progress == NULL || n_helpers == 0)
           raw_read_worker (&r);
         else
-          {
-            /* the calling thread reads too, and reports progress between its chunks */
-            GThread *second = g_thread_try_new ("efflux-load", raw_read_worker, &r, NULL);
+          for (;;)
+            {
+              gsize d = (gsize) g_atomic_int_get (&r.done);
 
-            while (second != NULL)
-              {
-                gsize d = (gsize) g_atomic_int_get (&r.done);
-
-                if (d != reported)
-                  {
-                    reported = d;
-                    progress ((double) d / (double) r.n_chunks * progress_scale, progress_data);
-                  }
-                if (d >= r.n_chunks || g_atomic_int_get (&r.failed) != 0 ||
-                    (gsize) g_atomic_int_get (&r.next) >= r.n_chunks + (helper ? 2 : 1))
-                  break;
-                g_usleep (2000);
-              }
-            if (second != NULL)
-              g_thread_join (second);
-            else
-              raw_read_worker (&r);
-          }
-        if (helper != NULL)
-          g_thread_join (helper);
+              if (d != reported)
+                {
+                  reported = d;
+                  progress ((double) d / (double) r.n_chunks * progress_scale, progress_data);
+                }
+              /* each worker takes one unit number past the end as it stops */
+              if (d >= r.n_chunks || g_atomic_int_get (&r.failed) != 0 ||
+                  (gsize) g_atomic_int_get (&r.next) >= r.n_chunks + n_helpers)
+                break;
+              g_usleep (2000);
+            }
+        for (guint t = 0; t < n_helpers; t++)
+          g_thread_join (helpers[t]);
         close (r.fd);
         if (!efflux_fits_read_outcome (r.failed, r.err_no, path, cancellable, error))
           goto out;

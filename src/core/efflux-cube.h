@@ -119,6 +119,13 @@ EffluxCube *efflux_cube_load       (const char                  *path,
 void     efflux_cube_loader_allow_avx2 (gboolean allow);
 gboolean efflux_cube_loader_uses_avx2  (void);
 
+/* Threads of a load and of the noise estimate: one per processor available, at most
+ * EFFLUX_CUBE_MAX_THREADS. force_threads (n) makes it n whatever the processors, for the tests
+ * of the threaded code on small machines; 0 goes back to one per processor. */
+#define EFFLUX_CUBE_MAX_THREADS 4
+guint    efflux_cube_worker_threads    (void);
+void     efflux_cube_force_threads     (guint n);
+
 /* A cube in memory with a simple TAN sky grid centred on (ra0, dec0) at pixel ((nx+1)/2, (ny+1)/2)
  * (FITS 1-based), RA increasing to the left, and channels v0, v0 + dv, ...; data zeroed.
  * For tests, benchmarks and synthetic data. Returns NULL when the allocation fails. */
