@@ -15,7 +15,9 @@
  *      ledger per second; and the UI thread's time per frame by frame-clock phase (update: the
  *      edit; layout; paint: snapshot and render; after-paint) and per result given to the ledger;
  *   3. the same cube written to a FITS file and its dossier opened in the program's whole window
- *      (1366 x 740: sky, cut, spectrum, ledger, lobe bar, status), the same drags through the
+ *      (1366 x 740: sky, cut, spectrum, ledger, lobe bar, status): the time from the open to the
+ *      first frame with the map (DESIGN.md: a 1 GiB cube, header to first map on screen, under
+ *      2 s), beside `cat` of the file from the page cache; then the same drags through the
  *      window's document, with all the window's own handlers running.
  * GTK's renderer is the one the program would pick on this machine (efflux_choose_renderer). */
 #include "config.h"
@@ -26,6 +28,9 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <time.h>
+#include <fcntl.h>
+#include <spawn.h>
+#include <sys/wait.h>
 
 #include "efflux-application.h"
 #include "efflux-cube.h"
@@ -36,6 +41,8 @@
 #include "efflux-settings.h"
 #include "efflux-sky-view.h"
 #include "efflux-window.h"
+
+extern char **environ;
 
 #define NX 512
 #define NY 512
@@ -99,6 +106,26 @@ demo_first_frame (void)
   }
   gtk_window_destroy (GTK_WINDOW (ff.window));
   return (ff.t_first - ff.t0) / 1e6;
+}
+
+/* `cat path > /dev/null`, the whole process, started with posix_spawnp (as bench-load does: a
+ * fork of this process would copy its page tables); wall seconds */
+static double
+cat_seconds (const char *path)
+{
+  char *argv[] = { (char *) "cat", (char *) path, NULL };
+  posix_spawn_file_actions_t fa;
+  pid_t pid;
+  int status = 0;
+  gint64 t0 = g_get_monotonic_time ();
+
+  g_assert_cmpint (posix_spawn_file_actions_init (&fa), ==, 0);
+  g_assert_cmpint (posix_spawn_file_actions_addopen (&fa, 1, "/dev/null", O_WRONLY, 0), ==, 0);
+  g_assert_cmpint (posix_spawnp (&pid, "cat", &fa, NULL, argv, environ), ==, 0);
+  g_assert_cmpint (waitpid (pid, &status, 0), ==, pid);
+  posix_spawn_file_actions_destroy (&fa);
+  g_assert_true (WIFEXITED (status) && WEXITSTATUS (status) == 0);
+  return (double) (g_get_monotonic_time () - t0) / 1e6;
 }
 
 /* ---- 2. drags on a large cube ---- */
@@ -512,6 +539,8 @@ main (int    argc,
     g_autoptr(GFile) file = NULL;
     EffluxWindow *win;
     gint64 t_open;
+    double t_cat;
+    FirstFrame ff = { 0 };
 
     g_assert_no_error (error);
     cube_path = g_build_filename (dir, "bench-cube.fits", NULL);
@@ -531,9 +560,18 @@ main (int    argc,
     g_assert_true (g_file_set_contents (dossier_path, file_text, -1, &error));
     file = g_file_new_for_path (dossier_path);
 
+    /* the file in the page cache, and the time to read it from there (cat, the better of two) */
+    {
+      double c1 = cat_seconds (cube_path), c2 = cat_seconds (cube_path);
+
+      t_cat = MIN (c1, c2);
+    }
     t_open = g_get_monotonic_time ();
     win = efflux_window_new (NULL);
     gtk_window_set_default_size (GTK_WINDOW (win), 1366, 740);
+    ff.window = win;
+    gtk_widget_add_tick_callback (GTK_WIDGET (efflux_window_get_sky_view (win)), first_frame_tick,
+                                  &ff, NULL);
     gtk_window_present (GTK_WINDOW (win));
     efflux_window_open (win, file);
     deadline = g_get_monotonic_time () + 120 * G_USEC_PER_SEC;
@@ -542,8 +580,14 @@ main (int    argc,
            && g_get_monotonic_time () < deadline)
       g_main_context_iteration (NULL, TRUE);
     g_assert_nonnull (efflux_document_get_result (efflux_window_get_document (win)));
-    printf ("whole window (1366 x 740: sky, cut, spectrum, ledger, status): dossier and cube "
-            "opened and measured in %.3f s\n", (g_get_monotonic_time () - t_open) / 1e6);
+    g_assert_cmpint (ff.t_first, >, 0);
+    printf ("whole window (1366 x 740: sky, cut, spectrum, ledger, status), the %.2f GiB cube:\n"
+            "  first frame with the map: %.3f s after the open (target 2 s; `cat` of the file "
+            "from the page cache %.3f s, ratio %.1f)\n"
+            "  dossier and cube opened and measured in %.3f s\n",
+            (double) NX * NY * NCHAN * 4 / (1024.0 * 1024.0 * 1024.0),
+            (ff.t_first - t_open) / 1e6, t_cat, (ff.t_first - t_open) / 1e6 / t_cat,
+            (g_get_monotonic_time () - t_open) / 1e6);
 
     drag.document = efflux_window_get_document (win);
     drag.view = efflux_window_get_sky_view (win);
