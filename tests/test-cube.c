@@ -171,7 +171,7 @@ check_mad_exact (EffluxCube *c,
 {
   gsize npx = c->nx * c->ny;
 
-  g_assert_cmpuint (c->nchan, ==, 6);
+  g_assert_cmpuint (c->nchan, ==, 7);
   for (gsize p = 0; p < npx; p++)
     {
       float *spec = c->data + p * c->nchan;
@@ -182,6 +182,8 @@ check_mad_exact (EffluxCube *c,
       spec[3] = p % 97 == 0 ? 1e30f : (float) gauss (r);           /* far outliers */
       spec[4] = 2.5f;                                               /* constant */
       spec[5] = p % 2 ? (float) gauss (r) * 1e-3f : 1e6f + (float) gauss (r);   /* two clumps */
+      /* a range too wide for float bins (the selection alone) */
+      spec[6] = p % 89 == 0 ? -3e38f : p % 83 == 0 ? 3e38f : (float) gauss (r);
     }
   c->data[5 * c->nchan + 1] = NAN;   /* channel 1: an even (or odd) count */
   efflux_cube_estimate_noise (c);
@@ -207,8 +209,8 @@ static void
 test_noise (void)
 {
   g_autoptr(EffluxCube) cube = efflux_cube_new_simple (300, 301, 9, 0.0, 0.0, 1.0, 0.0, 1.0, 0.0);
-  g_autoptr(EffluxCube) small = efflux_cube_new_simple (31, 33, 6, 0.0, 0.0, 1.0, 0.0, 1.0, 0.0);
-  g_autoptr(EffluxCube) large = efflux_cube_new_simple (100, 101, 6, 0.0, 0.0, 1.0, 0.0, 1.0, 0.0);
+  g_autoptr(EffluxCube) small = efflux_cube_new_simple (31, 33, 7, 0.0, 0.0, 1.0, 0.0, 1.0, 0.0);
+  g_autoptr(EffluxCube) large = efflux_cube_new_simple (100, 101, 7, 0.0, 0.0, 1.0, 0.0, 1.0, 0.0);
   g_autoptr(GRand) r = g_rand_new_with_seed (20261201);
   gsize npix = cube->nx * cube->ny;
 
@@ -234,7 +236,8 @@ test_noise (void)
     }
 
   /* exactness of the selection against a full sort: 1023 pixels (the selection) and 10100 pixels
-   * (the histogram search), odd and even counts, ties, outliers, a constant channel */
+   * (the histogram search), odd and even counts, ties, outliers, a constant channel, a range
+   * of 6e38 */
   check_mad_exact (small, r);
   check_mad_exact (large, r);
 }
