@@ -277,6 +277,15 @@ test_bitwise (void)
             g_assert_cmpfloat (header->k_per_unit[0], !=, header->k_per_unit[NCHAN - 1]);
         }
       check_file_bitwise (path, files[f].dv);
+      if (f == 0)
+        {
+          /* the tiles shared by one thread and by four, whatever the processors: the same bits */
+          efflux_cube_force_threads (1);
+          check_file_bitwise (path, files[f].dv);
+          efflux_cube_force_threads (4);
+          check_file_bitwise (path, files[f].dv);
+          efflux_cube_force_threads (0);
+        }
     }
   g_assert_true (seen_single[0]);
   g_assert_true (seen_single[1]);

@@ -2,8 +2,8 @@
 /* Moment maps streamed from the file (see efflux-momentstream.h).
  *
  * Design: the pixels are cut into blocks of whole rows (a tile) small enough that the block's
- * accumulators and one channel's piece of it stay in the L2 cache (TILE_BYTES); each of two
- * threads takes a tile and runs through every channel of the range: one pread () of the tile's
+ * accumulators and one channel's piece of it stay in the L2 cache (TILE_BYTES); each of the
+ * worker threads (one per processor, up to four: efflux_cube_worker_threads) takes a tile and runs through every channel of the range: one pread () of the tile's
  * rows of the channel's plane (contiguous in the file), then byte swap, conversion to K and the
  * per-pixel sums. A pixel's channels are thus summed in the cube's channel order, in double, by
  * the very operations of efflux_moment_map's direct sums (efflux-maps.c), so the maps are
@@ -25,7 +25,7 @@
 #endif
 
 /* A tile's accumulators and one channel's piece of it, per thread, and at least MIN_TILES tiles
- * (two threads taking tiles as they come stay busy to the end). Measured on the 256 x 256 x 420
+ * (the threads taking tiles as they come stay busy to the end). Measured on the 256 x 256 x 420
  * cube of bench-maps (moment 0 of 301 channels, whole process): 64 KiB to 1 MiB tiles and 2 to
  * 16 tiles all within the machine's noise, 0.056-0.061 s at best, of which about 0.05 s is the
  * process's start, CFITSIO's set-up and the output; a tiny cube takes as long. */
@@ -471,7 +471,8 @@ efflux_moment_stream_map (const EffluxCube           *header,
   StreamJob job = { 0 };
   g_autofree double *u = NULL;
   gsize acc_bytes, tile_px;
-  GThread *helper = NULL;
+  GThread *helpers[EFFLUX_CUBE_MAX_THREADS] = { NULL };
+  guint n_helpers = 0;
 
   g_return_val_if_fail (out != NULL, FALSE);
   g_return_val_if_fail (efflux_moment_stream_applies (header, layout), FALSE);
@@ -532,11 +533,17 @@ efflux_moment_stream_map (const EffluxCube           *header,
                    g_strerror (e));
       return FALSE;
     }
-  if (job.n_tiles > 1 && g_get_num_processors () > 1)
-    helper = g_thread_try_new ("efflux-moment", stream_worker, &job, NULL);
+  /* the worker threads of a load (efflux_cube_worker_threads), the calling thread one of them */
+  while (n_helpers + 1 < MIN ((gsize) efflux_cube_worker_threads (), job.n_tiles))
+    {
+      helpers[n_helpers] = g_thread_try_new ("efflux-moment", stream_worker, &job, NULL);
+      if (helpers[n_helpers] == NULL)
+        break;
+      n_helpers++;
+    }
   stream_worker (&job);
-  if (helper != NULL)
-    g_thread_join (helper);
+  for (guint t = 0; t < n_helpers; t++)
+    g_thread_join (helpers[t]);
   close (job.fd);
 
   if (!efflux_fits_read_outcome (job.failed, job.err_no, path, cancellable, error))
