@@ -950,6 +950,17 @@ transpose_chunk (const guint32 *in,
 #endif
 }
 
+/* Whether vector stores of `words` 32-bit words at out + i0 * s0 + i1 * s1 + a multiple of words
+ * are all aligned to their size, as non-temporal stores need. */
+static inline gboolean
+stores_aligned (const guint32 *out,
+                gsize          s0,
+                gsize          s1,
+                gsize          words)
+{
+  return ((guintptr) out % (words * sizeof (guint32))) == 0 && s0 % words == 0 && s1 % words == 0;
+}
+
 /* The common case of the float32 reader, where the spectral axis is the slowest file axis: a
  * chunk of cn slices (channels), each n1 rows of n0 big-endian words (in[j * in_plane + i1 *
  * in_row + i0]), goes to out[i0 * s0 + i1 * s1 + j]. With SSE2 (every x86-64) it runs by 4 x 4 blocks:
@@ -973,8 +984,7 @@ swap_transpose_slices (const guint32 *in,
 
 #ifdef __SSE2__
   {
-    /* aligned when every output offset is a multiple of four words */
-    gboolean nt = ((guintptr) out & 15) == 0 && s0 % 4 == 0 && s1 % 4 == 0;
+    gboolean nt = stores_aligned (out, s0, s1, 4);
 
     i0_vec = n0 / 4 * 4;
     j_vec = cn / 4 * 4;
@@ -1052,7 +1062,7 @@ swap_transpose_avx2 (const guint32 *in,
 {
   const __m256i swap = _mm256_set_epi8 (12, 13, 14, 15, 8, 9, 10, 11, 4, 5, 6, 7, 0, 1, 2, 3,
                                         12, 13, 14, 15, 8, 9, 10, 11, 4, 5, 6, 7, 0, 1, 2, 3);
-  gboolean nt = ((guintptr) out & 31) == 0 && s0 % 8 == 0 && s1 % 8 == 0;
+  gboolean nt = stores_aligned (out, s0, s1, 8);
   gsize i0_vec = n0 / 8 * 8, j_vec = cn / 16 * 16;
 
   for (gsize i1 = 0; i1 < n1; i1++)
@@ -1153,10 +1163,7 @@ swap_transpose_unit (const guint32 *in,
                      gboolean       avx2)
 {
 #ifdef EFFLUX_HAVE_AVX2_PATH
-  gboolean nt_avx2 = ((guintptr) out & 31) == 0 && s0 % 8 == 0 && s1 % 8 == 0;
-  gboolean nt_sse2 = ((guintptr) out & 15) == 0 && s0 % 4 == 0 && s1 % 4 == 0;
-
-  if (avx2 && (nt_avx2 || !nt_sse2))
+  if (avx2 && (stores_aligned (out, s0, s1, 8) || !stores_aligned (out, s0, s1, 4)))
     {
       swap_transpose_avx2 (in, in_plane, n0, n0, n1, cn, out, s0, s1);
       return;
