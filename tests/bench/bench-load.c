@@ -22,17 +22,13 @@
 #include <unistd.h>
 #include <stdlib.h>
 #include <time.h>
-#include <spawn.h>
-#include <sys/resource.h>
-#include <sys/wait.h>
 
 #include <glib.h>
 #include <glib/gstdio.h>
 
-extern char **environ;
-
 #include "efflux-cube.h"
 #include "efflux-test-util.h"
+#include "bench-util.h"
 
 #define NX 512
 #define NY 512
@@ -99,16 +95,6 @@ cpu_seconds (void)
   return (double) ts.tv_sec + (double) ts.tv_nsec * 1e-9;
 }
 
-static double
-children_cpu_seconds (void)
-{
-  struct rusage ru;
-
-  getrusage (RUSAGE_CHILDREN, &ru);
-  return (double) ru.ru_utime.tv_sec + (double) ru.ru_utime.tv_usec * 1e-6 +
-         (double) ru.ru_stime.tv_sec + (double) ru.ru_stime.tv_usec * 1e-6;
-}
-
 static int
 compare_double (const void *a,
                 const void *b)
@@ -127,31 +113,6 @@ median (const double *v,
   memcpy (s, v, (gsize) n * sizeof (double));
   qsort (s, (gsize) n, sizeof (double), compare_double);
   return n % 2 ? s[n / 2] : 0.5 * (s[n / 2 - 1] + s[n / 2]);
-}
-
-/* `cat path > /dev/null`: wall and CPU seconds. Started with posix_spawnp (the child shares our
- * memory until exec, as a small shell's fork would cost): g_spawn_sync forks, and forking this
- * process, with its 256 MiB buffer in 4 KiB pages, added several ms to cat's time. */
-static void
-time_cat (const char *path,
-          double     *wall,
-          double     *cpu)
-{
-  char *argv[] = { (char *) "cat", (char *) path, NULL };
-  posix_spawn_file_actions_t fa;
-  pid_t pid;
-  int status = 0;
-  double c0 = children_cpu_seconds ();
-  gint64 t0 = g_get_monotonic_time ();
-
-  g_assert_cmpint (posix_spawn_file_actions_init (&fa), ==, 0);
-  g_assert_cmpint (posix_spawn_file_actions_addopen (&fa, 1, "/dev/null", O_WRONLY, 0), ==, 0);
-  g_assert_cmpint (posix_spawnp (&pid, "cat", &fa, NULL, argv, environ), ==, 0);
-  g_assert_cmpint (waitpid (pid, &status, 0), ==, pid);
-  *wall = (double) (g_get_monotonic_time () - t0) / 1e6;
-  *cpu = children_cpu_seconds () - c0;
-  posix_spawn_file_actions_destroy (&fa);
-  g_assert_true (WIFEXITED (status) && WEXITSTATUS (status) == 0);
 }
 
 /* One load; with subset, only the channels whose velocity lies in 0.95 .. 4.15 km/s (32 of the
@@ -207,12 +168,12 @@ main (void)
   mib = (double) st.st_size / (1024.0 * 1024.0);
   buf = g_malloc ((gsize) st.st_size);
   read_whole (path, buf, (gsize) st.st_size);   /* into the page cache */
-  time_cat (path, &dummy, &dummy);
+  bench_time_cat (path, NULL);
   time_load (path, TRUE, FALSE, &dummy, &dummy);   /* warm-up */
 
   for (int r = 0; r < REPS; r++)
     {
-      time_cat (path, &cat_w[r], &cat_c[r]);
+      cat_w[r] = bench_time_cat (path, &cat_c[r]);
       read_w[r] = read_whole (path, buf, (gsize) st.st_size);
       time_load (path, TRUE, FALSE, &load_w[r], &load_c[r]);
       time_load (path, FALSE, FALSE, &noise_w[r], &dummy);

@@ -28,9 +28,6 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <time.h>
-#include <fcntl.h>
-#include <spawn.h>
-#include <sys/wait.h>
 
 #include "efflux-application.h"
 #include "efflux-cube.h"
@@ -41,8 +38,6 @@
 #include "efflux-settings.h"
 #include "efflux-sky-view.h"
 #include "efflux-window.h"
-
-extern char **environ;
 
 #define NX 512
 #define NY 512
@@ -106,26 +101,6 @@ demo_first_frame (void)
   }
   gtk_window_destroy (GTK_WINDOW (ff.window));
   return (ff.t_first - ff.t0) / 1e6;
-}
-
-/* `cat path > /dev/null`, the whole process, started with posix_spawnp (as bench-load does: a
- * fork of this process would copy its page tables); wall seconds */
-static double
-cat_seconds (const char *path)
-{
-  char *argv[] = { (char *) "cat", (char *) path, NULL };
-  posix_spawn_file_actions_t fa;
-  pid_t pid;
-  int status = 0;
-  gint64 t0 = g_get_monotonic_time ();
-
-  g_assert_cmpint (posix_spawn_file_actions_init (&fa), ==, 0);
-  g_assert_cmpint (posix_spawn_file_actions_addopen (&fa, 1, "/dev/null", O_WRONLY, 0), ==, 0);
-  g_assert_cmpint (posix_spawnp (&pid, "cat", &fa, NULL, argv, environ), ==, 0);
-  g_assert_cmpint (waitpid (pid, &status, 0), ==, pid);
-  posix_spawn_file_actions_destroy (&fa);
-  g_assert_true (WIFEXITED (status) && WEXITSTATUS (status) == 0);
-  return (double) (g_get_monotonic_time () - t0) / 1e6;
 }
 
 /* ---- 2. drags on a large cube ---- */
@@ -562,7 +537,7 @@ main (int    argc,
 
     /* the file in the page cache, and the time to read it from there (cat, the better of two) */
     {
-      double c1 = cat_seconds (cube_path), c2 = cat_seconds (cube_path);
+      double c1 = bench_time_cat (cube_path, NULL), c2 = bench_time_cat (cube_path, NULL);
 
       t_cat = MIN (c1, c2);
     }
