@@ -1309,6 +1309,49 @@ alloc_voxels_huge (gsize bytes)
   return p;
 }
 
+/* A gzipped file's trailer, checked before CFITSIO sees it: CFITSIO allocates the whole
+ * uncompressed file in memory at the size the trailer's ISIZE field gives (RFC 1952, section
+ * 2.3.1: the last 4 bytes, little-endian, the length modulo 2^32), so a damaged trailer could ask
+ * for 4 GiB. Deflate cannot expand by more than 1032:1 (zlib's technical notes, from memory), so
+ * a true length, and ISIZE which is at most that, stays below 1032 x the compressed size; a gzip
+ * file holds at least its 10-byte header and 8-byte trailer (RFC 1952, 2.3). */
+static gboolean
+gzip_trailer_plausible (const char *path,
+                        guint64     size,
+                        GError    **error)
+{
+  unsigned char t[4];
+  guint64 isize;
+  FILE *fp;
+  gboolean got;
+
+  if (size < 18)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                   "%s: gzip file of %" G_GUINT64_FORMAT " bytes, shorter than a gzip header and trailer (truncated?)",
+                   path, size);
+      return FALSE;
+    }
+  fp = fopen (path, "rb");
+  got = fp != NULL && fseeko (fp, -4, SEEK_END) == 0 && fread (t, 1, 4, fp) == 4;
+  if (fp != NULL)
+    fclose (fp);
+  if (!got)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_IO, "%s: cannot read the gzip trailer (ISIZE)", path);
+      return FALSE;
+    }
+  isize = (guint64) t[0] | (guint64) t[1] << 8 | (guint64) t[2] << 16 | (guint64) t[3] << 24;
+  if (isize > 1032 * size)
+    {
+      g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                   "%s: gzip trailer ISIZE claims %" G_GUINT64_FORMAT " bytes from %" G_GUINT64_FORMAT
+                   " compressed, more than deflate can give: damaged gzip file", path, isize, size);
+      return FALSE;
+    }
+  return TRUE;
+}
+
 /* Whether the primary header (80-character cards) reaches its END card within the file. */
 static gboolean
 primary_header_complete (const char *path)
@@ -1451,6 +1494,8 @@ efflux_cube_load (const char                  *path,
         return NULL;
       }
   }
+  if (gz && !gzip_trailer_plausible (path, (guint64) st.st_size, error))
+    return NULL;
 
   if (fits_open_diskfile (&f, path, READONLY, &status) != 0)
     {

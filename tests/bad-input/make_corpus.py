@@ -108,6 +108,10 @@ fits('freq-no-restfrq.fits', CTYPE3="'FREQ'", CRVAL3='          230.538E+09', CD
      CUNIT3="'Hz'", RESTFRQ=None)
 write('all-nan.fits', header(good_cards()) + data([float('nan')] * (NX * NY * NCH)))
 write('gzip-garbage.fits', b'\x1f\x8b\x08\x00' + bytes(rnd.getrandbits(8) for _ in range(3000)))
+# a gzip trailer whose ISIZE (RFC 1952) claims 4 GiB from 129 bytes (found by fuzz-fits: CFITSIO
+# allocated it whole)
+write('gzip-isize.fits', b'\x1f\x8b' + b'\xff' * 127)
+write('gzip-short.fits', b'\x1f\x8b\x08\x00')
 os.makedirs(os.path.join(out, 'folder.fits'), exist_ok=True)
 fits('unreadable.fits')
 os.chmod(os.path.join(out, 'unreadable.fits'), 0)
