@@ -1,9 +1,10 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
-/* The float32 fast path of efflux_cube_load (pread on two threads, the SIMD byte-swap
- * transpose by 4 x 4 blocks with SSE2 or 8 x 8 blocks with AVX2, units of 64 channels by a few
+/* The float32 fast path of efflux_cube_load (batched reads on several threads, the SIMD byte-swap
+ * transpose by 4 x 4 blocks with SSE2, 8 x 8 with AVX2 or 16 x 16 with AVX-512, units of 64 channels by a few
  * rows) on shapes that exercise every edge: several units of channels and of rows, widths and
  * channel counts that are not multiples of 4, 8 or 16, NaN voxels, and the channel subset; each
- * shape is read with the SSE2 code and, where the processor has AVX2, with the AVX2 code, and
+ * shape is read with the SSE2 code and, where the processor has them, with the AVX2 and the
+ * AVX-512 code, and
  * with one and four reading threads. The reference is the file itself: every voxel is
  * written here as a big-endian IEEE 754 float32, as the FITS standard 4.0 defines BITPIX = -32
  * (Pence et al. 2010, A&A 524, A42, section 5.3), with a value known from its position, and
@@ -18,6 +19,7 @@
 #include <glib/gstdio.h>
 
 #include "efflux-cube.h"
+#include "efflux-readbatch.h"
 #include "efflux-test-util.h"
 
 /* voxel (x, y, k): a smooth value, NaN on a sparse pattern */
@@ -161,18 +163,28 @@ check_shape_once (gsize nx,
   g_rmdir (dir);
 }
 
-/* every shape with the SSE2 code, then with the AVX2 code where the processor has it, then
- * with one and with four reading threads whatever the processors */
+/* every shape with the SSE2 code, then with the AVX2 and the AVX-512 code where the processor
+ * has them (the default passes below use the widest one), then
+ * with one and with four reading threads whatever the processors, then with pread () instead
+ * of the io_uring batches (where the kernel offers those, every other pass uses them) */
 static void
 check_shape (gsize nx,
              gsize ny,
              gsize nchan)
 {
+  efflux_read_batch_allow_ring (FALSE);
+  check_shape_once (nx, ny, nchan);
+  efflux_read_batch_allow_ring (TRUE);
   efflux_cube_loader_allow_avx2 (FALSE);
   g_assert_false (efflux_cube_loader_uses_avx2 ());
   check_shape_once (nx, ny, nchan);
   efflux_cube_loader_allow_avx2 (TRUE);
+  efflux_cube_loader_allow_avx512 (FALSE);
+  g_assert_false (efflux_cube_loader_uses_avx512 ());
   if (efflux_cube_loader_uses_avx2 ())
+    check_shape_once (nx, ny, nchan);
+  efflux_cube_loader_allow_avx512 (TRUE);
+  if (efflux_cube_loader_uses_avx512 ())
     check_shape_once (nx, ny, nchan);
   for (guint n = 1; n <= EFFLUX_CUBE_MAX_THREADS; n += EFFLUX_CUBE_MAX_THREADS - 1)
     {
@@ -243,8 +255,15 @@ test_vector_blocks (void)
   check_shape (24, 9, 132);
   /* a width of 8 k + 3 and 16 k + 5 channels: AVX2 blocks, and SSE2 and scalar edges */
   check_shape (43, 6, 85);
+  /* whole AVX-512 blocks of 16 pixels by 16 channels, with a width of 16 k + 8 (an AVX2 block
+   * left over) and 16 k + 13 (AVX2, SSE2 and scalar edges) */
+  check_shape (48, 5, 64);
+  check_shape (40, 7, 96);
+  check_shape (61, 4, 83);
   if (!efflux_cube_loader_uses_avx2 ())
     g_test_message ("no AVX2 on this processor: only the SSE2 code was checked");
+  else if (!efflux_cube_loader_uses_avx512 ())
+    g_test_message ("no AVX-512 on this processor: the SSE2 and AVX2 code were checked");
 }
 
 int

@@ -118,6 +118,9 @@ EffluxCube *efflux_cube_load       (const char                  *path,
  * tests and benchmarks that compare the two; uses_avx2 tells which one loads use now. */
 void     efflux_cube_loader_allow_avx2 (gboolean allow);
 gboolean efflux_cube_loader_uses_avx2  (void);
+/* The same for AVX-512 (F and BW), used where the processor has it and AVX2 is allowed. */
+void     efflux_cube_loader_allow_avx512 (gboolean allow);
+gboolean efflux_cube_loader_uses_avx512  (void);
 
 /* Threads of a load and of the noise estimate: one per processor available, at most
  * EFFLUX_CUBE_MAX_THREADS. force_threads (n) makes it n whatever the processors, for the tests

@@ -7,7 +7,8 @@
  *   - read() of the whole file into one reused buffer (the floor: copying it from the page cache),
  *   - efflux_cube_load without the noise estimate (bytes to usable floats + WCS), with it, of
  *     32 of the 256 channels (channel_subset, as `efflux-cli moment --range` reads them), and
- *     without the noise estimate with the SSE2 transpose only (where AVX2 is the default),
+ *     without the noise estimate with the SSE2 transpose only (where AVX2 is the default), and
+ *     with pread () only (where the io_uring batches of efflux-readbatch.c are the default),
  * with the CPU time of each (all threads; cat's from getrusage of the children), then run
  * tests/bench/load_numpy.py (astropy.io.fits getdata + numpy transpose to spectral-contiguous
  * order, run with EFFLUX_PYTHON; median of 5, printed by the script).
@@ -27,6 +28,7 @@
 #include <glib/gstdio.h>
 
 #include "efflux-cube.h"
+#include "efflux-readbatch.h"
 #include "efflux-test-util.h"
 #include "bench-util.h"
 
@@ -84,7 +86,7 @@ read_whole (const char *path,
   return (double) (g_get_monotonic_time () - t0) / 1e6;
 }
 
-#define REPS 7
+#define REPS 11
 
 static double
 cpu_seconds (void)
@@ -157,7 +159,7 @@ main (void)
   const char *root = g_getenv ("EFFLUX_SOURCE_ROOT");
   GStatBuf st;
   double cat_w[REPS], cat_c[REPS], read_w[REPS], load_w[REPS], load_c[REPS], noise_w[REPS], sub_w[REPS];
-  double sse2_w[REPS], sse2_c[REPS];
+  double sse2_w[REPS], sse2_c[REPS], pread_w[REPS], pread_c[REPS];
   gboolean avx2 = efflux_cube_loader_uses_avx2 ();
   double ratio[REPS], dummy, mib;
 
@@ -181,6 +183,9 @@ main (void)
       efflux_cube_loader_allow_avx2 (FALSE);
       time_load (path, TRUE, FALSE, &sse2_w[r], &sse2_c[r]);
       efflux_cube_loader_allow_avx2 (TRUE);
+      efflux_read_batch_allow_ring (FALSE);
+      time_load (path, TRUE, FALSE, &pread_w[r], &pread_c[r]);
+      efflux_read_batch_allow_ring (TRUE);
       ratio[r] = load_w[r] / cat_w[r];
     }
   g_clear_pointer (&buf, g_free);
@@ -196,6 +201,8 @@ main (void)
           avx2 ? "AVX2 transpose" : "SSE2 transpose, no AVX2 here");
   printf ("  efflux_cube_load, SSE2 only    %8.3f s  %7.0f MiB/s  CPU %.3f s\n",
           median (sse2_w, REPS), mib / median (sse2_w, REPS), median (sse2_c, REPS));
+  printf ("  efflux_cube_load, pread () only %8.3f s  %7.0f MiB/s  CPU %.3f s (no io_uring batches)\n",
+          median (pread_w, REPS), mib / median (pread_w, REPS), median (pread_c, REPS));
   printf ("  efflux_cube_load (+ noise)     %8.3f s\n", median (noise_w, REPS));
   printf ("  efflux_cube_load, 32 of the 256 channels (channel_subset, no noise) %8.3f s\n",
           median (sub_w, REPS));
