@@ -198,7 +198,8 @@ main (void)
           mib / median (read_w, REPS));
   printf ("  efflux_cube_load (no noise)    %8.3f s  %7.0f MiB/s  CPU %.3f s (all threads; %s)\n",
           median (load_w, REPS), mib / median (load_w, REPS), median (load_c, REPS),
-          avx2 ? "AVX2 transpose" : "SSE2 transpose, no AVX2 here");
+          efflux_cube_loader_uses_avx512 () ? "AVX-512 transpose"
+          : avx2 ? "AVX2 transpose, no AVX-512 here" : "SSE2 transpose, no AVX2 here");
   printf ("  efflux_cube_load, SSE2 only    %8.3f s  %7.0f MiB/s  CPU %.3f s\n",
           median (sse2_w, REPS), mib / median (sse2_w, REPS), median (sse2_c, REPS));
   printf ("  efflux_cube_load, pread () only %8.3f s  %7.0f MiB/s  CPU %.3f s (no io_uring batches)\n",
