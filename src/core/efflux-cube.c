@@ -1044,6 +1044,9 @@ swap_transpose_slices (const guint32 *in,
         out[i0 * s0 + i1 * s1 + j] = GUINT32_FROM_BE (in[j * in_plane + i1 * in_row + i0]);
 }
 
+/* channels per unit the AVX-512 code can stage (the loader's units of 256 slices) */
+#define SWAP_STAGE_CHANNELS 256
+
 #if defined(__x86_64__) && (defined(__GNUC__) || defined(__clang__))
 #define EFFLUX_HAVE_AVX2_PATH 1
 
@@ -1140,6 +1143,30 @@ swap_transpose_avx2 (const guint32 *in,
  * operations per 256 words against about 130 for the 8 x 8 blocks of AVX2 (whose 16 registers
  * also spill), and one 64-byte store per pixel line of 16 channels, a whole cache line. It covers
  * the whole blocks of 16 x 16 and hands the rest to swap_transpose_avx2. */
+/* n words from src (in the cache) to dst (4-byte aligned): the part before dst's first cache-line
+ * boundary and the part after its last one with ordinary stores, the whole lines between them
+ * with non-temporal ones, which spare reading them into the cache first. */
+__attribute__ ((target ("avx512f,avx512bw"))) static inline void
+stream_run (guint32       *dst,
+            const guint32 *src,
+            gsize          n)
+{
+  gsize head = MIN (n, (gsize) ((64u - ((guintptr) dst & 63u)) & 63u) / sizeof (guint32));
+  gsize body = (n - head) / 16 * 16, k;
+
+  if (head > 0)
+    _mm512_mask_storeu_epi32 (dst, (__mmask16) ((1u << head) - 1u), _mm512_loadu_si512 ((const void *) src));
+  for (k = head; k < head + body; k += 16)
+    _mm512_stream_si512 ((void *) (dst + k), _mm512_loadu_si512 ((const void *) (src + k)));
+  for (; k < n; k += 16)
+    {
+      gsize left = MIN ((gsize) 16, n - k);
+
+      _mm512_mask_storeu_epi32 (dst + k, (__mmask16) ((1u << left) - 1u),
+                                _mm512_maskz_loadu_epi32 ((__mmask16) ((1u << left) - 1u), src + k));
+    }
+}
+
 __attribute__ ((target ("avx512f,avx512bw"))) static void
 swap_transpose_avx512 (const guint32 *in,
                        gsize          in_plane,
@@ -1153,7 +1180,12 @@ swap_transpose_avx512 (const guint32 *in,
 {
   const __m512i swap = _mm512_set4_epi32 (0x0c0d0e0f, 0x08090a0b, 0x04050607, 0x00010203);
   gboolean nt = stores_aligned (out, s0, s1, 16);
+  /* staged: the lines of 16 channels do not start on cache lines (a spectrum's length is not a
+   * multiple of 64 bytes): the block's pixel runs go through a buffer in the first-level cache
+   * and out by stream_run, non-temporal for every whole cache line they cover */
+  gboolean staged = !nt && cn <= SWAP_STAGE_CHANNELS;
   gsize i0_vec = n0 / 16 * 16, j_vec = cn / 16 * 16;
+  guint32 stage[16 * SWAP_STAGE_CHANNELS] __attribute__ ((aligned (64)));
 
   for (gsize i1 = 0; i1 < n1; i1++)
     for (gsize i0 = 0; i0 < i0_vec; i0 += 16)
@@ -1161,14 +1193,18 @@ swap_transpose_avx512 (const guint32 *in,
         const guint32 *p = in + i1 * in_row + i0;
         guint32 *o = out + i0 * s0 + i1 * s1;
 
-        for (gsize j0 = 0; j0 < j_vec; j0 += 16)
+        /* staged, the last channels (cn not a multiple of 16) go through the stage as well, as
+         * a block whose missing channels are zeros and are not written out */
+        for (gsize j0 = 0; j0 < (staged ? cn : j_vec); j0 += 16)
           {
             const guint32 *q = p + j0 * in_plane;
+            const int kn = (int) MIN ((gsize) 16, cn - j0);
             __m512i r[16], t[16], u[16];
 
             /* r[k]: channel k of pixels 0-15, byte-swapped */
             for (int k = 0; k < 16; k++)
-              r[k] = _mm512_shuffle_epi8 (_mm512_loadu_si512 ((const void *) (q + (gsize) k * in_plane)), swap);
+              r[k] = k < kn ? _mm512_shuffle_epi8 (_mm512_loadu_si512 ((const void *) (q + (gsize) k * in_plane)), swap)
+                            : _mm512_setzero_si512 ();
             /* within each 128-bit lane L (pixels 4L .. 4L + 3): t[2k], t[2k + 1] interleave
              * channels 2k and 2k + 1 */
             for (int k = 0; k < 8; k++)
@@ -1199,18 +1235,23 @@ swap_transpose_avx512 (const guint32 *in,
                   {
                     void *d = o + (gsize) (4 * L + m) * s0 + j0;
 
-                    if (nt)
+                    if (staged)
+                      _mm512_store_si512 (stage + (gsize) (4 * L + m) * SWAP_STAGE_CHANNELS + j0, c[L]);
+                    else if (nt)
                       _mm512_stream_si512 (d, c[L]);
                     else
                       _mm512_storeu_si512 (d, c[L]);
                   }
               }
           }
+        if (staged)
+          for (gsize i = 0; i < 16; i++)
+            stream_run (o + i * s0, stage + i * SWAP_STAGE_CHANNELS, cn);
       }
   _mm_sfence ();
-  /* the last channels of the whole blocks of pixels, then every channel of the last pixels of
-   * each row, by the AVX2 code (and its SSE2 edges) */
-  if (j_vec < cn && i0_vec > 0)
+  /* the last channels of the whole blocks of pixels (unless staged), then every channel of the
+   * last pixels of each row, by the AVX2 code (and its SSE2 edges) */
+  if (!staged && j_vec < cn && i0_vec > 0)
     swap_transpose_avx2 (in + j_vec * in_plane, in_plane, in_row, i0_vec, n1, cn - j_vec,
                          out + j_vec, s0, s1);
   if (i0_vec < n0)
@@ -1257,8 +1298,9 @@ efflux_cube_loader_uses_avx2 (void)
 #endif
 }
 
-/* One unit's swap and transpose: the widest code the loader may use (AVX-512, AVX2, SSE2) whose
- * stores are aligned for non-temporal stores (or the next narrower one's would not be either). */
+/* One unit's swap and transpose: AVX-512 when the loader may use it (its non-temporal stores
+ * need no alignment: see stream_run), else the wider of AVX2 and SSE2 whose stores are aligned
+ * for non-temporal stores (the widest when neither is). */
 static void
 swap_transpose_unit (const guint32 *in,
                      gsize          in_plane,
@@ -1272,7 +1314,7 @@ swap_transpose_unit (const guint32 *in,
                      gboolean       avx512)
 {
 #ifdef EFFLUX_HAVE_AVX2_PATH
-  if (avx512 && (stores_aligned (out, s0, s1, 16) || !stores_aligned (out, s0, s1, 8)))
+  if (avx512)
     {
       swap_transpose_avx512 (in, in_plane, n0, n0, n1, cn, out, s0, s1);
       return;
@@ -2318,8 +2360,13 @@ efflux_cube_load (const char                  *path,
         /* 64 slices: each spectrum gets runs of 256 bytes (four whole lines, stored one after
          * the other); fewer for very wide rows, down to 16 (one line); rows to make about 4 MiB
          * a unit (fewer preads than 2 MiB, still in the cache; 2, 4 and 8 MiB measured back to
-         * back, 4 the fastest by about 10 %) */
-        r.chunk_n = 64;
+         * back, 4 the fastest by about 10 %). Where the AVX-512 code stages its stores (spectra
+         * not a multiple of 64 bytes long, see swap_transpose_avx512), 256 slices: a run then
+         * shares its first and last cache lines with other units' runs, which are stored
+         * through the cache, and longer runs make those fewer (512 x 512 x 255 cube: 43-44 ms
+         * against 48-49 ms with 64 slices, medians of 21; 256 x 256 x 421: 25-28 ms both) */
+        r.chunk_n = loops[2].s_out == 1 && loops[0].s_out % 16 != 0 && efflux_cube_loader_uses_avx512 ()
+                    ? SWAP_STAGE_CHANNELS : 64;
         while (r.chunk_n > 16 && r.chunk_n * r.n_fast * sizeof (guint32) > 2u * 1024u * 1024u)
           r.chunk_n /= 2;
         r.chunk_n = MIN (r.chunk_n, n_slow);
