@@ -1057,6 +1057,37 @@ swap_transpose_slices (const guint32 *in,
  * whole blocks of 8 x 16 and hands the rest to swap_transpose_slices. Measured alone on one
  * core (256 MiB, the buffer in the cache): 26 ms against 42 ms for the SSE2 code, where storing
  * 256-byte runs non-temporally takes 16-19 ms. */
+/* n words from src to dst (4-byte aligned): ordinary masked stores before dst's first and after
+ * its last cache-line boundary, non-temporal stores for the whole lines between them (the same
+ * as stream_run, with AVX2). */
+__attribute__ ((target ("avx2"))) static inline void
+stream_run_avx2 (guint32       *dst,
+                 const guint32 *src,
+                 gsize          n)
+{
+  const __m256i idx = _mm256_setr_epi32 (0, 1, 2, 3, 4, 5, 6, 7);
+  gsize head = MIN (n, (gsize) ((64u - ((guintptr) dst & 63u)) & 63u) / sizeof (guint32));
+  gsize body = (n - head) / 16 * 16, k;
+
+  for (k = 0; k < head; k += 8)
+    {
+      __m256i m = _mm256_cmpgt_epi32 (_mm256_set1_epi32 ((int) (head - k)), idx);
+
+      _mm256_maskstore_epi32 ((int *) (dst + k), m, _mm256_maskload_epi32 ((const int *) (src + k), m));
+    }
+  for (k = head; k < head + body; k += 16)
+    {
+      _mm256_stream_si256 ((__m256i *) (dst + k), _mm256_loadu_si256 ((const __m256i *) (src + k)));
+      _mm256_stream_si256 ((__m256i *) (dst + k + 8), _mm256_loadu_si256 ((const __m256i *) (src + k + 8)));
+    }
+  for (; k < n; k += 8)
+    {
+      __m256i m = _mm256_cmpgt_epi32 (_mm256_set1_epi32 ((int) MIN ((gsize) 8, n - k)), idx);
+
+      _mm256_maskstore_epi32 ((int *) (dst + k), m, _mm256_maskload_epi32 ((const int *) (src + k), m));
+    }
+}
+
 __attribute__ ((target ("avx2"))) static void
 swap_transpose_avx2 (const guint32 *in,
                      gsize          in_plane,
@@ -1071,7 +1102,10 @@ swap_transpose_avx2 (const guint32 *in,
   const __m256i swap = _mm256_set_epi8 (12, 13, 14, 15, 8, 9, 10, 11, 4, 5, 6, 7, 0, 1, 2, 3,
                                         12, 13, 14, 15, 8, 9, 10, 11, 4, 5, 6, 7, 0, 1, 2, 3);
   gboolean nt = stores_aligned (out, s0, s1, 8);
+  /* staged: as in swap_transpose_avx512, through a buffer and stream_run_avx2 */
+  gboolean staged = !nt && cn <= SWAP_STAGE_CHANNELS;
   gsize i0_vec = n0 / 8 * 8, j_vec = cn / 16 * 16;
+  guint32 stage[8 * SWAP_STAGE_CHANNELS] __attribute__ ((aligned (32)));
 
   for (gsize i1 = 0; i1 < n1; i1++)
     for (gsize i0 = 0; i0 < i0_vec; i0 += 8)
@@ -1079,9 +1113,11 @@ swap_transpose_avx2 (const guint32 *in,
         const guint32 *p = in + i1 * in_row + i0;
         guint32 *o = out + i0 * s0 + i1 * s1;
 
-        for (gsize j0 = 0; j0 < j_vec; j0 += 16)
+        /* staged, the last channels too, as a block whose missing channels are zeros */
+        for (gsize j0 = 0; j0 < (staged ? cn : j_vec); j0 += 16)
           {
             __m256i c[2][8];
+            const int kn = (int) MIN ((gsize) 16, cn - j0);
 
             for (int b = 0; b < 2; b++)
               {
@@ -1090,8 +1126,9 @@ swap_transpose_avx2 (const guint32 *in,
 
                 /* r[k]: channel k of pixels 0-7, byte-swapped */
                 for (int k = 0; k < 8; k++)
-                  r[k] = _mm256_shuffle_epi8 (_mm256_loadu_si256 ((const __m256i *) (q + (gsize) k * in_plane)),
-                                              swap);
+                  r[k] = 8 * b + k < kn
+                    ? _mm256_shuffle_epi8 (_mm256_loadu_si256 ((const __m256i *) (q + (gsize) k * in_plane)), swap)
+                    : _mm256_setzero_si256 ();
                 /* within each 128-bit lane (pixels 0-3 | 4-7): t[2k], t[2k + 1] interleave
                  * channels 2k and 2k + 1 */
                 for (int k = 0; k < 4; k++)
@@ -1119,17 +1156,22 @@ swap_transpose_avx2 (const guint32 *in,
                 {
                   __m256i *d = (__m256i *) (o + i * s0 + j0 + 8 * (gsize) b);
 
-                  if (nt)
+                  if (staged)
+                    _mm256_store_si256 ((__m256i *) (stage + i * SWAP_STAGE_CHANNELS + j0 + 8 * (gsize) b), c[b][i]);
+                  else if (nt)
                     _mm256_stream_si256 (d, c[b][i]);
                   else
                     _mm256_storeu_si256 (d, c[b][i]);
                 }
           }
+        if (staged)
+          for (gsize i = 0; i < 8; i++)
+            stream_run_avx2 (o + i * s0, stage + i * SWAP_STAGE_CHANNELS, cn);
       }
   _mm_sfence ();
   /* the last channels (cn not a multiple of 16) of the whole blocks of pixels, then every
    * channel of the last pixels of each row (n0 not a multiple of 8) */
-  if (j_vec < cn && i0_vec > 0)
+  if (!staged && j_vec < cn && i0_vec > 0)
     swap_transpose_slices (in + j_vec * in_plane, in_plane, in_row, i0_vec, n1, cn - j_vec,
                            out + j_vec, s0, s1);
   if (i0_vec < n0)
@@ -1298,9 +1340,12 @@ efflux_cube_loader_uses_avx2 (void)
 #endif
 }
 
-/* One unit's swap and transpose: AVX-512 when the loader may use it (its non-temporal stores
- * need no alignment: see stream_run), else the wider of AVX2 and SSE2 whose stores are aligned
- * for non-temporal stores (the widest when neither is). */
+/* One unit's swap and transpose: the widest code the loader may use (AVX-512, AVX2, SSE2) whose
+ * stores are aligned for non-temporal stores; when none is (spectra not a multiple of 16 bytes
+ * long), the widest, which stages its stores (stream_run). For spectra a multiple of 16 bytes but
+ * not of 64, the SSE2 code's 16-byte non-temporal stores were as fast as the staged AVX-512 ones
+ * (256 x 256 x 420 cube: 23 ms against 24-26 ms) and 20 % faster than AVX-512 storing through
+ * the cache. */
 static void
 swap_transpose_unit (const guint32 *in,
                      gsize          in_plane,
@@ -1314,7 +1359,7 @@ swap_transpose_unit (const guint32 *in,
                      gboolean       avx512)
 {
 #ifdef EFFLUX_HAVE_AVX2_PATH
-  if (avx512)
+  if (avx512 && (stores_aligned (out, s0, s1, 16) || !stores_aligned (out, s0, s1, 4)))
     {
       swap_transpose_avx512 (in, in_plane, n0, n0, n1, cn, out, s0, s1);
       return;
@@ -2360,12 +2405,13 @@ efflux_cube_load (const char                  *path,
         /* 64 slices: each spectrum gets runs of 256 bytes (four whole lines, stored one after
          * the other); fewer for very wide rows, down to 16 (one line); rows to make about 4 MiB
          * a unit (fewer preads than 2 MiB, still in the cache; 2, 4 and 8 MiB measured back to
-         * back, 4 the fastest by about 10 %). Where the AVX-512 code stages its stores (spectra
-         * not a multiple of 64 bytes long, see swap_transpose_avx512), 256 slices: a run then
-         * shares its first and last cache lines with other units' runs, which are stored
-         * through the cache, and longer runs make those fewer (512 x 512 x 255 cube: 43-44 ms
-         * against 48-49 ms with 64 slices, medians of 21; 256 x 256 x 421: 25-28 ms both) */
-        r.chunk_n = loops[2].s_out == 1 && loops[0].s_out % 16 != 0 && efflux_cube_loader_uses_avx512 ()
+         * back, 4 the fastest by about 10 %). Where the AVX-512 or AVX2 code stages its stores
+         * (spectra not a multiple of 16 bytes long, see swap_transpose_unit), 256 slices: a run
+         * then shares its first and last cache lines with other units' runs, which are stored
+         * through the cache, and longer runs make those fewer (512 x 512 x 255 cube, AVX-512:
+         * 43-44 ms against 48-49 ms with 64 slices, medians of 21; 256 x 256 x 421: 25-28 ms
+         * both; AVX2 alone, 255 channels: 54-59 ms against 61-63 ms) */
+        r.chunk_n = loops[2].s_out == 1 && loops[0].s_out % 4 != 0 && efflux_cube_loader_uses_avx2 ()
                     ? SWAP_STAGE_CHANNELS : 64;
         while (r.chunk_n > 16 && r.chunk_n * r.n_fast * sizeof (guint32) > 2u * 1024u * 1024u)
           r.chunk_n /= 2;
