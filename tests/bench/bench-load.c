@@ -9,8 +9,9 @@
  *     32 of the 256 channels (channel_subset, as `efflux-cli moment --range` reads them), and
  *     without the noise estimate with the SSE2 transpose only (where AVX2 is the default), and
  *     with pread () only (where the io_uring batches of efflux-readbatch.c are the default),
- * with the CPU time of each (all threads; cat's from getrusage of the children), then run
- * tests/bench/load_numpy.py (astropy.io.fits getdata + numpy transpose to spectral-contiguous
+ * with the CPU time of each (all threads; cat's from getrusage of the children), and, in the same
+ * rounds, cat and efflux_cube_load of a 512 x 512 x 255 cube, whose spectra are not a multiple of
+ * 16 bytes long (the loader's staged stores); then we run tests/bench/load_numpy.py (astropy.io.fits getdata + numpy transpose to spectral-contiguous
  * order, run with EFFLUX_PYTHON; median of 5, printed by the script).
  * Target (issue 4): loading within 2x of reading the file from the page cache (cat). */
 #include "config.h"
@@ -35,20 +36,22 @@
 #define NX 512
 #define NY 512
 #define NCHAN 256
+#define NCHAN_ODD 255
 
 static void
-write_cube (const char *path)
+write_cube (const char *path,
+            gsize       nchan)
 {
   GString *h = g_string_new (NULL);
   FILE *fp;
   gsize plane = (gsize) NX * NY;
   g_autofree guint32 *buf = g_new (guint32, plane);
 
-  efflux_test_fits_cube_header (h, NX, NY, NCHAN, 257.0, 0.1, 128.0);
+  efflux_test_fits_cube_header (h, NX, NY, nchan, 257.0, 0.1, 128.0);
   fp = fopen (path, "wb");
   g_assert_nonnull (fp);
   g_assert_cmpuint (fwrite (h->str, 1, h->len, fp), ==, h->len);
-  for (gsize k = 0; k < NCHAN; k++)
+  for (gsize k = 0; k < nchan; k++)
     {
       for (gsize p = 0; p < plane; p++)
         {
@@ -161,15 +164,22 @@ main (void)
   double cat_w[REPS], cat_c[REPS], read_w[REPS], load_w[REPS], load_c[REPS], noise_w[REPS], sub_w[REPS];
   double sse2_w[REPS], sse2_c[REPS], pread_w[REPS], pread_c[REPS];
   gboolean avx2 = efflux_cube_loader_uses_avx2 ();
-  double ratio[REPS], dummy, mib;
+  double ratio[REPS], dummy, mib, mib_odd;
+  double odd_cat_w[REPS], odd_w[REPS], odd_ratio[REPS];
+  g_autofree char *path_odd = NULL;
 
   g_assert_no_error (error);
   path = g_build_filename (dir, "bench.fits", NULL);
-  write_cube (path);
+  write_cube (path, NCHAN);
+  path_odd = g_build_filename (dir, "odd.fits", NULL);
+  write_cube (path_odd, NCHAN_ODD);
+  g_assert_cmpint (g_stat (path_odd, &st), ==, 0);
+  mib_odd = (double) st.st_size / (1024.0 * 1024.0);
   g_assert_cmpint (g_stat (path, &st), ==, 0);
   mib = (double) st.st_size / (1024.0 * 1024.0);
   buf = g_malloc ((gsize) st.st_size);
   read_whole (path, buf, (gsize) st.st_size);   /* into the page cache */
+  read_whole (path_odd, buf, (gsize) (mib_odd * 1024.0 * 1024.0));
   bench_time_cat (path, NULL);
   time_load (path, TRUE, FALSE, &dummy, &dummy);   /* warm-up */
 
@@ -187,6 +197,9 @@ main (void)
       time_load (path, TRUE, FALSE, &pread_w[r], &pread_c[r]);
       efflux_read_batch_allow_ring (TRUE);
       ratio[r] = load_w[r] / cat_w[r];
+      odd_cat_w[r] = bench_time_cat (path_odd, NULL);
+      time_load (path_odd, TRUE, FALSE, &odd_w[r], &dummy);
+      odd_ratio[r] = odd_w[r] / odd_cat_w[r];
     }
   g_clear_pointer (&buf, g_free);
 
@@ -210,8 +223,13 @@ main (void)
   printf ("  load / cat: ratio of medians %.2f, median of the per-round ratios %.2f, CPU %.2f; "
           "load / read() %.2f\n", median (load_w, REPS) / median (cat_w, REPS), median (ratio, REPS),
           median (load_c, REPS) / median (cat_c, REPS), median (load_w, REPS) / median (read_w, REPS));
-  printf ("  target (issue 4): load within 2x of cat: %s (median of the per-round ratios %.2f)\n",
-          median (ratio, REPS) <= 2.0 ? "met" : "MISSED", median (ratio, REPS));
+  printf ("  %d x %d x %d (%.1f MiB; spectra of %d bytes, not a multiple of 16: the staged stores): "
+          "cat %.3f s, efflux_cube_load %.3f s, median of the per-round ratios %.2f\n",
+          NX, NY, NCHAN_ODD, mib_odd, NCHAN_ODD * 4, median (odd_cat_w, REPS), median (odd_w, REPS),
+          median (odd_ratio, REPS));
+  printf ("  target (issue 4): load within 2x of cat: %s (median of the per-round ratios %.2f and %.2f)\n",
+          MAX (median (ratio, REPS), median (odd_ratio, REPS)) <= 2.0 ? "met" : "MISSED",
+          median (ratio, REPS), median (odd_ratio, REPS));
   {
     g_autofree char *text = NULL;
 
@@ -242,6 +260,7 @@ main (void)
     printf ("  load_numpy.py not run: EFFLUX_PYTHON or EFFLUX_SOURCE_ROOT unset\n");
 
   g_unlink (path);
+  g_unlink (path_odd);
   g_rmdir (dir);
   return 0;
 }
