@@ -1157,16 +1157,33 @@ swap_transpose_avx2 (const guint32 *in,
                   __m256i *d = (__m256i *) (o + i * s0 + j0 + 8 * (gsize) b);
 
                   if (staged)
-                    _mm256_store_si256 ((__m256i *) (stage + i * SWAP_STAGE_CHANNELS + j0 + 8 * (gsize) b), c[b][i]);
+                    {
+                      /* the stage holds the pixels' runs one after the other, as the array
+                       * does when the unit has every channel; the zeros past the last channel
+                       * are not stored (they would fall on the next pixel's run) */
+                      int left = kn - 8 * b;
+
+                      if (left >= 8)
+                        _mm256_storeu_si256 ((__m256i *) (stage + i * cn + j0 + 8 * (gsize) b), c[b][i]);
+                      else if (left > 0)
+                        _mm256_maskstore_epi32 ((int *) (stage + i * cn + j0 + 8 * (gsize) b),
+                                                _mm256_cmpgt_epi32 (_mm256_set1_epi32 (left),
+                                                                    _mm256_setr_epi32 (0, 1, 2, 3, 4, 5, 6, 7)),
+                                                c[b][i]);
+                    }
                   else if (nt)
                     _mm256_stream_si256 (d, c[b][i]);
                   else
                     _mm256_storeu_si256 (d, c[b][i]);
                 }
           }
-        if (staged)
+        /* the unit has every channel (s0 == cn): the 8 runs are contiguous in the array too,
+         * and go out as one, with partial cache lines only at its two ends */
+        if (staged && s0 == cn)
+          stream_run_avx2 (o, stage, 8 * cn);
+        else if (staged)
           for (gsize i = 0; i < 8; i++)
-            stream_run_avx2 (o + i * s0, stage + i * SWAP_STAGE_CHANNELS, cn);
+            stream_run_avx2 (o + i * s0, stage + i * cn, cn);
       }
   _mm_sfence ();
   /* the last channels (cn not a multiple of 16) of the whole blocks of pixels, then every
@@ -1278,7 +1295,9 @@ swap_transpose_avx512 (const guint32 *in,
                     void *d = o + (gsize) (4 * L + m) * s0 + j0;
 
                     if (staged)
-                      _mm512_store_si512 (stage + (gsize) (4 * L + m) * SWAP_STAGE_CHANNELS + j0, c[L]);
+                      /* runs one after the other in the stage, as in swap_transpose_avx2 */
+                      _mm512_mask_storeu_epi32 (stage + (gsize) (4 * L + m) * cn + j0,
+                                                (__mmask16) ((1u << kn) - 1u), c[L]);
                     else if (nt)
                       _mm512_stream_si512 (d, c[L]);
                     else
@@ -1286,9 +1305,11 @@ swap_transpose_avx512 (const guint32 *in,
                   }
               }
           }
-        if (staged)
+        if (staged && s0 == cn)
+          stream_run (o, stage, 16 * cn);
+        else if (staged)
           for (gsize i = 0; i < 16; i++)
-            stream_run (o + i * s0, stage + i * SWAP_STAGE_CHANNELS, cn);
+            stream_run (o + i * s0, stage + i * cn, cn);
       }
   _mm_sfence ();
   /* the last channels of the whole blocks of pixels (unless staged), then every channel of the
