@@ -263,6 +263,11 @@ test_vector_blocks (void)
   /* spectra not a multiple of 64 bytes: the AVX-512 code stages its stores, in units of 256
    * channels (here one whole and one of 44) */
   check_shape (35, 3, 300);
+  /* more staged shapes: three units (256, 256, 88), a last unit of 5 channels, and rows wide
+   * enough for units of 128 channels */
+  check_shape (18, 2, 600);
+  check_shape (21, 2, 261);
+  check_shape (2100, 2, 301);
   if (!efflux_cube_loader_uses_avx2 ())
     g_test_message ("no AVX2 on this processor: only the SSE2 code was checked");
   else if (!efflux_cube_loader_uses_avx512 ())
