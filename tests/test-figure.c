@@ -261,6 +261,77 @@ test_sky_pixels (void)
   g_test_message ("%u of %u positions match", matched, checked);
   g_assert_cmpuint (checked, >=, 8);
   g_assert_cmpuint (matched, >=, checked - 3);
+
+  /* Other colour limits: a percentage (the core's percentile limits of the same map) and fixed
+   * limits, which the figure must use as given; then the drawn colour of the first matching
+   * position is the colour map's for that value between the fixed limits. */
+  o.limits_percent = 90.0;
+  g_assert_true (efflux_figure_write (figure, &o, png, &error));
+  g_assert_true (efflux_figure_sky_geometry (figure, &x0, &y0, &scale, &lo, &hi));
+  g_assert_true (efflux_percentile_limits (map, cube->nx * cube->ny, 90.0, &lo2, &hi2));
+  g_assert_cmpfloat (lo, ==, lo2);
+  g_assert_cmpfloat (hi, ==, hi2);
+  o.limit_lo = 0.25 * hi2;
+  o.limit_hi = 0.75 * hi2;
+  g_assert_true (efflux_figure_write (figure, &o, png, &error));
+  g_assert_no_error (error);
+  g_assert_true (efflux_figure_sky_geometry (figure, &x0, &y0, &scale, &lo, &hi));
+  g_assert_cmpfloat (lo, ==, 0.25 * hi2);
+  g_assert_cmpfloat (hi, ==, 0.75 * hi2);
+  surface = cairo_image_surface_create_from_png (png);
+  g_assert_cmpint (cairo_surface_status (surface), ==, CAIRO_STATUS_SUCCESS);
+  matched = checked = 0;
+  for (guint i = 0; i < 16; i++)
+    {
+      double fx = g_array_index (pix, double, 2 * i), fy = g_array_index (pix, double, 2 * i + 1);
+      gssize px = (gssize) lround (fx), py = (gssize) lround (fy);
+      guint32 argb;
+      guint8 rgba[4];
+      float value;
+      int sx, sy;
+
+      if (fabs (fx - px) > 0.4 || fabs (fy - py) > 0.4 || px < 0 || py < 0
+          || px >= (gssize) cube->nx || py >= (gssize) cube->ny || !isfinite (map[py * cube->nx + px]))
+        continue;
+      value = map[py * cube->nx + px];
+      efflux_colormap_apply (lut, EFFLUX_STRETCH_LINEAR, lo, hi, &value, 1, rgba);
+      sx = (int) floor ((x0 + (fx + 0.5) * scale) * dpi / 72.0);
+      sy = (int) floor ((y0 + (cube->ny - fy - 0.5) * scale) * dpi / 72.0);
+      argb = *(guint32 *) (cairo_image_surface_get_data (surface)
+                           + sy * cairo_image_surface_get_stride (surface) + 4 * sx);
+      checked++;
+      if (((argb >> 16) & 0xff) == rgba[0] && ((argb >> 8) & 0xff) == rgba[1] && (argb & 0xff) == rgba[2])
+        matched++;
+    }
+  cairo_surface_destroy (surface);
+  g_test_message ("fixed limits: %u of %u positions match", matched, checked);
+  g_assert_cmpuint (checked, >=, 8);
+  g_assert_cmpuint (matched, >=, checked - 3);
+
+  /* The same from the command line: the PNG is the library's, pixel for pixel. */
+  {
+    g_autofree char *cli_png = g_build_filename (dir, "sky-cli.png", NULL);
+    g_autofree char *limits = g_strdup_printf ("%.17g,%.17g", 0.25 * hi2, 0.75 * hi2);
+    g_autofree char *a_data = NULL, *b_data = NULL;
+    gsize a_len = 0, b_len = 0;
+    const char *argv[] = { efflux_test_cli (), "figure", demo_dossier, "--view", "sky", "--width-mm", "150",
+                           "--dpi", "144", "--limits-percent", "90", "--limits", limits, "-o", cli_png, NULL };
+    cairo_surface_t *a, *b;
+
+    g_assert_cmpint (efflux_test_spawn (NULL, argv, NULL, NULL), ==, 0);
+    a = cairo_image_surface_create_from_png (png);
+    b = cairo_image_surface_create_from_png (cli_png);
+    g_assert_cmpint (cairo_image_surface_get_width (a), ==, cairo_image_surface_get_width (b));
+    g_assert_cmpint (cairo_image_surface_get_height (a), ==, cairo_image_surface_get_height (b));
+    a_len = (gsize) cairo_image_surface_get_stride (a) * (gsize) cairo_image_surface_get_height (a);
+    b_len = (gsize) cairo_image_surface_get_stride (b) * (gsize) cairo_image_surface_get_height (b);
+    g_assert_cmpuint (a_len, ==, b_len);
+    a_data = g_memdup2 (cairo_image_surface_get_data (a), a_len);
+    b_data = g_memdup2 (cairo_image_surface_get_data (b), b_len);
+    g_assert_cmpint (memcmp (a_data, b_data, a_len), ==, 0);
+    cairo_surface_destroy (a);
+    cairo_surface_destroy (b);
+  }
   efflux_test_remove_tree (dir);
 }
 
@@ -280,6 +351,17 @@ test_channels_and_caption (void)
   /* The demo's lobes span -13.5 to 22.5 km/s; channel centres lie 0.5 km/s apart at ...15, ...65
    * (demo.recipe), so the first and last panels are -13.35 and 22.15 km/s. */
   g_assert_nonnull (strstr (out, "from -13.35 to 22.15 km/s"));
+  /* A chosen velocity range (--channel-range): 2 x 2 panels spread over the channels whose centres
+   * lie in -5 .. 5 km/s, i.e. -4.85 to 4.65 km/s (the demo's channel centres above). */
+  {
+    const char *argv_range[] = { efflux_test_cli (), "figure", demo_dossier, "--view", "channels", "--grid", "2x2",
+                                 "--channel-range", "-5,5", "-o", png, "--width-mm", "88", "--dpi", "72", NULL };
+    g_autofree char *out_range = NULL;
+
+    g_assert_cmpint (efflux_test_spawn (NULL, argv_range, &out_range, NULL), ==, 0);
+    g_assert_nonnull (strstr (out_range, "4 channel maps from -4.85 to 4.65 km/s"));
+    g_assert_nonnull (strstr (out_range, "the chosen range -5.00 to 5.00 km/s"));
+  }
   /* Contour levels are stated in the caption of the sky view. */
   g_assert_cmpint (efflux_test_spawn (NULL, argv_sky, &out_sky, NULL), ==, 0);
   g_assert_nonnull (strstr (out_sky, "Contours of lobe blue (blue): moment 0 over -13.50 to 3.20 km/s at 3, 6"));

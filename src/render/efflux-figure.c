@@ -71,6 +71,25 @@ efflux_figure_options_init (EffluxFigureOptions *o)
   o->limits_percent = 99.5;
 }
 
+/* The colour limits of a view: the central limits_percent of the finite values, or the fixed
+ * limits when the options give them; FALSE when data has no finite value. */
+static gboolean
+colour_limits (const EffluxFigureOptions *o,
+               const float               *data,
+               gsize                      n,
+               double                    *lo,
+               double                    *hi)
+{
+  if (!efflux_percentile_limits (data, n, o->limits_percent, lo, hi))
+    return FALSE;
+  if (isfinite (o->limit_lo) && isfinite (o->limit_hi) && o->limit_lo < o->limit_hi)
+    {
+      *lo = o->limit_lo;
+      *hi = o->limit_hi;
+    }
+  return TRUE;
+}
+
 const char *
 efflux_figure_view_to_string (EffluxFigureView view)
 {
@@ -1138,7 +1157,7 @@ draw_sky (EffluxFigure              *figure,
   if (!efflux_moment_map (cube, EFFLUX_MOMENT_0, cube->velocity[0], cube->velocity[cube->nchan - 1],
                           0.0, map, error))
     return -1;
-  if (!efflux_percentile_limits (map, cube->nx * cube->ny, o->limits_percent, &lo, &hi))
+  if (!colour_limits (o, map, cube->nx * cube->ny, &lo, &hi))
     {
       g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: the moment 0 map has no finite value",
                    cube->path);
@@ -1313,7 +1332,7 @@ draw_cut (EffluxFigure              *figure,
   pv = efflux_pv_cut (cube, ra_dec, cut->n_vertices, cut->width_arcsec, error);
   if (pv == NULL)
     return -1;
-  if (!efflux_percentile_limits (pv->data, pv->n_offsets * pv->nchan, o->limits_percent, &lo, &hi))
+  if (!colour_limits (o, pv->data, pv->n_offsets * pv->nchan, &lo, &hi))
     {
       g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: [Cut %s]: the cut has no finite value",
                    d->path, cut->name);
@@ -1891,7 +1910,7 @@ draw_channels (EffluxFigure              *figure,
       for (gsize pix = 0; pix < npix; pix++)
         planes[i * npix + pix] = cube->data[pix * cube->nchan + k];
     }
-  if (!efflux_percentile_limits (planes, npix * n_panels, o->limits_percent, &lo, &hi))
+  if (!colour_limits (o, planes, npix * n_panels, &lo, &hi))
     {
       g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_INPUT, "%s: the channels have no finite value", cube->path);
       return -1;

@@ -72,10 +72,15 @@ typedef struct
    * 0 and 0 (the default): over the lobes' velocity ranges. */
   double              channel_v1_kms;
   double              channel_v2_kms;
+  /* Fixed colour limits, in the view's units (K km/s for the sky view's moment 0, K for the cut
+   * and the channel maps), when limit_lo < limit_hi (both finite); 0 and 0 (the default): from
+   * limits_percent. Values outside them take the end colours, as with the percentile limits. */
+  double              limit_lo;
+  double              limit_hi;
 } EffluxFigureOptions;
 
 /* Defaults: sky, 120 mm wide, height from the layout, 300 dpi, 3 x 3 channels, cubehelix, linear,
- * sexagesimal, 99.5 %. */
+ * sexagesimal, 99.5 %, colour limits from that percentage. */
 void        efflux_figure_options_init (EffluxFigureOptions *options);
 
 /* "sky", "cut", "spectrum", "mass-velocity", "channels". */
