@@ -38,6 +38,9 @@ struct _EffluxFigureDialog
   GtkDropDown    *stretch_dropdown;
   GtkDropDown    *coords_dropdown;
   GtkSpinButton  *limits_spin;
+  GtkCheckButton *fixed_check;
+  GtkSpinButton  *limit_lo_spin;
+  GtkSpinButton  *limit_hi_spin;
   GtkDropDown    *preset_dropdown;
   GtkDropDown    *unit_dropdown;
   GtkSpinButton  *width_spin;
@@ -112,7 +115,13 @@ update_sensitivity (EffluxFigureDialog *self)
                             channels && gtk_check_button_get_active (self->range_check));
   gtk_widget_set_sensitive (GTK_WIDGET (self->colormap_dropdown), has_image);
   gtk_widget_set_sensitive (GTK_WIDGET (self->stretch_dropdown), has_image);
-  gtk_widget_set_sensitive (GTK_WIDGET (self->limits_spin), has_image);
+  gtk_widget_set_sensitive (GTK_WIDGET (self->fixed_check), has_image);
+  gtk_widget_set_sensitive (GTK_WIDGET (self->limits_spin),
+                            has_image && !gtk_check_button_get_active (self->fixed_check));
+  gtk_widget_set_sensitive (GTK_WIDGET (self->limit_lo_spin),
+                            has_image && gtk_check_button_get_active (self->fixed_check));
+  gtk_widget_set_sensitive (GTK_WIDGET (self->limit_hi_spin),
+                            has_image && gtk_check_button_get_active (self->fixed_check));
   gtk_widget_set_sensitive (GTK_WIDGET (self->coords_dropdown), sky);
   gtk_widget_set_sensitive (GTK_WIDGET (self->dpi_spin),
                             gtk_drop_down_get_selected (self->format_dropdown) == EFFLUX_FIGURE_FORMAT_PNG);
@@ -591,6 +600,12 @@ efflux_figure_dialog_get_options (EffluxFigureDialog  *self,
   o->coords = gtk_drop_down_get_selected (self->coords_dropdown) == 1 ? EFFLUX_SKYGRID_OFFSETS
                                                                        : EFFLUX_SKYGRID_SEXAGESIMAL;
   o->limits_percent = gtk_spin_button_get_value (self->limits_spin);
+  /* fixed limits in the wrong order are left to the percentage (the figure ignores them) */
+  if (gtk_check_button_get_active (self->fixed_check))
+    {
+      o->limit_lo = gtk_spin_button_get_value (self->limit_lo_spin);
+      o->limit_hi = gtk_spin_button_get_value (self->limit_hi_spin);
+    }
   if (gtk_check_button_get_active (self->range_check))
     {
       o->channel_v1_kms = gtk_spin_button_get_value (self->v1_spin);
@@ -658,6 +673,20 @@ efflux_figure_dialog_set_channel_range (EffluxFigureDialog *self,
       gtk_spin_button_set_value (self->v2_spin, v2_kms);
     }
   gtk_check_button_set_active (self->range_check, v1_kms < v2_kms);
+}
+
+void
+efflux_figure_dialog_set_fixed_limits (EffluxFigureDialog *self,
+                                       double              lo,
+                                       double              hi)
+{
+  g_return_if_fail (EFFLUX_IS_FIGURE_DIALOG (self));
+  if (lo < hi)
+    {
+      gtk_spin_button_set_value (self->limit_lo_spin, lo);
+      gtk_spin_button_set_value (self->limit_hi_spin, hi);
+    }
+  gtk_check_button_set_active (self->fixed_check, lo < hi);
 }
 
 void
@@ -938,6 +967,9 @@ efflux_figure_dialog_class_init (EffluxFigureDialogClass *klass)
   gtk_widget_class_bind_template_child (widget_class, EffluxFigureDialog, stretch_dropdown);
   gtk_widget_class_bind_template_child (widget_class, EffluxFigureDialog, coords_dropdown);
   gtk_widget_class_bind_template_child (widget_class, EffluxFigureDialog, limits_spin);
+  gtk_widget_class_bind_template_child (widget_class, EffluxFigureDialog, fixed_check);
+  gtk_widget_class_bind_template_child (widget_class, EffluxFigureDialog, limit_lo_spin);
+  gtk_widget_class_bind_template_child (widget_class, EffluxFigureDialog, limit_hi_spin);
   gtk_widget_class_bind_template_child (widget_class, EffluxFigureDialog, preset_dropdown);
   gtk_widget_class_bind_template_child (widget_class, EffluxFigureDialog, unit_dropdown);
   gtk_widget_class_bind_template_child (widget_class, EffluxFigureDialog, width_spin);
@@ -978,5 +1010,6 @@ efflux_figure_dialog_init (EffluxFigureDialog *self)
   g_signal_connect (self->height_spin, "output", G_CALLBACK (height_output), NULL);
   g_signal_connect (self->height_spin, "input", G_CALLBACK (height_input), NULL);
   g_signal_connect_swapped (self->range_check, "toggled", G_CALLBACK (update_sensitivity), self);
+  g_signal_connect_swapped (self->fixed_check, "toggled", G_CALLBACK (update_sensitivity), self);
   set_spins_mm (self);
 }

@@ -57,6 +57,10 @@ void        efflux_figure_dialog_set_grid        (EffluxFigureDialog *self,
 void        efflux_figure_dialog_set_channel_range (EffluxFigureDialog *self,
                                                     double              v1_kms,
                                                     double              v2_kms);
+/* Fixed colour limits in the view's units (lo < hi); otherwise back to the percentage. */
+void        efflux_figure_dialog_set_fixed_limits (EffluxFigureDialog *self,
+                                                   double              lo,
+                                                   double              hi);
 void        efflux_figure_dialog_set_unit        (EffluxFigureDialog *self,
                                                   EffluxFigureUnit    unit);
 /* In the dialog's unit; height 0: as the layout needs. */

@@ -277,6 +277,30 @@ test_png_matches_cli (void)
   g_assert_cmpstr (efflux_figure_dialog_get_caption (dialog), ==, caption_ch);
   g_assert_nonnull (strstr (caption_ch, "6 channel maps"));
 
+  /* fixed colour limits from the app and from the CLI (--limits): the same PNG */
+  {
+    g_autofree char *app_fx = g_build_filename (dir, "app-fixed.png", NULL);
+    g_autofree char *cli_fx = g_build_filename (dir, "cli-fixed.png", NULL);
+    g_autofree char *caption_fx = NULL;
+
+    efflux_figure_dialog_set_fixed_limits (dialog, 0.5, 6.0);
+    efflux_figure_dialog_set_path (dialog, app_fx);
+    efflux_figure_dialog_get_options (dialog, &o);
+    g_assert_cmpfloat (o.limit_lo, ==, 0.5);
+    g_assert_cmpfloat (o.limit_hi, ==, 6.0);
+    g_assert_true (export_and_wait (dialog));
+    caption_fx = run_cli (demo, "--view", "channels", "--grid", "3x2", "--width-mm", "88", "--dpi", "150",
+                          "--colormap", "grey", "--stretch", "sqrt", "--coords", "offsets", "--limits", "0.5,6",
+                          "-o", cli_fx, NULL);
+    g_assert_cmpuint (png_differences (app_fx, cli_fx), ==, 0);
+    /* and the limits change the drawing: not the PNG of the percentile limits */
+    g_assert_cmpuint (png_differences (app_fx, cli_ch), >, 1000);
+    efflux_figure_dialog_set_fixed_limits (dialog, 0.0, 0.0);
+    efflux_figure_dialog_get_options (dialog, &o);
+    g_assert_cmpfloat (o.limit_lo, ==, 0.0);
+    g_assert_cmpfloat (o.limit_hi, ==, 0.0);
+  }
+
   close_all (window, dialog);
   efflux_ui_test_remove_flat_dir (dir);
 }
