@@ -7,7 +7,11 @@
  *   union = 50 / (100 + 100 - 50) = 1/3 exactly; offset by 2 pixels: 80 / 120 = 2/3.
  * - Mass is proportional to the pixel area, distance^2 x pixel solid angle (CONTRACT.md 4), so a
  *   dossier at twice the distance over the same number of pixels of the same brightness has 4 x
- *   the mass, momentum and energy; rmax (au) doubles with vmax unchanged, so tdyn doubles. */
+ *   the mass, momentum and energy; rmax (au) doubles with vmax unchanged, so tdyn doubles.
+ * - Angular separations (efflux_sky_separation_deg, which decides whether two dossiers' source
+ *   positions agree): exact cases of spherical geometry (a degree along the equator, a quarter
+ *   circle, antipodes, 0.2 deg across the pole) and astropy's SkyCoord.separation for scattered
+ *   pairs, from 1 mas to nearly 180 deg. */
 #include "config.h"
 
 #include <glib.h>
@@ -20,6 +24,7 @@
 #include "efflux-dossier.h"
 #include "efflux-review.h"
 #include "efflux-sample.h"
+#include "efflux-sky.h"
 #include "efflux-test-util.h"
 
 typedef struct
@@ -88,6 +93,112 @@ find (const EffluxComparison *c,
     }
   g_error ("no comparison row %s / %s", mine ? mine : "-", theirs ? theirs : "-");
   return NULL;
+}
+
+static void
+test_separation (void)
+{
+  /* exact: the sphere's geometry */
+  g_assert_cmpfloat_with_epsilon (efflux_sky_separation_deg (0, 0, 1, 0), 1.0, 1e-13);
+  g_assert_cmpfloat_with_epsilon (efflux_sky_separation_deg (0, 0, 0, 90), 90.0, 1e-12);
+  g_assert_cmpfloat_with_epsilon (efflux_sky_separation_deg (0, 0, 180, 0), 180.0, 1e-12);
+  g_assert_cmpfloat_with_epsilon (efflux_sky_separation_deg (10, 89.9, 190, 89.9), 0.2, 1e-12);
+  g_assert_cmpfloat_with_epsilon (efflux_sky_separation_deg (359.9999, 0, 0.0001, 0), 0.0002, 1e-12);
+  g_assert_cmpfloat (efflux_sky_separation_deg (83.8, -5.4, 83.8, -5.4), ==, 0.0);
+  /* astropy.coordinates.SkyCoord.separation (Vincenty's formula as well, in astropy's own code) */
+  {
+    const char *code =
+      "import numpy as np\n"
+      "from astropy.coordinates import SkyCoord\n"
+      "import astropy.units as u\n"
+      "rng = np.random.default_rng(7)\n"
+      "for k in range(40):\n"
+      "    l1, b1 = rng.uniform(0, 360), np.degrees(np.arcsin(rng.uniform(-1, 1)))\n"
+      "    d = 10.0 ** rng.uniform(-6.5, 2.25)\n"
+      "    l2, b2 = (l1 + d * rng.normal()) % 360.0, float(np.clip(b1 + d * rng.normal(), -90, 90))\n"
+      "    s = SkyCoord(l1 * u.deg, b1 * u.deg).separation(SkyCoord(l2 * u.deg, b2 * u.deg)).deg\n"
+      "    print(repr(l1), repr(b1), repr(l2), repr(b2), repr(s))\n";
+    g_autofree char *out = efflux_test_python_code (code, NULL);
+    g_auto (GStrv) lines = g_strsplit (out, "\n", -1);
+    guint n = 0;
+
+    for (guint i = 0; lines[i] != NULL; i++)
+      {
+        double v[5];
+        char *p = lines[i];
+
+        if (*g_strstrip (lines[i]) == '\0')
+          continue;
+        for (int k = 0; k < 5; k++)
+          v[k] = g_ascii_strtod (p, &p);
+        /* within 1e-11 deg (36 micro-arcsec): both are double-precision evaluations of one formula */
+        g_assert_cmpfloat_with_epsilon (efflux_sky_separation_deg (v[0], v[1], v[2], v[3]), v[4], 1e-11);
+        n++;
+      }
+    g_assert_cmpuint (n, ==, 40);
+  }
+}
+
+/* Same source: names compared without case, spaces, hyphens and underscores; the positions
+ * measured and, in the comparison's notes, reported when they disagree. */
+static void
+test_same_source (Fixture      *f,
+                  gconstpointer data)
+{
+  g_autofree char *mp = NULL, *tp = NULL, *text = NULL;
+  g_autoptr (EffluxDossier) mine = NULL;
+  g_autoptr (EffluxDossier) theirs = NULL;
+  g_autoptr (EffluxComparison) c = NULL;
+  g_autoptr (GError) error = NULL;
+  g_autoptr (GRegex) re = NULL;
+  g_autofree char *moved = NULL;
+  double sep = -1.0, dec0;
+  gboolean noted = FALSE;
+
+  make_pair (f, &mp, &tp);
+  mine = efflux_dossier_load (mp, &error);
+  g_assert_no_error (error);
+  theirs = efflux_dossier_load (tp, &error);
+  g_assert_no_error (error);
+  g_assert_true (efflux_compare_same_source (mine, theirs, &sep));
+  g_assert_cmpfloat (sep, ==, 0.0);
+  g_free (theirs->name);
+  theirs->name = g_strdup ("COMPARE_test");
+  g_assert_true (efflux_compare_same_source (mine, theirs, NULL));
+  g_free (theirs->name);
+  theirs->name = g_strdup ("Compare test B");
+  g_assert_false (efflux_compare_same_source (mine, theirs, &sep));
+  c = efflux_compare_dossiers (mine, theirs, NULL, &error);
+  g_assert_no_error (error);
+  for (guint i = 0; i < c->notes->len; i++)
+    noted |= strstr (g_ptr_array_index (c->notes, i), "name is 'Compare test B', mine is 'Compare test'") != NULL;
+  g_assert_true (noted);
+  g_clear_pointer (&c, efflux_comparison_free);
+  g_clear_pointer (&theirs, efflux_dossier_free);
+
+  /* theirs 20 arcsec north: same name, positions apart, noted */
+  dec0 = mine->dec_deg;
+  text = efflux_test_read_file (tp, NULL);
+  re = g_regex_new ("^dec-deg=.*$", G_REGEX_MULTILINE, 0, NULL);
+  {
+    char num[G_ASCII_DTOSTR_BUF_SIZE], repl[64];
+
+    g_ascii_formatd (num, sizeof num, "%.12f", dec0 + 20.0 / 3600.0);
+    g_snprintf (repl, sizeof repl, "dec-deg=%s", num);
+    moved = g_regex_replace_literal (re, text, -1, 0, repl, 0, NULL);
+  }
+  g_assert_cmpstr (moved, !=, text);
+  efflux_test_write_file (tp, moved);
+  theirs = efflux_dossier_load (tp, &error);
+  g_assert_no_error (error);
+  g_assert_true (efflux_compare_same_source (mine, theirs, &sep));
+  g_assert_cmpfloat_with_epsilon (sep, 20.0, 1e-6);
+  c = efflux_compare_dossiers (mine, theirs, NULL, &error);
+  g_assert_no_error (error);
+  noted = FALSE;
+  for (guint i = 0; i < c->notes->len; i++)
+    noted |= strstr (g_ptr_array_index (c->notes, i), "lie 20.0 arcsec from mine") != NULL;
+  g_assert_true (noted);
 }
 
 static void
@@ -436,6 +547,8 @@ main (int    argc,
       char **argv)
 {
   g_test_init (&argc, &argv, NULL);
+  g_test_add_func ("/compare/separation", test_separation);
+  g_test_add ("/compare/same-source", Fixture, NULL, fixture_set_up, test_same_source, fixture_tear_down);
   g_test_add ("/compare/core", Fixture, NULL, fixture_set_up, test_compare_core, fixture_tear_down);
   g_test_add ("/compare/their-cube-missing", Fixture, NULL, fixture_set_up, test_compare_their_cube_missing, fixture_tear_down);
   g_test_add ("/compare/cli", Fixture, NULL, fixture_set_up, test_compare_cli, fixture_tear_down);

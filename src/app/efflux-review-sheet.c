@@ -508,18 +508,6 @@ sync_notes (EffluxReviewSheet *self)
 
 /* ---- the colleague's dossier ---- */
 
-static char *
-normalized_name (const char *name)
-{
-  g_autofree char *folded = g_utf8_casefold (name ? name : "", -1);
-  GString *s = g_string_new (NULL);
-
-  for (const char *p = folded; *p != '\0'; p = g_utf8_next_char (p))
-    if (!g_unichar_isspace (g_utf8_get_char (p)))
-      g_string_append_unichar (s, g_utf8_get_char (p));
-  return g_string_free (s, FALSE);
-}
-
 /* The colleague's name: who drew their lobes, else who reviews in their dossier, else an author
  * key in [Source], else the file's owner. */
 static char *
@@ -606,6 +594,8 @@ efflux_review_sheet_open (EffluxReviewSheet *self,
   g_autofree char *abs = NULL;
   const EffluxDossier *mine;
   g_autoptr(GError) local = NULL;
+  g_autofree char *position_note = NULL;
+  double separation = 0.0;
 
   g_return_val_if_fail (EFFLUX_IS_REVIEW_SHEET (self), FALSE);
   g_return_val_if_fail (path != NULL, FALSE);
@@ -628,20 +618,26 @@ efflux_review_sheet_open (EffluxReviewSheet *self,
       g_propagate_error (error, g_steal_pointer (&local));
       return FALSE;
     }
-  {
-    g_autofree char *a = normalized_name (mine->name);
-    g_autofree char *b = normalized_name (theirs->name);
-
-    if (!g_str_equal (a, b))
-      {
+  /* the same source by name (efflux_compare_same_source); the positions only advise */
+  if (!efflux_compare_same_source (mine, theirs, &separation))
+    {
+      if (separation <= EFFLUX_SAME_SOURCE_ARCSEC)
+        g_set_error (&local, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
+                     _("%s: [Source] name is '%s', another source than '%s' of %s, though %.2f arcsec away: "
+                       "if both are one source, give them the same name"),
+                     abs, theirs->name, mine->name, mine->path, separation);
+      else
         g_set_error (&local, EFFLUX_ERROR, EFFLUX_ERROR_INPUT,
                      _("%s: [Source] name is '%s', another source than '%s' of %s: review a dossier of the same source"),
                      abs, theirs->name, mine->name, mine->path);
-        show_message (self, local->message);
-        g_propagate_error (error, g_steal_pointer (&local));
-        return FALSE;
-      }
-  }
+      show_message (self, local->message);
+      g_propagate_error (error, g_steal_pointer (&local));
+      return FALSE;
+    }
+  if (separation > EFFLUX_SAME_SOURCE_ARCSEC)
+    position_note = g_strdup_printf (_("%s: [Source] ra-deg, dec-deg lie %.1f arcsec from those of %s: "
+                                       "check either position"),
+                                     abs, separation, mine->path);
   efflux_review_sheet_stop (self);
   self->theirs_path = g_steal_pointer (&abs);
   self->author = find_author (theirs, self->theirs_path);
@@ -649,7 +645,7 @@ efflux_review_sheet_open (EffluxReviewSheet *self,
   if (self->sky_view != NULL)
     efflux_sky_view_set_overlay (self->sky_view, self->theirs, self->author);
   show_colleague (self);
-  show_message (self, NULL);
+  show_message (self, position_note);
   update_actions (self);
   start_compare (self);
   return TRUE;

@@ -9,6 +9,7 @@
 #include <string.h>
 
 #include "efflux-lobe.h"
+#include "efflux-sky.h"
 
 static void
 row_free (gpointer data)
@@ -45,6 +46,35 @@ efflux_match_kind_name (EffluxMatchKind kind)
     default:
       return "none";
     }
+}
+
+static char *
+source_key (const char *name)
+{
+  g_autofree char *folded = g_utf8_casefold (name != NULL ? name : "", -1);
+  GString *s = g_string_new (NULL);
+
+  for (const char *p = folded; *p != '\0'; p = g_utf8_next_char (p))
+    {
+      gunichar c = g_utf8_get_char (p);
+
+      if (!g_unichar_isspace (c) && c != '-' && c != '_')
+        g_string_append_unichar (s, c);
+    }
+  return g_string_free (s, FALSE);
+}
+
+gboolean
+efflux_compare_same_source (const EffluxDossier *a,
+                            const EffluxDossier *b,
+                            double              *separation_arcsec)
+{
+  g_autofree char *ka = source_key (a->name);
+  g_autofree char *kb = source_key (b->name);
+
+  if (separation_arcsec != NULL)
+    *separation_arcsec = 3600.0 * efflux_sky_separation_deg (a->ra_deg, a->dec_deg, b->ra_deg, b->dec_deg);
+  return g_str_equal (ka, kb);
 }
 
 static guint64
@@ -218,6 +248,18 @@ efflux_compare (const EffluxDossier       *mine,
 
   c->rows = g_ptr_array_new_with_free_func (row_free);
   c->notes = g_ptr_array_new_with_free_func (g_free);
+  {
+    double sep = 0.0;
+    gboolean same = efflux_compare_same_source (mine, theirs, &sep);
+
+    if (!same)
+      g_ptr_array_add (c->notes, g_strdup_printf ("%s: [Source] name is '%s', mine is '%s' (%s): positions %.2f arcsec apart",
+                                                  theirs->path, theirs->name, mine->name, mine->path, sep));
+    else if (sep > EFFLUX_SAME_SOURCE_ARCSEC)
+      g_ptr_array_add (c->notes, g_strdup_printf ("%s: [Source] ra-deg, dec-deg lie %.1f arcsec from mine (%s), "
+                                                  "more than %.0f arcsec: check either position",
+                                                  theirs->path, sep, mine->path, EFFLUX_SAME_SOURCE_ARCSEC));
+  }
   for (guint i = 0; i < nm; i++)
     {
       const EffluxDossierLobe *a = g_ptr_array_index (mine->lobes, i);

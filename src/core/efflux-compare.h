@@ -62,6 +62,19 @@ typedef struct
   GPtrArray *notes;              /* char *: remarks, e.g. a cube of theirs measured on mine */
 } EffluxComparison;
 
+/* Two dossiers are of the same source when their [Source] names agree, ignoring case, white space,
+ * hyphens and underscores ("HH 212" and "hh-212"). *separation_arcsec (may be NULL) gets the angle
+ * between their [Source] positions, which the caller checks against
+ * EFFLUX_SAME_SOURCE_ARCSEC: names that agree with positions farther apart (a typing slip
+ * in either dossier), or positions that agree under different names (one source under two
+ * designations, or two members of a close binary), are for the user to decide. 5 arcsec: about
+ * the beam of the single-dish maps such dossiers measure, and several times the pointing and
+ * position errors of interferometer maps (common practice, our judgement). */
+#define EFFLUX_SAME_SOURCE_ARCSEC 5.0
+gboolean          efflux_compare_same_source (const EffluxDossier *a,
+                                              const EffluxDossier *b,
+                                              double              *separation_arcsec);
+
 /* mine_cubes: id -> EffluxCube * for my lobes' cubes (the grids). The results may be NULL. */
 EffluxComparison *efflux_compare (const EffluxDossier       *mine,
                                   GHashTable                *mine_cubes,

@@ -416,3 +416,19 @@ efflux_sky_lsrk_minus_bary_kms (double ra_deg,
   sph_to_vec (ra_deg, dec_deg, n);
   return 20.0 * (apex[0] * n[0] + apex[1] * n[1] + apex[2] * n[2]);
 }
+
+double
+efflux_sky_separation_deg (double lon1_deg,
+                           double lat1_deg,
+                           double lon2_deg,
+                           double lat2_deg)
+{
+  const double r = G_PI / 180.0;
+  double dl = (lon2_deg - lon1_deg) * r;
+  double s1 = sin (lat1_deg * r), c1 = cos (lat1_deg * r);
+  double s2 = sin (lat2_deg * r), c2 = cos (lat2_deg * r);
+  double num1 = c2 * sin (dl), num2 = c1 * s2 - s1 * c2 * cos (dl);
+  double den = s1 * s2 + c1 * c2 * cos (dl);
+
+  return atan2 (hypot (num1, num2), den) / r;
+}

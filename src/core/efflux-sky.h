@@ -50,4 +50,11 @@ const char *efflux_sky_frame_name (EffluxSkyFrame frame);
 double   efflux_sky_lsrk_minus_bary_kms (double ra_deg,
                                          double dec_deg);
 
+/* The angle (degrees, 0 to 180) between two positions of one frame, by Vincenty's formula for
+ * the sphere (well conditioned at every angle, as astropy's angular_separation). */
+double   efflux_sky_separation_deg (double lon1_deg,
+                                    double lat1_deg,
+                                    double lon2_deg,
+                                    double lat2_deg);
+
 G_END_DECLS

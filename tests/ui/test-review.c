@@ -183,6 +183,9 @@ test_compare_and_notes (Fixture      *f,
   g_assert_nonnull (strstr (error->message, "other.efflux"));
   g_assert_nonnull (strstr (error->message, "mine.efflux"));
   g_assert_nonnull (strstr (error->message, "Another Source"));
+  /* at the same position under another name: the message says how to make them one source */
+  g_assert_nonnull (strstr (error->message, "0.00 arcsec away"));
+  g_assert_nonnull (strstr (error->message, "same name"));
   g_assert_cmpstr (efflux_review_sheet_get_message (sheet), ==, error->message);
   /* shown where it is read: the sheet opens, the window's message area says it too */
   g_assert_true (gtk_revealer_get_reveal_child (revealer));
@@ -190,6 +193,28 @@ test_compare_and_notes (Fixture      *f,
   g_assert_null (efflux_review_sheet_get_colleague (sheet));
   g_assert_cmpuint (efflux_sky_view_get_n_overlay_lobes (view), ==, 0);
   g_clear_error (&error);
+
+  /* the same name 30 arcsec to the north: opened, with a note to check the positions */
+  {
+    g_autofree char *text = efflux_test_read_file (f->theirs, NULL);
+    g_autofree char *moved_path = g_build_filename (f->dir, "moved.efflux", NULL);
+    g_autoptr(GRegex) re = g_regex_new ("^dec-deg=(.*)$", G_REGEX_MULTILINE, 0, NULL);
+    g_autoptr(GMatchInfo) m = NULL;
+    g_autofree char *dec_text = NULL, *moved = NULL;
+    char repl[64], num[G_ASCII_DTOSTR_BUF_SIZE];
+
+    g_assert_true (g_regex_match (re, text, 0, &m));
+    dec_text = g_match_info_fetch (m, 1);
+    g_snprintf (repl, sizeof repl, "dec-deg=%s",
+                g_ascii_formatd (num, sizeof num, "%.12f", g_ascii_strtod (dec_text, NULL) + 30.0 / 3600.0));
+    moved = g_regex_replace_literal (re, text, -1, 0, repl, 0, NULL);
+    efflux_test_write_file (moved_path, moved);
+    g_assert_true (efflux_review_sheet_open (sheet, moved_path, &error));
+    g_assert_no_error (error);
+    g_assert_nonnull (efflux_review_sheet_get_message (sheet));
+    g_assert_nonnull (strstr (efflux_review_sheet_get_message (sheet), "lie 30.0 arcsec from those of"));
+    efflux_review_sheet_stop (sheet);
+  }
 
   /* the colleague's dossier: compared in a worker; outlines on the Sky view with the author */
   g_assert_true (efflux_review_sheet_open (sheet, f->theirs, &error));
