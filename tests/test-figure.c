@@ -335,6 +335,76 @@ test_sky_pixels (void)
   efflux_test_remove_tree (dir);
 }
 
+/* efflux_figure_new_shared: every cube comes from the given function and goes back through the
+ * release function, once each; the drawing is the same as with the figure's own reads. */
+static guint shared_loads, shared_releases;
+
+static EffluxCube *
+counting_load (const char                  *path,
+               const EffluxCubeLoadOptions *options,
+               GCancellable                *cancellable,
+               EffluxProgressFunc           progress,
+               gpointer                     progress_data,
+               GError                     **error)
+{
+  EffluxCubeLoadOptions o = *options;
+
+  shared_loads++;
+  /* as a store that read the cube for someone else, without the noise */
+  o.no_noise = TRUE;
+  return efflux_cube_load (path, &o, cancellable, progress, progress_data, error);
+}
+
+static void
+counting_release (gpointer cube)
+{
+  shared_releases++;
+  efflux_cube_free (cube);
+}
+
+static void
+test_shared_cubes (void)
+{
+  g_autofree char *dir = efflux_test_tmp_dir ("efflux-figure");
+  g_autofree char *a = g_build_filename (dir, "own.png", NULL);
+  g_autofree char *b = g_build_filename (dir, "shared.png", NULL);
+  g_autoptr (GError) error = NULL;
+  g_autoptr (EffluxDossier) dossier = efflux_dossier_load (demo_dossier, &error);
+  EffluxFigure *own, *shared;
+  EffluxFigureOptions o;
+  g_autofree char *da = NULL, *db = NULL;
+  gsize la = 0, lb = 0;
+
+  g_assert_no_error (error);
+  /* no rms-k in the dossier: the figures need each cube's own noise estimate */
+  for (guint i = 0; i < dossier->cubes->len; i++)
+    ((EffluxDossierCube *) g_ptr_array_index (dossier->cubes, i))->rms_k = NAN;
+  efflux_figure_options_init (&o);
+  o.view = EFFLUX_FIGURE_CUT;
+  o.dpi = 100;
+  own = efflux_figure_new (dossier, &error);
+  g_assert_no_error (error);
+  shared = efflux_figure_new_shared (dossier, counting_load, counting_release, NULL, NULL, NULL, &error);
+  g_assert_no_error (error);
+  /* the demo's figure reads the lobes' and cut's cube and the isotopologue (opacity) */
+  g_assert_cmpuint (shared_loads, ==, 2);
+  g_assert_true (efflux_figure_write (own, &o, a, &error));
+  g_assert_true (efflux_figure_write (shared, &o, b, &error));
+  g_assert_no_error (error);
+  /* the cut view's contour levels are multiples of the noise, which the shared figure estimated
+   * itself (its cubes came without): the same caption and the same file */
+  g_assert_cmpstr (efflux_figure_caption (own), ==, efflux_figure_caption (shared));
+  g_assert_true (g_file_get_contents (a, &da, &la, NULL));
+  g_assert_true (g_file_get_contents (b, &db, &lb, NULL));
+  g_assert_cmpuint (la, ==, lb);
+  g_assert_cmpint (memcmp (da, db, la), ==, 0);
+  efflux_figure_free (own);
+  g_assert_cmpuint (shared_releases, ==, 0);
+  efflux_figure_free (shared);
+  g_assert_cmpuint (shared_releases, ==, 2);
+  efflux_test_remove_tree (dir);
+}
+
 static void
 test_channels_and_caption (void)
 {
@@ -599,6 +669,7 @@ main (int    argc,
   g_test_add_func ("/figure/vector", test_vector);
   g_test_add_func ("/figure/sky-pixels", test_sky_pixels);
   g_test_add_func ("/figure/channels-caption", test_channels_and_caption);
+  g_test_add_func ("/figure/shared-cubes", test_shared_cubes);
   g_test_add_func ("/figure/report", test_report);
   g_test_add_func ("/figure/errors", test_errors);
   status = g_test_run ();

@@ -2,8 +2,8 @@
 #define G_LOG_DOMAIN "efflux-figure-dialog"
 
 /* The Export Figure dialog (efflux-figure-dialog.h). The widgets only choose; drawing and writing
- * are efflux_figure_new_full and efflux_figure_write in a GTask thread, on a copy of the
- * document's dossier. */
+ * are efflux_figure_new_shared (with the program's cube store) and efflux_figure_write in a GTask
+ * thread, on a copy of the document's dossier. */
 
 #include "config.h"
 
@@ -11,6 +11,7 @@
 #include <math.h>
 #include <string.h>
 
+#include "efflux-cube-store.h"
 #include "efflux-figure-dialog.h"
 #include "efflux-resources.h"
 
@@ -408,7 +409,9 @@ export_worker (GTask        *task,
       g_task_return_error (task, error);
       return;
     }
-  figure = efflux_figure_new_full (job->dossier, cancellable, load_progress, self, &error);
+  /* the cubes the window and the document hold are drawn from, not read again (and not held twice) */
+  figure = efflux_figure_new_shared (job->dossier, efflux_cube_store_load, (GDestroyNotify) efflux_cube_store_release,
+                                     cancellable, load_progress, self, &error);
   if (figure == NULL)
     {
       g_task_return_error (task, error);
@@ -416,7 +419,7 @@ export_worker (GTask        *task,
     }
   set_progress (self, 0.85);
   if (g_cancellable_set_error_if_cancelled (cancellable, &error)
-      || !efflux_figure_write (figure, &job->options, job->path, &error))
+      || !efflux_figure_write_full (figure, &job->options, job->path, cancellable, &error))
     {
       g_task_return_error (task, error);
       return;

@@ -189,12 +189,24 @@ efflux_figure_new_full (const EffluxDossier  *dossier,
                         gpointer              progress_data,
                         GError              **error)
 {
-  g_autoptr (GHashTable) cubes = g_hash_table_new_full (g_str_hash, g_str_equal, g_free,
-                                                        (GDestroyNotify) efflux_cube_free);
+  return efflux_figure_new_shared (dossier, efflux_cube_load, (GDestroyNotify) efflux_cube_free, cancellable,
+                                   progress, progress_data, error);
+}
+
+EffluxFigure *
+efflux_figure_new_shared (const EffluxDossier  *dossier,
+                          EffluxFigureCubeLoad  load,
+                          GDestroyNotify        release,
+                          GCancellable         *cancellable,
+                          EffluxProgressFunc    progress,
+                          gpointer              progress_data,
+                          GError              **error)
+{
+  g_autoptr (GHashTable) cubes = g_hash_table_new_full (g_str_hash, g_str_equal, g_free, release);
   LoadProgress lp = { progress, progress_data, 0, 0 };
   EffluxFigure *figure;
 
-  g_return_val_if_fail (dossier != NULL, NULL);
+  g_return_val_if_fail (dossier != NULL && load != NULL && release != NULL, NULL);
   for (guint i = 0, n = 0; i < dossier->cubes->len; i++)
     if (cube_read (dossier, g_ptr_array_index (dossier->cubes, i), n))
       n = ++lp.total;
@@ -207,11 +219,21 @@ efflux_figure_new_full (const EffluxDossier  *dossier,
       if (!cube_read (dossier, dc, g_hash_table_size (cubes)))
         continue;
       options.no_noise = isfinite (dc->rms_k);
-      cube = efflux_cube_load (dc->abs_path, &options, cancellable,
-                               progress != NULL ? load_progress : NULL, &lp, error);
+      cube = load (dc->abs_path, &options, cancellable, progress != NULL ? load_progress : NULL, &lp, error);
       if (cube == NULL)
         return NULL;
       g_hash_table_insert (cubes, g_strdup (dc->id), cube);
+      /* a shared cube may have been read without the noise this dossier needs (its rms all 0,
+       * as efflux_cube_load leaves it with no_noise) */
+      if (!isfinite (dc->rms_k))
+        {
+          gboolean any = FALSE;
+
+          for (gsize k = 0; cube->rms != NULL && k < cube->nchan && !any; k++)
+            any = cube->rms[k] > 0.0f;
+          if (!any)
+            efflux_cube_estimate_noise (cube);
+        }
       lp.done++;
       if (progress != NULL)
         progress ((double) lp.done / lp.total, progress_data);
@@ -2050,6 +2072,16 @@ efflux_figure_write (EffluxFigure              *figure,
                      const char                *path,
                      GError                   **error)
 {
+  return efflux_figure_write_full (figure, o, path, NULL, error);
+}
+
+gboolean
+efflux_figure_write_full (EffluxFigure              *figure,
+                          const EffluxFigureOptions *o,
+                          const char                *path,
+                          GCancellable              *cancellable,
+                          GError                   **error)
+{
   EffluxFigureFormat format;
   double w_pt = o->width_mm * MM_PT, h_pt;
   g_autofree char *tmp = NULL;
@@ -2084,6 +2116,8 @@ efflux_figure_write (EffluxFigure              *figure,
       return FALSE;
     }
 
+  if (g_cancellable_set_error_if_cancelled (cancellable, error))
+    return FALSE;
   tmp = efflux_output_begin (path, error);
   if (tmp == NULL)
     return FALSE;
@@ -2142,6 +2176,12 @@ efflux_figure_write (EffluxFigure              *figure,
     {
       g_set_error (error, EFFLUX_ERROR, EFFLUX_ERROR_IO, "%s: cannot write the figure: %s", path,
                    cairo_status_to_string (status));
+      efflux_output_abort (tmp);
+      return FALSE;
+    }
+  /* cancelled while drawing: nothing is written */
+  if (g_cancellable_set_error_if_cancelled (cancellable, error))
+    {
       efflux_output_abort (tmp);
       return FALSE;
     }

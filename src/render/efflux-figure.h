@@ -107,6 +107,26 @@ EffluxFigure *efflux_figure_new_full (const EffluxDossier  *dossier,
                                       gpointer              progress_data,
                                       GError              **error);
 
+/* How efflux_figure_new_shared reads a cube and gives it back: efflux_cube_load's signature (a
+ * program's store of shared cubes, say) and a release function for the cubes it returns. */
+typedef EffluxCube *(*EffluxFigureCubeLoad) (const char                  *path,
+                                             const EffluxCubeLoadOptions *options,
+                                             GCancellable                *cancellable,
+                                             EffluxProgressFunc           progress,
+                                             gpointer                     progress_data,
+                                             GError                     **error);
+/* As efflux_figure_new_full, with the cubes from load, given back with release when the figure
+ * is freed: the program draws from the cubes it already holds instead of reading the files again.
+ * A cube read without its noise estimate gets one when the dossier gives no rms for it (as
+ * efflux-measure does with shared cubes). */
+EffluxFigure *efflux_figure_new_shared (const EffluxDossier  *dossier,
+                                        EffluxFigureCubeLoad  load,
+                                        GDestroyNotify        release,
+                                        GCancellable         *cancellable,
+                                        EffluxProgressFunc    progress,
+                                        gpointer              progress_data,
+                                        GError              **error);
+
 /* Draw one view at the current origin of cr, width_pt wide; height_pt 0 lets the layout choose.
  * Returns the height used (points), or a negative number with an error (an unknown cut or lobe,
  * a view that has nothing to show). */
@@ -122,6 +142,13 @@ gboolean      efflux_figure_write (EffluxFigure              *figure,
                                    const EffluxFigureOptions *options,
                                    const char                *path,
                                    GError                   **error);
+/* The same; when cancellable is cancelled before the file is renamed into place, nothing is
+ * written and the error is G_IO_ERROR_CANCELLED. */
+gboolean      efflux_figure_write_full (EffluxFigure              *figure,
+                                        const EffluxFigureOptions *options,
+                                        const char                *path,
+                                        GCancellable              *cancellable,
+                                        GError                   **error);
 
 /* The caption of the last view drawn (contour levels, ranges, units); "" before any. */
 const char   *efflux_figure_caption (const EffluxFigure *figure);
