@@ -739,7 +739,8 @@ unsaved_response (GtkDialog *dialog,
                   int        response,
                   gpointer   user_data)
 {
-  g_autoptr(EffluxSources) self = user_data;
+  /* our own reference for the handler: destroying the dialog drops the closure's */
+  g_autoptr(EffluxSources) self = g_object_ref (user_data);
   g_autoptr(GError) error = NULL;
 
   gtk_window_destroy (GTK_WINDOW (dialog));
@@ -797,7 +798,10 @@ efflux_sources_activate_row (EffluxSources *self,
                           _("_Save"), GTK_RESPONSE_ACCEPT,
                           NULL);
   gtk_dialog_set_default_response (GTK_DIALOG (dialog), GTK_RESPONSE_ACCEPT);
-  g_signal_connect (dialog, "response", G_CALLBACK (unsaved_response), g_object_ref (self));
+  /* the closure holds a reference to the list until the dialog goes, answered or destroyed with
+   * the window (which emits no response) */
+  g_signal_connect_data (dialog, "response", G_CALLBACK (unsaved_response), g_object_ref (self),
+                         (GClosureNotify) (void (*) (void)) g_object_unref, 0);
   gtk_window_present (GTK_WINDOW (dialog));
 }
 

@@ -278,8 +278,21 @@ test_sample (void)
   g_assert_false (efflux_sources_get_row_state (sources, 4, NULL));
   g_assert_cmpstr (efflux_sources_get_row_badge (sources, 4), ==, "");
 
-  gtk_window_destroy (GTK_WINDOW (window));
+  /* the window closed while the unsaved-changes question is open: the question goes with it and
+   * lets go of the list, which is then freed with the window */
+  efflux_sources_activate_row (sources, 1);
+  efflux_ui_test_poll_until (window_loaded, window, 60);
+  document = efflux_window_get_document (window);
+  g_assert_true (gtk_widget_activate_action (GTK_WIDGET (window), "sources.mark-measured", NULL));
+  g_assert_true (efflux_document_get_modified (document));
+  efflux_sources_activate_row (sources, 2);
   efflux_ui_test_spin (0.1);
+  g_assert_nonnull (efflux_ui_test_find_visible_toplevel (GTK_TYPE_MESSAGE_DIALOG));
+  g_object_add_weak_pointer (G_OBJECT (sources), (gpointer *) &sources);
+  gtk_window_destroy (GTK_WINDOW (window));
+  efflux_ui_test_spin (0.3);
+  g_assert_null (efflux_ui_test_find_visible_toplevel (GTK_TYPE_MESSAGE_DIALOG));
+  g_assert_null (sources);
   efflux_ui_test_remove_flat_dir (dir);
 }
 
