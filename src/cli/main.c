@@ -3,6 +3,7 @@
 
 #include <glib.h>
 #include <glib/gi18n.h>
+#include <gmodule.h>
 #include <locale.h>
 #include <signal.h>
 #include <stdio.h>
@@ -17,6 +18,9 @@ typedef struct
   const char *summary;
 } Command;
 
+static int run_figure (int argc, char **argv);
+static int run_report (int argc, char **argv);
+
 static const Command commands[] = {
   { "info", efflux_cmd_info, N_("describe a FITS cube: axes, velocity, units, beam, noise") },
   { "moment", efflux_cmd_moment, N_("write a moment map (0, 1, 2 or peak) over a velocity range") },
@@ -26,12 +30,53 @@ static const Command commands[] = {
   { "merge", efflux_cmd_merge, N_("join the csv parts of a sharded measurement (measure --shard K/N)") },
   { "compare", efflux_cmd_compare, N_("compare two dossiers of one source lobe by lobe: overlap, velocities, ratios") },
   { "export", efflux_cmd_export, N_("export the lobes as FITS masks (2-D, 3-D) or IVOA STC-S polygons") },
-  { "figure", efflux_cmd_figure, N_("draw a publication figure of a dossier (PNG, PDF or SVG)") },
-  { "report", efflux_cmd_report, N_("write the per-source report with a reviewer's sign-off page (PDF)") },
+  { "figure", run_figure, N_("draw a publication figure of a dossier (PNG, PDF or SVG)") },
+  { "report", run_report, N_("write the per-source report with a reviewer's sign-off page (PDF)") },
   { "shellfit", efflux_cmd_shellfit, N_("fit a wind-driven shell to a cut's PV emission: inclination, age") },
   { "knots", efflux_cmd_knots, N_("find the knots along a jet cut: offsets, velocities, ages, intervals") },
   { "budget", efflux_cmd_budget, N_("outflow energy and momentum against the cloud's turbulence and binding") },
 };
+
+/* The drawing commands' module: beside this program (the build tree), else where it is
+ * installed. */
+static int
+run_module_command (const char *command,
+                    const char *symbol,
+                    int         argc,
+                    char      **argv)
+{
+  g_autofree char *self = g_file_read_link ("/proc/self/exe", NULL);
+  g_autofree char *here = self != NULL ? g_path_get_dirname (self) : NULL;
+  g_autofree char *beside = here != NULL ? g_module_build_path (here, "efflux-cli-render") : NULL;
+  g_autofree char *installed = g_module_build_path (EFFLUX_CLI_MODULEDIR, "efflux-cli-render");
+  const char *path = beside != NULL && g_file_test (beside, G_FILE_TEST_IS_REGULAR) ? beside : installed;
+  GModule *module = g_module_open (path, G_MODULE_BIND_LOCAL);
+  int (*run) (int, char **) = NULL;
+
+  if (module == NULL || !g_module_symbol (module, symbol, (gpointer *) &run) || run == NULL)
+    {
+      fprintf (stderr, "efflux-cli: error: %s: %s\n", command,
+               module == NULL ? g_module_error () : "the module has no such command");
+      return 1;
+    }
+  /* the module stays loaded until the process ends (its fonts and caches with it) */
+  g_module_make_resident (module);
+  return run (argc, argv);
+}
+
+static int
+run_figure (int    argc,
+            char **argv)
+{
+  return run_module_command ("figure", "efflux_cmd_figure", argc, argv);
+}
+
+static int
+run_report (int    argc,
+            char **argv)
+{
+  return run_module_command ("report", "efflux_cmd_report", argc, argv);
+}
 
 static void
 print_help (FILE *out)
