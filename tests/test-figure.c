@@ -311,7 +311,7 @@ test_sky_pixels (void)
   /* The same from the command line: the PNG is the library's, pixel for pixel. */
   {
     g_autofree char *cli_png = g_build_filename (dir, "sky-cli.png", NULL);
-    g_autofree char *limits = g_strdup_printf ("%.17g,%.17g", 0.25 * hi2, 0.75 * hi2);
+    g_autofree char *limits = g_strdup_printf ("%.17g:%.17g", 0.25 * hi2, 0.75 * hi2);
     g_autofree char *a_data = NULL, *b_data = NULL;
     gsize a_len = 0, b_len = 0;
     const char *argv[] = { efflux_test_cli (), "figure", demo_dossier, "--view", "sky", "--width-mm", "150",
@@ -425,7 +425,7 @@ test_channels_and_caption (void)
    * lie in -5 .. 5 km/s, i.e. -4.85 to 4.65 km/s (the demo's channel centres above). */
   {
     const char *argv_range[] = { efflux_test_cli (), "figure", demo_dossier, "--view", "channels", "--grid", "2x2",
-                                 "--channel-range", "-5,5", "-o", png, "--width-mm", "88", "--dpi", "72", NULL };
+                                 "--channel-range", "-5:5", "-o", png, "--width-mm", "88", "--dpi", "72", NULL };
     g_autofree char *out_range = NULL;
 
     g_assert_cmpint (efflux_test_spawn (NULL, argv_range, &out_range, NULL), ==, 0);

@@ -33,34 +33,6 @@ parse_grid (const char *text,
   return TRUE;
 }
 
-/* "A,B" with finite A < B (a comma, as the dossier's own pairs; spaces around the numbers allowed). */
-static gboolean
-parse_pair (const char *text,
-            double     *a,
-            double     *b)
-{
-  g_auto (GStrv) parts = NULL;
-  char *end = NULL;
-
-  if (text == NULL)
-    return FALSE;
-  parts = g_strsplit (text, ",", -1);
-  if (g_strv_length (parts) != 2)
-    return FALSE;
-  for (int i = 0; i < 2; i++)
-    {
-      double *v = i == 0 ? a : b;
-
-      g_strstrip (parts[i]);
-      if (parts[i][0] == '\0')
-        return FALSE;
-      *v = g_ascii_strtod (parts[i], &end);
-      if (end == NULL || *end != '\0' || !isfinite (*v))
-        return FALSE;
-    }
-  return *a < *b;
-}
-
 int
 efflux_cmd_figure (int    argc,
                    char **argv)
@@ -98,11 +70,11 @@ efflux_cmd_figure (int    argc,
       N_("Sky axes: sexagesimal (default) or offsets from the source"), "STYLE" },
     { "channel-range", 0, 0, G_OPTION_ARG_STRING, &channel_range,
       N_("Channel maps: spread the panels over every channel from V1 to V2 km/s (default: over the "
-         "lobes' velocity ranges)"), "V1,V2" },
+         "lobes' velocity ranges)"), "V1:V2" },
     { "limits-percent", 0, 0, G_OPTION_ARG_DOUBLE, &limits_percent,
       N_("Colour limits keep this percentage of the values, 50 to 100 (default 99.5)"), "P" },
     { "limits", 0, 0, G_OPTION_ARG_STRING, &limits,
-      N_("Fixed colour limits in the view's units: K km/s for sky, K for cut and channels"), "LO,HI" },
+      N_("Fixed colour limits in the view's units: K km/s for sky, K for cut and channels"), "LO:HI" },
     { G_OPTION_REMAINING, 0, 0, G_OPTION_ARG_FILENAME_ARRAY, &rest, NULL, "DOSSIER" },
     { NULL }
   };
@@ -157,14 +129,16 @@ efflux_cmd_figure (int    argc,
       else
         return efflux_cli_usage ("figure", "--coords '%s': expected sexagesimal or offsets", coords);
     }
-  if (channel_range != NULL && !parse_pair (channel_range, &o.channel_v1_kms, &o.channel_v2_kms))
-    return efflux_cli_usage ("figure", "--channel-range '%s': expected V1,V2 in km/s with V1 < V2", channel_range);
+  if (channel_range != NULL
+      && (!efflux_cli_parse_range (channel_range, &o.channel_v1_kms, &o.channel_v2_kms)
+          || !(o.channel_v1_kms < o.channel_v2_kms)))
+    return efflux_cli_usage ("figure", "--channel-range '%s': expected V1:V2 in km/s with V1 < V2", channel_range);
   if (channel_range != NULL && o.view != EFFLUX_FIGURE_CHANNELS)
     return efflux_cli_usage ("figure", "--channel-range: only for --view channels");
   if (!isnan (limits_percent) && (!isfinite (limits_percent) || limits_percent < 50.0 || limits_percent > 100.0))
     return efflux_cli_usage ("figure", "--limits-percent %g: expected 50 to 100", limits_percent);
-  if (limits != NULL && !parse_pair (limits, &o.limit_lo, &o.limit_hi))
-    return efflux_cli_usage ("figure", "--limits '%s': expected LO,HI with LO < HI", limits);
+  if (limits != NULL && (!efflux_cli_parse_range (limits, &o.limit_lo, &o.limit_hi) || !(o.limit_lo < o.limit_hi)))
+    return efflux_cli_usage ("figure", "--limits '%s': expected LO:HI with LO < HI", limits);
   if ((limits != NULL || !isnan (limits_percent))
       && (o.view == EFFLUX_FIGURE_SPECTRUM || o.view == EFFLUX_FIGURE_MASS_VELOCITY))
     return efflux_cli_usage ("figure", "%s: only for the views with a colour scale (sky, cut, channels)",

@@ -13,34 +13,6 @@
 #include "efflux-maps.h"
 #include "efflux-momentstream.h"
 
-/* "V1:V2" in km/s, '.' decimal point. */
-static gboolean
-parse_range (const char *text,
-             double     *v1,
-             double     *v2)
-{
-  g_auto (GStrv) parts = NULL;
-  char *end = NULL;
-
-  if (text == NULL)
-    return FALSE;
-  parts = g_strsplit (text, ":", -1);
-  if (g_strv_length (parts) != 2)
-    return FALSE;
-  for (int i = 0; i < 2; i++)
-    {
-      double *v = i == 0 ? v1 : v2;
-
-      g_strstrip (parts[i]);
-      if (*parts[i] == '\0')
-        return FALSE;
-      *v = g_ascii_strtod (parts[i], &end);
-      if (end == NULL || *end != '\0' || !isfinite (*v))
-        return FALSE;
-    }
-  return TRUE;
-}
-
 static char *
 format_number (double value)
 {
@@ -94,7 +66,7 @@ efflux_cmd_moment (int    argc,
     return efflux_cli_usage ("moment", "--order '%s': expected 0, 1, 2 or peak", order_text);
   if (range_text == NULL)
     return efflux_cli_usage ("moment", "--range is required");
-  if (!parse_range (range_text, &v1, &v2))
+  if (!efflux_cli_parse_range (range_text, &v1, &v2))
     return efflux_cli_usage ("moment", "--range '%s': expected V1:V2 in km/s", range_text);
   if (output == NULL)
     return efflux_cli_usage ("moment", "-o OUT.fits is required");

@@ -135,6 +135,33 @@ efflux_cli_check_finite (const char         *command,
   return TRUE;
 }
 
+gboolean
+efflux_cli_parse_range (const char *text,
+                        double     *a,
+                        double     *b)
+{
+  g_auto (GStrv) parts = NULL;
+  char *end = NULL;
+
+  if (text == NULL)
+    return FALSE;
+  parts = g_strsplit (text, ":", -1);
+  if (g_strv_length (parts) != 2)
+    return FALSE;
+  for (int i = 0; i < 2; i++)
+    {
+      double *v = i == 0 ? a : b;
+
+      g_strstrip (parts[i]);
+      if (*parts[i] == '\0')
+        return FALSE;
+      *v = g_ascii_strtod (parts[i], &end);
+      if (end == NULL || *end != '\0' || !isfinite (*v))
+        return FALSE;
+    }
+  return TRUE;
+}
+
 int
 efflux_cli_write_stdout (const char *text,
                          gssize      length)

@@ -40,6 +40,12 @@ gboolean efflux_cli_check_finite (const char         *command,
                                   const char * const *options,
                                   int                *status);
 
+/* "A:B": two finite numbers, '.' decimal point, spaces around them allowed (velocity ranges,
+ * colour limits); FALSE for anything else. The order is the caller's to check. */
+gboolean efflux_cli_parse_range (const char *text,
+                                 double     *a,
+                                 double     *b);
+
 /* Write text (length -1: up to its NUL) to standard output and flush it; returns 0, or prints
  * "efflux-cli: error: standard output: WHY" and returns 1. */
 int efflux_cli_write_stdout (const char *text,

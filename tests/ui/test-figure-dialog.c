@@ -321,7 +321,7 @@ test_png_matches_cli (void)
     g_assert_true (export_and_wait (dialog));
     caption_fx = run_cli (demo, "--view", "channels", "--grid", "3x2", "--width-mm", "88", "--dpi", "150",
                           "--colormap", "grey", "--stretch", "sqrt", "--coords", "offsets", "--limits-percent", "99",
-                          "--limits", "0.5,6", "-o", cli_fx, NULL);
+                          "--limits", "0.5:6", "-o", cli_fx, NULL);
     g_assert_cmpuint (png_differences (app_fx, cli_fx), ==, 0);
     /* and the limits change the drawing: not the PNG of the percentile limits */
     g_assert_cmpuint (png_differences (app_fx, cli_ch), >, 1000);
