@@ -163,6 +163,65 @@ test_vector (void)
 
 /* The colour of the sky figure at known sky positions is the colour map's colour of the core's
  * moment-0 value there. */
+/* How many of the 16 map positions pix (cube pixel x, y pairs) the PNG shows in the colour-map
+ * colour of the map's value there between lo and hi; *checked: the positions tested (those
+ * within 0.4 pixel of a pixel centre, on a finite value). */
+static guint
+matching_positions (const char       *png,
+                    double            dpi,
+                    const EffluxCube *cube,
+                    const float      *map,
+                    GArray           *pix,
+                    const guint8     *lut,
+                    double            x0,
+                    double            y0,
+                    double            scale,
+                    double            lo,
+                    double            hi,
+                    guint            *checked)
+{
+  cairo_surface_t *surface = cairo_image_surface_create_from_png (png);
+  guint matched = 0;
+
+  g_assert_cmpint (cairo_surface_status (surface), ==, CAIRO_STATUS_SUCCESS);
+  *checked = 0;
+  for (guint i = 0; i < pix->len / 2; i++)
+    {
+      double fx = g_array_index (pix, double, 2 * i), fy = g_array_index (pix, double, 2 * i + 1);
+      gssize px = (gssize) lround (fx), py = (gssize) lround (fy);
+      double dx, dy;
+      int sx, sy;
+      guint32 argb;
+      guint8 rgba[4];
+      float value;
+
+      /* Positions within 0.1 pixel of a pixel edge are ambiguous: left out. */
+      if (fabs (fx - px) > 0.4 || fabs (fy - py) > 0.4 || px < 0 || py < 0
+          || px >= (gssize) cube->nx || py >= (gssize) cube->ny)
+        continue;
+      value = map[py * cube->nx + px];
+      if (!isfinite (value))
+        continue;
+      efflux_colormap_apply (lut, EFFLUX_STRETCH_LINEAR, lo, hi, &value, 1, rgba);
+      /* Where the position falls inside the map pixel, in points, then in PNG pixels. */
+      dx = x0 + (fx + 0.5) * scale;
+      dy = y0 + (cube->ny - fy - 0.5) * scale;
+      sx = (int) floor (dx * dpi / 72.0);
+      sy = (int) floor (dy * dpi / 72.0);
+      argb = *(guint32 *) (cairo_image_surface_get_data (surface)
+                           + sy * cairo_image_surface_get_stride (surface) + 4 * sx);
+      (*checked)++;
+      if (((argb >> 16) & 0xff) == rgba[0] && ((argb >> 8) & 0xff) == rgba[1] && (argb & 0xff) == rgba[2])
+        matched++;
+      else
+        g_test_message ("position %u: pixel (%zd, %zd) drawn #%06x, colour map #%02x%02x%02x "
+                        "(a contour or outline may cross it)", i, px, py, argb & 0xffffff,
+                        rgba[0], rgba[1], rgba[2]);
+    }
+  cairo_surface_destroy (surface);
+  return matched;
+}
+
 static void
 test_sky_pixels (void)
 {
@@ -180,7 +239,6 @@ test_sky_pixels (void)
   EffluxFigureOptions o;
   guint8 lut[EFFLUX_COLORMAP_SIZE * 4];
   double x0, y0, scale, lo, hi, lo2, hi2, dpi = 144.0;
-  cairo_surface_t *surface;
   guint checked = 0, matched = 0;
 
   g_assert_no_error (error);
@@ -221,50 +279,15 @@ test_sky_pixels (void)
   pix = numbers (pix_json);
   g_assert_cmpuint (pix->len, ==, 32);
 
-  surface = cairo_image_surface_create_from_png (png);
-  g_assert_cmpint (cairo_surface_status (surface), ==, CAIRO_STATUS_SUCCESS);
-  for (guint i = 0; i < 16; i++)
-    {
-      double fx = g_array_index (pix, double, 2 * i), fy = g_array_index (pix, double, 2 * i + 1);
-      gssize px = (gssize) lround (fx), py = (gssize) lround (fy);
-      double dx, dy;
-      int sx, sy;
-      guint32 argb;
-      guint8 rgba[4];
-      float value;
-
-      /* Positions within 0.1 pixel of a pixel edge are ambiguous: left out. */
-      if (fabs (fx - px) > 0.4 || fabs (fy - py) > 0.4 || px < 0 || py < 0
-          || px >= (gssize) cube->nx || py >= (gssize) cube->ny)
-        continue;
-      value = map[py * cube->nx + px];
-      if (!isfinite (value))
-        continue;
-      efflux_colormap_apply (lut, EFFLUX_STRETCH_LINEAR, lo, hi, &value, 1, rgba);
-      /* Where the position falls inside the map pixel, in points, then in PNG pixels. */
-      dx = x0 + (fx + 0.5) * scale;
-      dy = y0 + (cube->ny - fy - 0.5) * scale;
-      sx = (int) floor (dx * dpi / 72.0);
-      sy = (int) floor (dy * dpi / 72.0);
-      argb = *(guint32 *) (cairo_image_surface_get_data (surface)
-                           + sy * cairo_image_surface_get_stride (surface) + 4 * sx);
-      checked++;
-      if (((argb >> 16) & 0xff) == rgba[0] && ((argb >> 8) & 0xff) == rgba[1] && (argb & 0xff) == rgba[2])
-        matched++;
-      else
-        g_test_message ("position %u: pixel (%zd, %zd) drawn #%06x, colour map #%02x%02x%02x "
-                        "(a contour or outline may cross it)", i, px, py, argb & 0xffffff,
-                        rgba[0], rgba[1], rgba[2]);
-    }
-  cairo_surface_destroy (surface);
+  matched = matching_positions (png, dpi, cube, map, pix, lut, x0, y0, scale, lo, hi, &checked);
   /* Contours and outlines cross a few of the positions; the map shows through at nearly all. */
   g_test_message ("%u of %u positions match", matched, checked);
   g_assert_cmpuint (checked, >=, 8);
   g_assert_cmpuint (matched, >=, checked - 3);
 
   /* Other colour limits: a percentage (the core's percentile limits of the same map) and fixed
-   * limits, which the figure must use as given; then the drawn colour of the first matching
-   * position is the colour map's for that value between the fixed limits. */
+   * limits, which the figure must use as given: the positions then show the colour map's colours
+   * of their values between the fixed limits. */
   o.limits_percent = 90.0;
   g_assert_true (efflux_figure_write (figure, &o, png, &error));
   g_assert_true (efflux_figure_sky_geometry (figure, &x0, &y0, &scale, &lo, &hi));
@@ -278,32 +301,7 @@ test_sky_pixels (void)
   g_assert_true (efflux_figure_sky_geometry (figure, &x0, &y0, &scale, &lo, &hi));
   g_assert_cmpfloat (lo, ==, 0.25 * hi2);
   g_assert_cmpfloat (hi, ==, 0.75 * hi2);
-  surface = cairo_image_surface_create_from_png (png);
-  g_assert_cmpint (cairo_surface_status (surface), ==, CAIRO_STATUS_SUCCESS);
-  matched = checked = 0;
-  for (guint i = 0; i < 16; i++)
-    {
-      double fx = g_array_index (pix, double, 2 * i), fy = g_array_index (pix, double, 2 * i + 1);
-      gssize px = (gssize) lround (fx), py = (gssize) lround (fy);
-      guint32 argb;
-      guint8 rgba[4];
-      float value;
-      int sx, sy;
-
-      if (fabs (fx - px) > 0.4 || fabs (fy - py) > 0.4 || px < 0 || py < 0
-          || px >= (gssize) cube->nx || py >= (gssize) cube->ny || !isfinite (map[py * cube->nx + px]))
-        continue;
-      value = map[py * cube->nx + px];
-      efflux_colormap_apply (lut, EFFLUX_STRETCH_LINEAR, lo, hi, &value, 1, rgba);
-      sx = (int) floor ((x0 + (fx + 0.5) * scale) * dpi / 72.0);
-      sy = (int) floor ((y0 + (cube->ny - fy - 0.5) * scale) * dpi / 72.0);
-      argb = *(guint32 *) (cairo_image_surface_get_data (surface)
-                           + sy * cairo_image_surface_get_stride (surface) + 4 * sx);
-      checked++;
-      if (((argb >> 16) & 0xff) == rgba[0] && ((argb >> 8) & 0xff) == rgba[1] && (argb & 0xff) == rgba[2])
-        matched++;
-    }
-  cairo_surface_destroy (surface);
+  matched = matching_positions (png, dpi, cube, map, pix, lut, x0, y0, scale, lo, hi, &checked);
   g_test_message ("fixed limits: %u of %u positions match", matched, checked);
   g_assert_cmpuint (checked, >=, 8);
   g_assert_cmpuint (matched, >=, checked - 3);
